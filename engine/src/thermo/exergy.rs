@@ -1,0 +1,1 @@
+//! Entropy change and exergy functions. (to be written)

@@ -1,0 +1,1 @@
+//! Device models: isentropic, compressor, turbine, pump, nozzle, throttle. (to be written)

@@ -1,0 +1,1 @@
+//! Typed (uom) facade over the property models. (to be written)
