@@ -1,5 +1,23 @@
 //! sheaf engine: units and dimensions, checker, dependency graph, evaluator,
-//! thermodynamic models. A library: no terminal I/O, never exits the process.
+//! thermodynamic models, report model. A library: no terminal I/O, never
+//! exits the process.
+//!
+//! Data flow: text -> [`sheaf_grammar::parse`] (AST with spans) ->
+//! [`check::check`] (names, graph, types, compiled [`eval::Code`]) ->
+//! [`Model::evaluate`] (plain `f64` in topological order) ->
+//! [`Model::report`] (display values) -> CLI renderers and the xlsx writer.
 
+pub mod builtins;
+pub mod check;
+pub mod diag;
+pub mod eval;
+pub mod graph;
+pub mod model;
+pub mod report;
 pub mod thermo;
+pub mod types;
 pub mod units;
+
+pub use diag::{Diagnostic, Label, Severity};
+pub use model::{Model, Status};
+pub use report::{CAUTION, Report};

@@ -1,0 +1,919 @@
+//! The checker: resolves names, builds the dependency graph, infers every
+//! expression's type (dimension, absolute/difference, state model) and
+//! compiles it to [`Code`]. Runs once, before any evaluation; all errors it
+//! finds are reported together.
+
+use std::collections::HashMap;
+use std::sync::Arc;
+
+use sheaf_grammar::{
+    Arg, BinOp, Expr, ExprKind, Ident, Span, Statement, StatementKind, StringLit, UnitExpr, Worksheet,
+};
+
+use crate::builtins::{self, Builtin, Signature, TArg};
+use crate::diag::Diagnostic;
+use crate::eval::Code;
+use crate::graph;
+use crate::thermo::{Field, ModelKind};
+use crate::types::{QTy, Ty, describe_qty};
+use crate::units::{self, Affinity, Dim, Unit};
+
+/// What a node is.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum NodeKind {
+    Input,
+    Computed,
+    Check,
+}
+
+/// How a node's value is shown.
+#[derive(Clone, Debug, PartialEq)]
+pub enum DisplayUnit {
+    /// A unit fixed by an annotation or an input literal; `text` as written.
+    Fixed { unit: Unit, text: String },
+    /// Coherent SI with an engineering prefix chosen from the value.
+    Auto,
+}
+
+/// One evaluable item of the worksheet: an input, a computed value or a
+/// check.
+#[derive(Clone, Debug)]
+pub struct Node {
+    pub kind: NodeKind,
+    /// Name (inputs and computed values).
+    pub name: Option<Ident>,
+    /// Index of the statement in the worksheet.
+    pub stmt: usize,
+    pub ty: Ty,
+    pub display: DisplayUnit,
+    pub code: Code,
+    /// Nodes this one reads.
+    pub deps: Vec<usize>,
+    /// Span of the defining expression (for a check: the whole comparison).
+    pub expr_span: Span,
+    pub description: Option<String>,
+    /// For a check: the quantity its two sides are (for showing them).
+    pub operand: Option<QTy>,
+}
+
+/// The checked and compiled worksheet.
+#[derive(Debug)]
+pub struct Checked {
+    pub nodes: Vec<Node>,
+    /// Topological order (every node after its dependencies).
+    pub order: Vec<usize>,
+    pub names: HashMap<String, usize>,
+}
+
+/// Check and compile a parsed worksheet. `src` is the source the spans
+/// point into.
+pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
+    let mut diags = Vec::new();
+    let mut nodes: Vec<Node> = Vec::new();
+    let mut names: HashMap<String, usize> = HashMap::new();
+    let mut exprs: Vec<(&Expr, Option<&Expr>, Option<&UnitExpr>)> = Vec::new();
+
+    // 1. Collect named nodes and checks.
+    for (i, stmt) in ws.statements.iter().enumerate() {
+        let (kind, name, value, right, unit, desc) = match &stmt.kind {
+            StatementKind::Input {
+                name,
+                value,
+                description,
+            } => (NodeKind::Input, Some(name), value, None, None, description),
+            StatementKind::Define {
+                name,
+                unit,
+                value,
+                description,
+            } => (NodeKind::Computed, Some(name), value, None, unit.as_ref(), description),
+            StatementKind::Check {
+                left,
+                right,
+                description,
+                ..
+            } => (NodeKind::Check, None, left, Some(right), None, description),
+            _ => continue,
+        };
+        if let Some(n) = name {
+            if let Some(&prev) = names.get(&n.name) {
+                let prev_span = nodes[prev].name.as_ref().map_or(n.span, |p| p.span);
+                diags.push(
+                    Diagnostic::error(format!("`{}` is defined twice", n.name), n.span)
+                        .with_label("second definition")
+                        .with_secondary(prev_span, "first defined here")
+                        .with_note("help: names are unique in a worksheet; rename one of them"),
+                );
+                continue;
+            }
+            if builtins::constant(&n.name).is_some() {
+                diags.push(
+                    Diagnostic::error(format!("`{}` is a built-in constant and cannot be redefined", n.name), n.span)
+                        .with_note("help: choose another name"),
+                );
+                continue;
+            }
+            names.insert(n.name.clone(), nodes.len());
+        }
+        let expr_span = match (kind, right) {
+            (NodeKind::Check, Some(r)) => value.span.join(r.span),
+            _ => value.span,
+        };
+        nodes.push(Node {
+            kind,
+            name: name.cloned(),
+            stmt: i,
+            ty: Ty::Error,
+            display: DisplayUnit::Auto,
+            code: Code::Absent,
+            deps: Vec::new(),
+            expr_span,
+            description: desc.as_ref().map(|d: &StringLit| d.value.clone()),
+            operand: None,
+        });
+        exprs.push((value, right, unit));
+    }
+
+    // 2. Dependencies (by name), unknown names.
+    let mut refs_of: Vec<Vec<(usize, Span)>> = Vec::with_capacity(nodes.len());
+    for (idx, (value, right, _)) in exprs.iter().enumerate() {
+        let mut refs = Vec::new();
+        collect_names(value, &mut refs);
+        if let Some(r) = right {
+            collect_names(r, &mut refs);
+        }
+        let mut deps = Vec::new();
+        let mut dep_spans = Vec::new();
+        for (name, span) in refs {
+            if let Some(&j) = names.get(name) {
+                if !deps.contains(&j) {
+                    deps.push(j);
+                    dep_spans.push((j, span));
+                }
+            } else if builtins::constant(name).is_none() {
+                diags.push(unknown_name(name, span, &names));
+            }
+        }
+        nodes[idx].deps = deps;
+        refs_of.push(dep_spans);
+    }
+
+    // 3. Order; cycles.
+    let order = match graph::topo_order(&nodes.iter().map(|n| n.deps.clone()).collect::<Vec<_>>()) {
+        Ok(o) => o,
+        Err(cycle) => {
+            diags.push(cycle_diagnostic(&cycle, &nodes, &refs_of));
+            return Err(diags);
+        }
+    };
+
+    // 4. Types and code, in dependency order.
+    let mut cx = Cx {
+        src,
+        names: &names,
+        types: vec![Ty::Error; nodes.len()],
+        displays: vec![None; nodes.len()],
+        diags: Vec::new(),
+        last_operand: None,
+    };
+    for &i in &order {
+        let (value, right, unit) = exprs[i];
+        let node_kind = nodes[i].kind;
+        let (ty, code, display) = match node_kind {
+            NodeKind::Check => {
+                let (ty, code) = cx.check_comparison(ws, &nodes[i], value, right);
+                nodes[i].operand = cx.last_operand.take();
+                (ty, code, DisplayUnit::Auto)
+            }
+            NodeKind::Input | NodeKind::Computed => {
+                let (ty, code) = cx.expr(value);
+                let display = cx.display_unit(ty, value, unit, node_kind == NodeKind::Input);
+                (ty, code, display)
+            }
+        };
+        cx.types[i] = ty;
+        if let DisplayUnit::Fixed { text, .. } = &display {
+            cx.displays[i] = Some(text.clone());
+        }
+        nodes[i].ty = ty;
+        nodes[i].code = code;
+        nodes[i].display = display;
+    }
+    diags.extend(cx.diags);
+    if diags.is_empty() {
+        Ok(Checked { nodes, order, names })
+    } else {
+        diags.sort_by_key(|d| d.span().map_or(0, |s| s.start));
+        Err(diags)
+    }
+}
+
+/// Names referenced by an expression (not function names, field names or
+/// argument names), with their spans.
+fn collect_names<'a>(e: &'a Expr, out: &mut Vec<(&'a str, Span)>) {
+    match &e.kind {
+        ExprKind::Name(n) => out.push((n, e.span)),
+        ExprKind::Number { .. } | ExprKind::Str(_) => {}
+        ExprKind::Neg(a) | ExprKind::Paren(a) => collect_names(a, out),
+        ExprKind::Field { base, .. } => collect_names(base, out),
+        ExprKind::Binary { left, right, .. } => {
+            collect_names(left, out);
+            collect_names(right, out);
+        }
+        ExprKind::Call { args, .. } => {
+            for a in args {
+                collect_names(&a.value, out);
+            }
+        }
+    }
+}
+
+fn closest<'a>(word: &str, candidates: impl Iterator<Item = &'a str>) -> Option<&'a str> {
+    candidates
+        .map(|c| (strsim::jaro_winkler(word, c), c))
+        .filter(|(score, _)| *score > 0.8)
+        .max_by(|a, b| a.0.total_cmp(&b.0))
+        .map(|(_, c)| c)
+}
+
+fn unknown_name(name: &str, span: Span, names: &HashMap<String, usize>) -> Diagnostic {
+    let cands = names.keys().map(String::as_str).chain(builtins::CONSTANTS.iter().map(|c| c.name));
+    let d = Diagnostic::error(format!("unknown name `{name}`"), span).with_label("not defined in this worksheet");
+    match closest(name, cands) {
+        Some(s) => d.with_note(format!("help: did you mean `{s}`?")),
+        None => d.with_note("help: define it with `input` or `NAME = ...`"),
+    }
+}
+
+fn cycle_diagnostic(cycle: &[usize], nodes: &[Node], refs_of: &[Vec<(usize, Span)>]) -> Diagnostic {
+    let name = |i: usize| nodes[i].name.as_ref().map_or("(check)".to_string(), |n| n.name.clone());
+    let mut chain: Vec<String> = cycle.iter().map(|&i| name(i)).collect();
+    chain.push(name(cycle[0]));
+    let first = cycle[0];
+    let first_span = nodes[first].name.as_ref().map_or(nodes[first].expr_span, |n| n.span);
+    let mut d = Diagnostic::error(format!("circular definition: {}", chain.join(" -> ")), first_span)
+        .with_label(format!("`{}` is part of the cycle", name(first)));
+    for (k, &i) in cycle.iter().enumerate() {
+        let next = cycle[(k + 1) % cycle.len()];
+        if let Some((_, span)) = refs_of[i].iter().find(|(j, _)| *j == next) {
+            d = d.with_secondary(*span, format!("`{}` uses `{}`", name(i), name(next)));
+        }
+    }
+    d.with_note("help: a value cannot depend on itself; break the loop (an iteration needs `solve`, not a cycle)")
+}
+
+struct Cx<'a> {
+    src: &'a str,
+    names: &'a HashMap<String, usize>,
+    types: Vec<Ty>,
+    /// Fixed display unit text of nodes checked so far (for messages).
+    displays: Vec<Option<String>>,
+    diags: Vec<Diagnostic>,
+    /// Operand quantity of the last comparison checked.
+    last_operand: Option<QTy>,
+}
+
+/// Static result of an expression.
+type Typed = (Ty, Code);
+
+const ERR: Typed = (Ty::Error, Code::Absent);
+
+impl Cx<'_> {
+    fn error(&mut self, d: Diagnostic) -> Typed {
+        self.diags.push(d);
+        ERR
+    }
+
+    fn expr(&mut self, e: &Expr) -> Typed {
+        match &e.kind {
+            ExprKind::Number { value, unit, .. } => match unit {
+                None => (Ty::Num(QTy::DIMENSIONLESS), Code::Const(*value)),
+                Some(u) => match self.unit(u) {
+                    Some(unit) => (
+                        Ty::Num(QTy {
+                            dim: unit.dim,
+                            aff: unit.affinity,
+                        }),
+                        Code::Const(unit.to_si(*value)),
+                    ),
+                    None => ERR,
+                },
+            },
+            ExprKind::Str(s) => (Ty::Str, Code::Str(Arc::from(s.as_str()))),
+            ExprKind::Name(n) => {
+                if let Some(&i) = self.names.get(n) {
+                    (self.types[i], Code::Slot(i))
+                } else if let Some(c) = builtins::constant(n) {
+                    (Ty::num(c.dim), Code::Const(c.value))
+                } else {
+                    ERR // reported when collecting names
+                }
+            }
+            ExprKind::Paren(a) => self.expr(a),
+            ExprKind::Neg(a) => {
+                let (ty, code) = self.expr(a);
+                match ty {
+                    Ty::Error => ERR,
+                    Ty::Num(q) if q.aff == Affinity::Absolute => self.error(
+                        Diagnostic::error(
+                            format!("cannot negate an absolute {}", units::quantity_name(q.dim)),
+                            e.span,
+                        )
+                        .with_note("help: subtract from a reference instead, e.g. `T_ref - T`"),
+                    ),
+                    Ty::Num(q) => (Ty::Num(q), Code::Neg(Box::new(code))),
+                    other => self.error(Diagnostic::error(
+                        format!("cannot negate {}", other.describe()),
+                        e.span,
+                    )),
+                }
+            }
+            ExprKind::Binary { op, left, right } => self.binary(*op, left, right, e.span),
+            ExprKind::Call { func, args } => self.call(func, args, e.span),
+            ExprKind::Field { base, field } => self.field(base, field),
+        }
+    }
+
+    fn unit(&mut self, u: &UnitExpr) -> Option<Unit> {
+        match units::resolve(u) {
+            Ok(unit) => Some(unit),
+            Err(err) => {
+                let mut d = Diagnostic::error(err.message, err.span).with_label("unknown unit");
+                if let Some(s) = err.suggestion {
+                    d = d.with_note(format!("help: did you mean `{s}`?"));
+                }
+                self.diags.push(d.with_note("help: `sheaf units WORD` lists the units sheaf knows"));
+                None
+            }
+        }
+    }
+
+    /// "pressure (kPa)" using the unit the user sees for this operand when
+    /// there is one.
+    fn side(&self, e: &Expr, q: QTy) -> String {
+        let written = match &inner(e).kind {
+            ExprKind::Number { unit: Some(u), .. } => Some(u.span.slice(self.src).to_string()),
+            ExprKind::Name(n) => self.names.get(n).and_then(|&i| self.displays[i].clone()),
+            _ => None,
+        };
+        match written {
+            Some(w) if !q.dim.is_none() => {
+                let base = describe_qty(q);
+                match base.rfind(" (") {
+                    Some(p) => format!("{} ({w})", &base[..p]),
+                    None => base,
+                }
+            }
+            _ => describe_qty(q),
+        }
+    }
+
+    fn binary(&mut self, op: BinOp, l: &Expr, r: &Expr, span: Span) -> Typed {
+        let (lt, lc) = self.expr(l);
+        let (rt, rc) = self.expr(r);
+        let (lq, rq) = match (lt, rt) {
+            (Ty::Error, _) | (_, Ty::Error) => return ERR,
+            (Ty::Num(a), Ty::Num(b)) => (a, b),
+            (a, b) => {
+                let bad = if matches!(a, Ty::Num(_)) { (r.span, b) } else { (l.span, a) };
+                return self.error(
+                    Diagnostic::error(
+                        format!("`{}` needs numbers, but this is {}", op.symbol(), bad.1.describe()),
+                        bad.0,
+                    )
+                    .with_note("help: use a field of a state, e.g. `st1.h`"),
+                );
+            }
+        };
+        let (lc, rc) = (Box::new(lc), Box::new(rc));
+        match op {
+            BinOp::Add | BinOp::Sub => {
+                if lq.dim != rq.dim {
+                    let verb = if op == BinOp::Add { "add" } else { "subtract" };
+                    return self.error(
+                        Diagnostic::error(
+                            format!(
+                                "cannot {verb} quantities of different dimensions: left is {}, right is {}",
+                                self.side(l, lq),
+                                self.side(r, rq)
+                            ),
+                            span,
+                        )
+                        .with_secondary(l.span, self.side(l, lq))
+                        .with_secondary(r.span, self.side(r, rq)),
+                    );
+                }
+                match affinity(op, lq.aff, rq.aff) {
+                    Ok(aff) => {
+                        let ty = Ty::Num(QTy { dim: lq.dim, aff });
+                        let code = if op == BinOp::Add { Code::Add(lc, rc) } else { Code::Sub(lc, rc) };
+                        (ty, code)
+                    }
+                    Err(msg) => {
+                        let what = units::quantity_name(lq.dim);
+                        self.error(
+                            Diagnostic::error(msg.replace("{q}", &what), span)
+                                .with_secondary(l.span, self.side(l, lq))
+                                .with_secondary(r.span, self.side(r, rq))
+                                .with_note(
+                                    "help: absolute values (degC, degF, gauge units) can be subtracted to give a difference, \
+                                     and a difference added to an absolute value; to average two, write `T1 + (T2 - T1)/2`",
+                                ),
+                        )
+                    }
+                }
+            }
+            BinOp::Mul => (Ty::num(lq.dim * rq.dim), Code::Mul(lc, rc)),
+            BinOp::Div => (Ty::num(lq.dim / rq.dim), Code::Div(lc, rc, r.span)),
+            BinOp::Pow => {
+                if !rq.dim.is_none() {
+                    return self.error(Diagnostic::error(
+                        format!("an exponent must be dimensionless, got {}", self.side(r, rq)),
+                        r.span,
+                    ));
+                }
+                if lq.dim.is_none() {
+                    return (Ty::Num(QTy::DIMENSIONLESS), Code::Pow(lc, rc, span));
+                }
+                let Some(x) = const_value(&rc) else {
+                    return self.error(
+                        Diagnostic::error(
+                            format!(
+                                "{} can only be raised to a constant power, not to a computed value",
+                                self.side(l, lq)
+                            ),
+                            r.span,
+                        )
+                        .with_note("help: write the exponent as a number, e.g. `^2` or `^(1/3)`"),
+                    );
+                };
+                let dim = rational(x).and_then(|(n, d)| lq.dim.pow_ratio(n, d));
+                match dim {
+                    Some(d) => (Ty::num(d), Code::Pow(lc, rc, span)),
+                    None => self.error(Diagnostic::error(
+                        format!(
+                            "{} raised to {x} has no whole-number dimension",
+                            self.side(l, lq)
+                        ),
+                        span,
+                    )),
+                }
+            }
+        }
+    }
+
+    fn call(&mut self, func: &Ident, args: &[Arg], span: Span) -> Typed {
+        let Some(sig) = builtins::signature(&func.name) else {
+            let d = Diagnostic::error(format!("unknown function `{}`", func.name), func.span);
+            let d = match closest(&func.name, builtins::SIGNATURES.iter().map(|s| s.name)) {
+                Some(s) => d.with_note(format!("help: did you mean `{s}`?")),
+                None => d.with_note("help: `sheaf functions` lists the built-in functions"),
+            };
+            // still check the arguments for their own errors
+            for a in args {
+                self.expr(&a.value);
+            }
+            return self.error(d);
+        };
+        let bound = match bind(sig, args, func.span, span) {
+            Ok(b) => b,
+            Err(d) => {
+                for a in args {
+                    self.expr(&a.value);
+                }
+                return self.error(d);
+            }
+        };
+        let mut targs = Vec::with_capacity(bound.len());
+        let mut codes = Vec::with_capacity(bound.len());
+        for b in &bound {
+            match b {
+                Some(e) => {
+                    let (ty, code) = self.expr(e);
+                    let literal = match &inner(e).kind {
+                        ExprKind::Str(s) => Some(s.clone()),
+                        _ => None,
+                    };
+                    targs.push(Some(TArg { ty, literal }));
+                    codes.push(code);
+                }
+                None => {
+                    targs.push(None);
+                    codes.push(Code::Absent);
+                }
+            }
+        }
+        match builtins::type_call(sig, &targs) {
+            Ok(Ty::Error) => ERR,
+            Ok(ty) => (ty, Code::Call(sig.builtin, codes, span)),
+            Err(e) => {
+                let at = e.param.and_then(|i| bound.get(i).copied().flatten()).map_or(span, |x| x.span);
+                self.error(
+                    Diagnostic::error(e.message, at).with_note(format!("usage: {}", sig.usage)),
+                )
+            }
+        }
+    }
+
+    fn field(&mut self, base: &Expr, field: &Ident) -> Typed {
+        let (ty, code) = self.expr(base);
+        let Some(f) = Field::from_name(&field.name) else {
+            if ty == Ty::Error {
+                return ERR;
+            }
+            let names: Vec<&str> = Field::ALL.iter().map(|f| f.name()).collect();
+            let d = Diagnostic::error(format!("unknown field `.{}`", field.name), field.span)
+                .with_note(format!("help: the fields of a state are {}", names.join(", ")));
+            let d = match closest(&field.name, names.iter().copied()) {
+                Some(s) => d.with_note(format!("help: did you mean `.{s}`?")),
+                None => d,
+            };
+            return self.error(d);
+        };
+        let fty = match ty {
+            Ty::Error => return ERR,
+            Ty::State(k) => {
+                if !k.has_field(f) {
+                    return self.error(Diagnostic::error(
+                        format!(
+                            "a state of {} has no `.{}`: quality is defined only for water/steam",
+                            k.describe(),
+                            f.name()
+                        ),
+                        field.span,
+                    ));
+                }
+                field_type(f)
+            }
+            Ty::Substance(k) => {
+                let ok = matches!(
+                    (k, f),
+                    (ModelKind::PerfectGas, Field::Cp | Field::Cv | Field::K)
+                        | (ModelKind::Incompressible, Field::Cp | Field::Cv | Field::Rho | Field::V)
+                );
+                if !ok {
+                    return self.error(
+                        Diagnostic::error(
+                            format!("a substance ({}) has no `.{}`", k.describe(), f.name()),
+                            field.span,
+                        )
+                        .with_note("help: fix a state first, e.g. `state(gas, T: T1, p: p1).h`"),
+                    );
+                }
+                field_type(f)
+            }
+            other => {
+                return self.error(Diagnostic::error(
+                    format!("`.{}` needs a state, but this is {}", f.name(), other.describe()),
+                    base.span,
+                ));
+            }
+        };
+        (fty, Code::Field(Box::new(code), f, field.span))
+    }
+
+    fn check_comparison(&mut self, ws: &Worksheet, node: &Node, left: &Expr, right: Option<&Expr>) -> Typed {
+        let (op, op_span) = match &ws.statements[node.stmt].kind {
+            StatementKind::Check { op, op_span, .. } => (*op, *op_span),
+            _ => return ERR,
+        };
+        let Some(right) = right else { return ERR };
+        let (lt, lc) = self.expr(left);
+        let (rt, rc) = self.expr(right);
+        match (lt, rt) {
+            (Ty::Error, _) | (_, Ty::Error) => ERR,
+            (Ty::Num(a), Ty::Num(b)) => {
+                if a.dim != b.dim {
+                    return self.error(
+                        Diagnostic::error(
+                            format!(
+                                "cannot compare quantities of different dimensions: left is {}, right is {}",
+                                self.side(left, a),
+                                self.side(right, b)
+                            ),
+                            op_span,
+                        )
+                        .with_secondary(left.span, self.side(left, a))
+                        .with_secondary(right.span, self.side(right, b)),
+                    );
+                }
+                if matches!(
+                    (a.aff, b.aff),
+                    (Affinity::Absolute, Affinity::Difference) | (Affinity::Difference, Affinity::Absolute)
+                ) {
+                    return self.error(
+                        Diagnostic::error(
+                            format!(
+                                "cannot compare an absolute {q} with a {q} difference",
+                                q = units::quantity_name(a.dim)
+                            ),
+                            op_span,
+                        )
+                        .with_secondary(left.span, self.side(left, a))
+                        .with_secondary(right.span, self.side(right, b)),
+                    );
+                }
+                self.last_operand = Some(a);
+                (Ty::Bool, Code::Cmp(op, Box::new(lc), Box::new(rc)))
+            }
+            (a, b) => {
+                let bad = if matches!(a, Ty::Num(_)) { (right.span, b) } else { (left.span, a) };
+                self.error(Diagnostic::error(
+                    format!("a check compares numbers, but this is {}", bad.1.describe()),
+                    bad.0,
+                ))
+            }
+        }
+    }
+
+    /// The display unit of a named value: its annotation, else for an
+    /// input (or a plain literal) the unit of its literal, else automatic.
+    fn display_unit(&mut self, ty: Ty, value: &Expr, annotation: Option<&UnitExpr>, input: bool) -> DisplayUnit {
+        let text_of = |u: &UnitExpr| normalise_unit_text(u.span.slice(self.src));
+        if let Some(ann) = annotation {
+            let Some(unit) = self.unit(ann) else {
+                return DisplayUnit::Auto;
+            };
+            match ty {
+                Ty::Error => {}
+                Ty::Num(q) => {
+                    if q.dim != unit.dim {
+                        self.diags.push(
+                            Diagnostic::error(
+                                format!(
+                                    "the unit `{}` is {}, but the value is {}",
+                                    text_of(ann),
+                                    units::quantity_name(unit.dim),
+                                    describe_qty(q)
+                                ),
+                                ann.span,
+                            )
+                            .with_secondary(value.span, describe_qty(q)),
+                        );
+                    } else if q.aff == Affinity::Difference && unit.affinity == Affinity::Absolute {
+                        let alt = if units::quantity_name(q.dim) == "temperature" {
+                            "`K` or `delta_degC`"
+                        } else {
+                            "an absolute unit such as `kPa` or `bar`"
+                        };
+                        self.diags.push(
+                            Diagnostic::error(
+                                format!(
+                                    "a {} difference cannot be shown in `{}`, which is a scale with an offset",
+                                    units::quantity_name(q.dim),
+                                    text_of(ann)
+                                ),
+                                ann.span,
+                            )
+                            .with_secondary(value.span, "this is a difference")
+                            .with_note(format!("help: show it in {alt}")),
+                        );
+                    } else if q.aff == Affinity::Absolute && unit.affinity == Affinity::Difference {
+                        self.diags.push(
+                            Diagnostic::error(
+                                format!(
+                                    "an absolute {} cannot be shown in the difference unit `{}`",
+                                    units::quantity_name(q.dim),
+                                    text_of(ann)
+                                ),
+                                ann.span,
+                            )
+                            .with_note("help: show it in `K` or `degC`"),
+                        );
+                    }
+                }
+                other => {
+                    self.diags.push(Diagnostic::error(
+                        format!("{} has no unit; remove the `: {}`", other.describe(), text_of(ann)),
+                        ann.span,
+                    ));
+                }
+            }
+            return DisplayUnit::Fixed {
+                unit,
+                text: text_of(ann),
+            };
+        }
+        let Ty::Num(q) = ty else {
+            return DisplayUnit::Auto;
+        };
+        let literal = if input { last_literal_unit(value, q.dim) } else { plain_literal_unit(value) };
+        match literal {
+            Some(u) => match units::resolve(u) {
+                Ok(unit) if unit.dim == q.dim && !(q.aff == Affinity::Difference && unit.affinity == Affinity::Absolute) => {
+                    DisplayUnit::Fixed {
+                        unit,
+                        text: text_of(u),
+                    }
+                }
+                _ => DisplayUnit::Auto,
+            },
+            None => DisplayUnit::Auto,
+        }
+    }
+}
+
+/// Strip parentheses.
+fn inner(e: &Expr) -> &Expr {
+    match &e.kind {
+        ExprKind::Paren(a) => inner(a),
+        _ => e,
+    }
+}
+
+/// The unit of an expression that is just a literal (possibly negated).
+fn plain_literal_unit(e: &Expr) -> Option<&UnitExpr> {
+    match &inner(e).kind {
+        ExprKind::Number { unit, .. } => unit.as_ref(),
+        ExprKind::Neg(a) => plain_literal_unit(a),
+        _ => None,
+    }
+}
+
+/// The last literal unit of dimension `dim` in an expression (the display
+/// unit of an input such as `cell(...) * 1 kPa`).
+fn last_literal_unit(e: &Expr, dim: Dim) -> Option<&UnitExpr> {
+    match &e.kind {
+        ExprKind::Number { unit: Some(u), .. } => match units::resolve(u) {
+            Ok(unit) if unit.dim == dim => Some(u),
+            _ => None,
+        },
+        ExprKind::Number { .. } | ExprKind::Str(_) | ExprKind::Name(_) => None,
+        ExprKind::Neg(a) | ExprKind::Paren(a) => last_literal_unit(a, dim),
+        ExprKind::Field { base, .. } => last_literal_unit(base, dim),
+        ExprKind::Binary { left, right, .. } => {
+            last_literal_unit(right, dim).or_else(|| last_literal_unit(left, dim))
+        }
+        ExprKind::Call { args, .. } => args.iter().rev().find_map(|a| last_literal_unit(&a.value, dim)),
+    }
+}
+
+/// Collapse runs of whitespace in a unit as written.
+pub fn normalise_unit_text(s: &str) -> String {
+    s.split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
+/// The type of a state field.
+pub fn field_type(f: Field) -> Ty {
+    let dim = match f {
+        Field::T => return Ty::Num(QTy::absolute(Dim::TEMPERATURE)),
+        Field::P => Dim::PRESSURE,
+        Field::H | Field::U => Dim::SPECIFIC_ENERGY,
+        Field::S | Field::Cp | Field::Cv => Dim::SPECIFIC_ENTROPY,
+        Field::V => Dim::SPECIFIC_VOLUME,
+        Field::Rho => Dim::DENSITY,
+        Field::K | Field::X => Dim::NONE,
+    };
+    Ty::num(dim)
+}
+
+/// Affinity rules for `+` and `-` (DESIGN §3). `{q}` in an error message
+/// stands for the quantity name.
+fn affinity(op: BinOp, a: Affinity, b: Affinity) -> Result<Affinity, &'static str> {
+    use Affinity::*;
+    match (op, a, b) {
+        (BinOp::Add, Absolute, Absolute) => Err("cannot add two absolute values of {q}"),
+        (BinOp::Add, Absolute, _) | (BinOp::Add, _, Absolute) => Ok(Absolute),
+        (BinOp::Add, Difference, _) | (BinOp::Add, _, Difference) => Ok(Difference),
+        (BinOp::Sub, Absolute, Absolute) => Ok(Difference),
+        (BinOp::Sub, Absolute, _) => Ok(Absolute),
+        (BinOp::Sub, _, Absolute) => Err("cannot subtract an absolute value of {q} from a difference"),
+        (BinOp::Sub, Difference, _) | (BinOp::Sub, _, Difference) => Ok(Difference),
+        _ => Ok(Neutral),
+    }
+}
+
+/// Bind call arguments to parameters. Returns one entry per parameter (or,
+/// for a variadic function, one per argument).
+fn bind<'a>(sig: &Signature, args: &'a [Arg], fspan: Span, call_span: Span) -> Result<Vec<Option<&'a Expr>>, Diagnostic> {
+    if sig.variadic {
+        if let Some(a) = args.iter().find(|a| a.name.is_some()) {
+            return Err(Diagnostic::error(
+                format!("`{}` takes only positional arguments", sig.name),
+                a.span,
+            ));
+        }
+        if args.is_empty() {
+            return Err(Diagnostic::error(format!("`{}` needs at least one argument", sig.name), call_span)
+                .with_note(format!("usage: {}", sig.usage)));
+        }
+        return Ok(args.iter().map(|a| Some(&a.value)).collect());
+    }
+    let mut out: Vec<Option<&Expr>> = vec![None; sig.params.len()];
+    let mut next_pos = 0;
+    for a in args {
+        match &a.name {
+            Some(n) => {
+                let Some(i) = sig.params.iter().position(|p| p.name == n.name) else {
+                    let names: Vec<&str> = sig.params.iter().map(|p| p.name).collect();
+                    let mut d = Diagnostic::error(
+                        format!("`{}` has no argument `{}`", sig.name, n.name),
+                        n.span,
+                    );
+                    if let Some(s) = closest(&n.name, names.iter().copied()) {
+                        d = d.with_note(format!("help: did you mean `{s}:`?"));
+                    }
+                    return Err(d.with_note(format!("usage: {}", sig.usage)));
+                };
+                if out[i].is_some() {
+                    return Err(Diagnostic::error(format!("`{}` is given twice", n.name), a.span)
+                        .with_note(format!("usage: {}", sig.usage)));
+                }
+                out[i] = Some(&a.value);
+            }
+            None => {
+                while next_pos < sig.params.len() && (out[next_pos].is_some() || !sig.params[next_pos].positional) {
+                    if !sig.params[next_pos].positional && out[next_pos].is_none() {
+                        return Err(Diagnostic::error(
+                            format!(
+                                "`{}` must be given by name here, e.g. `{}: ...`",
+                                sig.params[next_pos].name, sig.params[next_pos].name
+                            ),
+                            a.span,
+                        )
+                        .with_note(format!("usage: {}", sig.usage)));
+                    }
+                    next_pos += 1;
+                }
+                if next_pos >= sig.params.len() {
+                    return Err(Diagnostic::error(format!("too many arguments for `{}`", sig.name), a.span)
+                        .with_note(format!("usage: {}", sig.usage)));
+                }
+                out[next_pos] = Some(&a.value);
+                next_pos += 1;
+            }
+        }
+    }
+    if sig.builtin != Builtin::State {
+        for (i, p) in sig.params.iter().enumerate() {
+            if p.required && out[i].is_none() {
+                let how = if p.positional { format!("`{}`", p.name) } else { format!("`{}: ...`", p.name) };
+                return Err(Diagnostic::error(format!("`{}` is missing the argument {how}", sig.name), call_span)
+                    .with_secondary(fspan, "in this call")
+                    .with_note(format!("usage: {}", sig.usage)));
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// Value of a compiled expression with no references to other nodes.
+pub fn const_value(code: &Code) -> Option<f64> {
+    fn has_slot(c: &Code) -> bool {
+        match c {
+            Code::Slot(_) => true,
+            Code::Const(_) | Code::Str(_) | Code::Absent => false,
+            Code::Neg(a) => has_slot(a),
+            Code::Add(a, b) | Code::Sub(a, b) | Code::Mul(a, b) | Code::Cmp(_, a, b) => has_slot(a) || has_slot(b),
+            Code::Div(a, b, _) | Code::Pow(a, b, _) => has_slot(a) || has_slot(b),
+            Code::Field(a, _, _) => has_slot(a),
+            Code::Call(_, args, _) => args.iter().any(has_slot),
+        }
+    }
+    if has_slot(code) {
+        return None;
+    }
+    let mut w = Vec::new();
+    crate::eval::eval(code, &[], Span::default(), &mut w).ok()?.as_num()
+}
+
+/// A rational approximation n/d (d <= 12) of an exponent, if it is one.
+fn rational(x: f64) -> Option<(i32, i32)> {
+    for d in 1..=12 {
+        let n = x * f64::from(d);
+        let r = n.round();
+        if (n - r).abs() < 1e-9 && r.abs() < 1000.0 {
+            return Some((r as i32, d));
+        }
+    }
+    None
+}
+
+/// Check a statement of a worksheet-independent expression (for `eval` and
+/// `--set`): only built-in constants may be referenced.
+pub fn check_standalone(e: &Expr, src: &str) -> Result<(Ty, Code), Vec<Diagnostic>> {
+    let names = HashMap::new();
+    let mut refs = Vec::new();
+    collect_names(e, &mut refs);
+    let mut diags: Vec<Diagnostic> = refs
+        .iter()
+        .filter(|(n, _)| builtins::constant(n).is_none())
+        .map(|(n, s)| unknown_name(n, *s, &names))
+        .collect();
+    let mut cx = Cx {
+        src,
+        names: &names,
+        types: Vec::new(),
+        displays: Vec::new(),
+        diags: Vec::new(),
+        last_operand: None,
+    };
+    let (ty, code) = cx.expr(e);
+    diags.extend(cx.diags);
+    if diags.is_empty() { Ok((ty, code)) } else { Err(diags) }
+}
+
+/// The statement a node came from.
+pub fn statement<'a>(ws: &'a Worksheet, node: &Node) -> Option<&'a Statement> {
+    ws.statements.get(node.stmt)
+}

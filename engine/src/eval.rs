@@ -1,0 +1,189 @@
+//! Evaluation of the compiled program: plain `f64` arithmetic over slots,
+//! no unit or dimension work (that was done once, by the checker).
+
+use std::sync::Arc;
+
+use sheaf_grammar::{CompareOp, Span};
+
+use crate::builtins::{self, Builtin, Warnings};
+use crate::thermo::{Field, State, Substance};
+
+/// A state value: the state and the substance it belongs to.
+#[derive(Clone, Debug, PartialEq)]
+pub struct StateVal {
+    pub sub: Arc<Substance>,
+    pub st: State,
+}
+
+/// A run-time value. Numbers are SI `f64`.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Value {
+    Num(f64),
+    Bool(bool),
+    Str(Arc<str>),
+    Substance(Arc<Substance>),
+    State(Arc<StateVal>),
+    /// An optional argument that was not given.
+    Absent,
+}
+
+impl Value {
+    pub fn as_num(&self) -> Option<f64> {
+        match self {
+            Value::Num(x) => Some(*x),
+            _ => None,
+        }
+    }
+}
+
+/// A compiled expression: names resolved to node slots, units folded into
+/// SI constants, dimension checks already done.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Code {
+    Const(f64),
+    Str(Arc<str>),
+    Absent,
+    /// The value of another node.
+    Slot(usize),
+    Neg(Box<Code>),
+    Add(Box<Code>, Box<Code>),
+    Sub(Box<Code>, Box<Code>),
+    Mul(Box<Code>, Box<Code>),
+    /// Division; the span is the divisor's, for the division-by-zero error.
+    Div(Box<Code>, Box<Code>, Span),
+    Pow(Box<Code>, Box<Code>, Span),
+    Cmp(CompareOp, Box<Code>, Box<Code>),
+    /// Field of a state (span of the field name, for "no quality" errors).
+    Field(Box<Code>, Field, Span),
+    /// Built-in call; arguments in parameter order; span of the call.
+    Call(Builtin, Vec<Code>, Span),
+}
+
+/// An evaluation error: where and what.
+#[derive(Clone, Debug, PartialEq)]
+pub struct EvalError {
+    pub span: Span,
+    pub message: String,
+}
+
+fn fail<T>(span: Span, message: impl Into<String>) -> Result<T, EvalError> {
+    Err(EvalError {
+        span,
+        message: message.into(),
+    })
+}
+
+/// Evaluate `code` reading other nodes' values from `slots`. `span` is the
+/// whole expression's span, used when a sub-expression has none.
+pub fn eval(code: &Code, slots: &[Value], span: Span, warnings: &mut Warnings) -> Result<Value, EvalError> {
+    let v = eval_inner(code, slots, span, warnings)?;
+    if let Value::Num(x) = v
+        && !x.is_finite()
+    {
+        return fail(span, "the result is not a finite number");
+    }
+    Ok(v)
+}
+
+fn number(code: &Code, slots: &[Value], span: Span, w: &mut Warnings) -> Result<f64, EvalError> {
+    match eval_inner(code, slots, span, w)? {
+        Value::Num(x) => Ok(x),
+        _ => fail(span, "internal: expected a number"),
+    }
+}
+
+fn eval_inner(code: &Code, slots: &[Value], span: Span, w: &mut Warnings) -> Result<Value, EvalError> {
+    let bin = |a: &Code, b: &Code, w: &mut Warnings, f: fn(f64, f64) -> f64| -> Result<Value, EvalError> {
+        Ok(Value::Num(f(number(a, slots, span, w)?, number(b, slots, span, w)?)))
+    };
+    match code {
+        Code::Const(x) => Ok(Value::Num(*x)),
+        Code::Str(s) => Ok(Value::Str(Arc::clone(s))),
+        Code::Absent => Ok(Value::Absent),
+        Code::Slot(i) => match slots.get(*i) {
+            Some(v) => Ok(v.clone()),
+            None => fail(span, "internal: slot out of range"),
+        },
+        Code::Neg(a) => Ok(Value::Num(-number(a, slots, span, w)?)),
+        Code::Add(a, b) => bin(a, b, w, |x, y| x + y),
+        Code::Sub(a, b) => bin(a, b, w, |x, y| x - y),
+        Code::Mul(a, b) => bin(a, b, w, |x, y| x * y),
+        Code::Div(a, b, s) => {
+            let x = number(a, slots, span, w)?;
+            let y = number(b, slots, span, w)?;
+            if y == 0.0 {
+                return fail(*s, "division by zero");
+            }
+            Ok(Value::Num(x / y))
+        }
+        Code::Pow(a, b, s) => {
+            let x = number(a, slots, span, w)?;
+            let y = number(b, slots, span, w)?;
+            let r = x.powf(y);
+            if !r.is_finite() {
+                return fail(*s, format!("{x} ^ {y} (in SI) has no finite real value"));
+            }
+            Ok(Value::Num(r))
+        }
+        Code::Cmp(op, a, b) => {
+            let x = number(a, slots, span, w)?;
+            let y = number(b, slots, span, w)?;
+            Ok(Value::Bool(match op {
+                CompareOp::Lt => x < y,
+                CompareOp::Le => x <= y,
+                CompareOp::Gt => x > y,
+                CompareOp::Ge => x >= y,
+                CompareOp::Eq => x == y,
+                CompareOp::Ne => x != y,
+            }))
+        }
+        Code::Field(base, field, s) => match eval_inner(base, slots, span, w)? {
+            Value::State(st) => match st.st.get(*field) {
+                Some(x) => Ok(Value::Num(x)),
+                None => fail(
+                    *s,
+                    format!(
+                        "this state has no `{}`: {}",
+                        field.name(),
+                        match field {
+                            Field::X => "quality is defined only for two-phase states",
+                            _ => "the property is undefined for a two-phase mixture",
+                        }
+                    ),
+                ),
+            },
+            Value::Substance(sub) => match substance_field(&sub, *field) {
+                Some(x) => Ok(Value::Num(x)),
+                None => fail(*s, format!("this substance has no `{}`", field.name())),
+            },
+            _ => fail(*s, "internal: field of a value that is not a state"),
+        },
+        Code::Call(b, args, s) => {
+            let mut vals = Vec::with_capacity(args.len());
+            for a in args {
+                vals.push(eval_inner(a, slots, span, w)?);
+            }
+            let v = builtins::call(*b, &vals, w).map_err(|m| EvalError { span: *s, message: m })?;
+            if let Value::Num(x) = v
+                && !x.is_finite()
+            {
+                return fail(*s, "the function returned a value that is not a finite number");
+            }
+            Ok(v)
+        }
+    }
+}
+
+/// Fields of substances: `gas.cp`, `liquid.rho` etc. (constant-property
+/// models only; the checker decides which exist).
+pub fn substance_field(sub: &Substance, field: Field) -> Option<f64> {
+    match (sub, field) {
+        (Substance::PerfectGas(g), Field::Cp) => Some(g.cp),
+        (Substance::PerfectGas(g), Field::Cv) => Some(g.cp - g.r),
+        (Substance::PerfectGas(g), Field::K) => Some(g.cp / (g.cp - g.r)),
+        (Substance::Incompressible(m), Field::Cp | Field::Cv) => Some(m.c),
+        (Substance::Incompressible(m), Field::Rho) => Some(m.rho),
+        (Substance::Incompressible(m), Field::V) => Some(1.0 / m.rho),
+        _ => None,
+    }
+}

@@ -1,0 +1,230 @@
+//! The engine's public face: a checked, compiled worksheet that can be
+//! evaluated, have inputs changed, and be re-evaluated incrementally.
+
+use sheaf_grammar::{Span, Worksheet};
+
+use crate::check::{self, Checked, DisplayUnit, Node, NodeKind};
+use crate::diag::Diagnostic;
+use crate::eval::{self, Code, Value};
+use crate::graph;
+use crate::types::{QTy, Ty, describe_qty};
+use crate::units::Affinity;
+
+/// Evaluation state of a node.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Status {
+    /// Not evaluated yet.
+    Pending,
+    Ok,
+    /// Evaluation failed; the diagnostic says why.
+    Failed(Diagnostic),
+    /// Not evaluated because something it depends on failed.
+    Skipped,
+}
+
+/// A checked and compiled worksheet with its current values.
+#[derive(Debug)]
+pub struct Model {
+    source: String,
+    worksheet: Worksheet,
+    checked: Checked,
+    users: Vec<Vec<usize>>,
+    values: Vec<Value>,
+    status: Vec<Status>,
+    warnings: Vec<Vec<String>>,
+    dirty: Vec<bool>,
+}
+
+impl Model {
+    /// Parse and check a worksheet. All syntax errors, or else all checking
+    /// errors, are returned together.
+    pub fn new(source: impl Into<String>) -> Result<Model, Vec<Diagnostic>> {
+        let source = source.into();
+        let worksheet = sheaf_grammar::parse(&source).map_err(|es| es.into_iter().map(Diagnostic::from).collect::<Vec<_>>())?;
+        let checked = check::check(&worksheet, &source)?;
+        let n = checked.nodes.len();
+        let deps: Vec<Vec<usize>> = checked.nodes.iter().map(|n| n.deps.clone()).collect();
+        Ok(Model {
+            users: graph::users(&deps),
+            source,
+            worksheet,
+            checked,
+            values: vec![Value::Absent; n],
+            status: vec![Status::Pending; n],
+            warnings: vec![Vec::new(); n],
+            dirty: vec![true; n],
+        })
+    }
+
+    pub fn source(&self) -> &str {
+        &self.source
+    }
+
+    pub fn worksheet(&self) -> &Worksheet {
+        &self.worksheet
+    }
+
+    pub fn nodes(&self) -> &[Node] {
+        &self.checked.nodes
+    }
+
+    /// Evaluation order (topological).
+    pub fn order(&self) -> &[usize] {
+        &self.checked.order
+    }
+
+    pub fn node_index(&self, name: &str) -> Option<usize> {
+        self.checked.names.get(name).copied()
+    }
+
+    pub fn value(&self, node: usize) -> &Value {
+        &self.values[node]
+    }
+
+    /// All current values, indexed by node.
+    pub fn values(&self) -> &[Value] {
+        &self.values
+    }
+
+    pub fn status(&self, node: usize) -> &Status {
+        &self.status[node]
+    }
+
+    pub fn warnings(&self, node: usize) -> &[String] {
+        &self.warnings[node]
+    }
+
+    /// Value of a named number, SI.
+    pub fn number(&self, name: &str) -> Option<f64> {
+        self.node_index(name).and_then(|i| self.values[i].as_num())
+    }
+
+    /// Evaluate everything not yet evaluated or affected by a change since
+    /// the last evaluation. Returns how many nodes were evaluated.
+    pub fn evaluate(&mut self) -> usize {
+        let mut count = 0;
+        for k in 0..self.checked.order.len() {
+            let i = self.checked.order[k];
+            if !self.dirty[i] {
+                continue;
+            }
+            self.dirty[i] = false;
+            self.warnings[i].clear();
+            let node = &self.checked.nodes[i];
+            if node.deps.iter().any(|&d| !matches!(self.status[d], Status::Ok)) {
+                self.status[i] = Status::Skipped;
+                self.values[i] = Value::Absent;
+                continue;
+            }
+            count += 1;
+            let mut w = Vec::new();
+            match eval::eval(&node.code, &self.values, node.expr_span, &mut w) {
+                Ok(v) => {
+                    self.values[i] = v;
+                    self.status[i] = Status::Ok;
+                }
+                Err(e) => {
+                    self.values[i] = Value::Absent;
+                    self.status[i] = Status::Failed(runtime_diagnostic(node, e.span, &e.message));
+                }
+            }
+            w.dedup();
+            self.warnings[i] = w;
+        }
+        count
+    }
+
+    /// Replace an input's value (SI) and mark what depends on it for
+    /// re-evaluation. Call [`Model::evaluate`] afterwards.
+    pub fn set_input(&mut self, name: &str, si_value: f64) -> Result<(), String> {
+        let i = self.input_index(name)?;
+        if !matches!(self.checked.nodes[i].ty, Ty::Num(_)) {
+            return Err(format!("input `{name}` is not a number"));
+        }
+        if !si_value.is_finite() {
+            return Err(format!("input `{name}`: the value must be a finite number"));
+        }
+        self.checked.nodes[i].code = Code::Const(si_value);
+        graph::mark_downstream(&self.users, i, &mut self.dirty);
+        Ok(())
+    }
+
+    /// Replace an input's value from text such as `8 barg`, checked against
+    /// the input's quantity. Errors are worded for a command line.
+    pub fn set_input_text(&mut self, name: &str, text: &str) -> Result<(), String> {
+        let i = self.input_index(name)?;
+        let expr = sheaf_grammar::parse_expr(text).map_err(|e| format!("`{name}={text}`: {}", e.message))?;
+        let (ty, code) = check::check_standalone(&expr, text).map_err(|ds| {
+            let msgs: Vec<String> = ds.into_iter().map(|d| {
+                let mut m = d.message;
+                for n in d.notes { m.push_str(&format!(" ({n})")); }
+                m
+            }).collect();
+            format!("`{name}={text}`: {}", msgs.join("; "))
+        })?;
+        let want = self.checked.nodes[i].ty;
+        let si = check::const_value(&code);
+        match (want, ty, si) {
+            (Ty::Num(w), Ty::Num(g), Some(v)) if compatible(w, g) => self.set_input(name, v),
+            (Ty::Num(w), Ty::Num(g), Some(_)) => Err(format!(
+                "`{name}={text}`: `{name}` is {}, but the new value is {}",
+                describe_qty(w),
+                describe_qty(g)
+            )),
+            (Ty::Num(_), _, _) => Err(format!("`{name}={text}`: the value must be a number with a unit")),
+            _ => Err(format!("input `{name}` is not a number and cannot be set from the command line")),
+        }
+    }
+
+    fn input_index(&self, name: &str) -> Result<usize, String> {
+        match self.node_index(name) {
+            Some(i) if self.checked.nodes[i].kind == NodeKind::Input => Ok(i),
+            Some(_) => Err(format!("`{name}` is computed, not an input; only inputs can be set")),
+            None => {
+                let inputs: Vec<&str> = self
+                    .checked
+                    .nodes
+                    .iter()
+                    .filter(|n| n.kind == NodeKind::Input)
+                    .filter_map(|n| n.name.as_ref().map(|n| n.name.as_str()))
+                    .collect();
+                Err(format!("no input named `{name}`; the inputs are: {}", inputs.join(", ")))
+            }
+        }
+    }
+
+    /// Errors met during evaluation, in file order.
+    pub fn runtime_errors(&self) -> Vec<Diagnostic> {
+        let mut v: Vec<Diagnostic> = self
+            .status
+            .iter()
+            .filter_map(|s| match s {
+                Status::Failed(d) => Some(d.clone()),
+                _ => None,
+            })
+            .collect();
+        v.sort_by_key(|d| d.span().map_or(0, |s| s.start));
+        v
+    }
+
+    /// The display unit chosen for a node.
+    pub fn display(&self, node: usize) -> &DisplayUnit {
+        &self.checked.nodes[node].display
+    }
+}
+
+fn compatible(want: QTy, got: QTy) -> bool {
+    want.dim == got.dim
+        && !matches!(
+            (want.aff, got.aff),
+            (Affinity::Absolute, Affinity::Difference) | (Affinity::Difference, Affinity::Absolute)
+        )
+}
+
+fn runtime_diagnostic(node: &Node, span: Span, message: &str) -> Diagnostic {
+    let what = match (&node.name, node.kind) {
+        (Some(n), _) => format!("cannot evaluate `{}`: {message}", n.name),
+        (None, _) => format!("cannot evaluate this check: {message}"),
+    };
+    Diagnostic::error(what, span)
+}

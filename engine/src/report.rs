@@ -1,0 +1,342 @@
+//! The results of a worksheet in display form: what `run` prints (text,
+//! json, markdown) and what the xlsx package lays out. Numbers are kept at
+//! full precision; rounding is the renderer's business.
+
+use serde::Serialize;
+use sheaf_grammar::{StatementKind, line_col};
+
+use crate::check::{DisplayUnit, NodeKind};
+use crate::eval::{Value, substance_field};
+use crate::model::{Model, Status};
+use crate::thermo::{Field, Substance};
+use crate::types::Ty;
+use crate::units::{self, Affinity, Dim};
+
+/// The safety caution carried by every report and workbook.
+pub const CAUTION: &str = "Caution: sheaf is an engineering aid. Its results must be checked by a qualified \
+engineer and do not replace the design codes, standards and licensed practice in force where the \
+equipment is used.";
+
+/// Note printed once when gauge units are used.
+pub const GAUGE_NOTE: &str =
+    "Gauge pressures (barg, psig, kPag) are relative to the standard atmosphere, 101.325 kPa.";
+
+#[derive(Clone, Debug, Serialize)]
+pub struct Report {
+    pub title: Option<String>,
+    pub meta: Vec<(String, String)>,
+    pub blocks: Vec<Block>,
+    pub checks: Vec<CheckRow>,
+    pub warnings: Vec<String>,
+    /// Whether any gauge unit appears (the report then says what gauge means).
+    pub uses_gauge: bool,
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub enum Block {
+    Heading { level: u8, text: String },
+    Note(String),
+    Quantity(QuantityRow),
+    /// Index into `Report::checks`.
+    Check(usize),
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct QuantityRow {
+    pub name: String,
+    /// "input" or "computed".
+    pub kind: &'static str,
+    /// Value in the display unit (None: not a number, or not evaluated).
+    pub value: Option<f64>,
+    pub unit: String,
+    pub si_value: Option<f64>,
+    pub si_unit: String,
+    pub description: Option<String>,
+    /// 1-based line of the statement.
+    pub line: usize,
+    /// For values that are not numbers: what they are ("ideal gas air").
+    pub text: Option<String>,
+    /// Why there is no value ("not evaluated: ..."), if so.
+    pub problem: Option<String>,
+    /// States and substances: their fields as `name.field` rows.
+    pub fields: Vec<QuantityRow>,
+    pub node: usize,
+}
+
+#[derive(Clone, Debug, Serialize)]
+pub struct CheckRow {
+    pub line: usize,
+    /// The comparison as written.
+    pub text: String,
+    /// None when it could not be evaluated.
+    pub passed: Option<bool>,
+    pub description: Option<String>,
+    /// Both sides, formatted with 4 significant figures in a common unit.
+    pub left: Option<String>,
+    pub right: Option<String>,
+    pub node: usize,
+}
+
+impl QuantityRow {
+    /// This row and, for states and substances, their fields, flattened as
+    /// the json output lists them.
+    pub fn flatten(&self) -> Vec<&QuantityRow> {
+        if self.fields.is_empty() {
+            vec![self]
+        } else {
+            self.fields.iter().collect()
+        }
+    }
+}
+
+/// Shown value and unit text for an SI value under a display unit.
+pub fn shown(display: &DisplayUnit, dim: Dim, si: f64) -> (f64, String) {
+    match display {
+        DisplayUnit::Fixed { unit, text } => (unit.from_si(si), text.clone()),
+        DisplayUnit::Auto => units::auto_display(dim, si),
+    }
+}
+
+fn number_row(name: String, kind: &'static str, display: &DisplayUnit, dim: Dim, si: Option<f64>, line: usize, node: usize) -> QuantityRow {
+    let (value, unit) = match si {
+        Some(x) => {
+            let (v, u) = shown(display, dim, x);
+            (Some(v), u)
+        }
+        None => (None, match display {
+            DisplayUnit::Fixed { text, .. } => text.clone(),
+            DisplayUnit::Auto => units::si_unit(dim),
+        }),
+    };
+    QuantityRow {
+        name,
+        kind,
+        value,
+        unit,
+        si_value: si,
+        si_unit: units::si_unit(dim),
+        description: None,
+        line,
+        text: None,
+        problem: None,
+        fields: Vec::new(),
+        node,
+    }
+}
+
+fn field_dim(f: Field) -> Dim {
+    match crate::check::field_type(f) {
+        Ty::Num(q) => q.dim,
+        _ => Dim::NONE,
+    }
+}
+
+/// Fields listed for a state in reports.
+const STATE_FIELDS: [Field; 11] = Field::ALL;
+
+impl Model {
+    /// Build the report of the current values.
+    pub fn report(&self) -> Report {
+        let src = self.source();
+        let ws = self.worksheet();
+        let mut node_of_stmt = vec![None; ws.statements.len()];
+        for (i, n) in self.nodes().iter().enumerate() {
+            node_of_stmt[n.stmt] = Some(i);
+        }
+        let mut r = Report {
+            title: None,
+            meta: Vec::new(),
+            blocks: Vec::new(),
+            checks: Vec::new(),
+            warnings: Vec::new(),
+            uses_gauge: ["barg", "psig", "kPag"].iter().any(|g| src.contains(g)),
+        };
+        for (si, stmt) in ws.statements.iter().enumerate() {
+            let line = line_col(src, stmt.span.start).0;
+            match &stmt.kind {
+                StatementKind::Heading { level, text } => {
+                    if *level == 1 && r.title.is_none() {
+                        r.title = Some(text.clone());
+                    }
+                    r.blocks.push(Block::Heading {
+                        level: *level,
+                        text: text.clone(),
+                    });
+                }
+                StatementKind::Note { text } => r.blocks.push(Block::Note(text.clone())),
+                StatementKind::Meta { key, value } => r.meta.push((key.name.clone(), value.value.clone())),
+                StatementKind::Input { .. } | StatementKind::Define { .. } => {
+                    let Some(i) = node_of_stmt[si] else { continue };
+                    r.blocks.push(Block::Quantity(self.quantity_row(i, line)));
+                }
+                StatementKind::Check { .. } => {
+                    let Some(i) = node_of_stmt[si] else { continue };
+                    r.blocks.push(Block::Check(r.checks.len()));
+                    r.checks.push(self.check_row(i, line));
+                }
+                StatementKind::Comment { .. } | StatementKind::Blank => {}
+            }
+        }
+        for &i in self.order() {
+            for w in self.warnings(i) {
+                let name = self.nodes()[i].name.as_ref().map_or("check".to_string(), |n| n.name.clone());
+                let line = line_col(src, self.nodes()[i].expr_span.start).0;
+                let msg = format!("line {line}, `{name}`: {w}");
+                if !r.warnings.contains(&msg) {
+                    r.warnings.push(msg);
+                }
+            }
+        }
+        r
+    }
+
+    fn quantity_row(&self, i: usize, line: usize) -> QuantityRow {
+        let node = &self.nodes()[i];
+        let name = node.name.as_ref().map_or(String::new(), |n| n.name.clone());
+        let kind = if node.kind == NodeKind::Input { "input" } else { "computed" };
+        let problem = match self.status(i) {
+            Status::Ok => None,
+            Status::Pending => Some("not evaluated".to_string()),
+            Status::Skipped => Some("not evaluated: a value it depends on failed".to_string()),
+            Status::Failed(d) => Some(d.message.clone()),
+        };
+        let mut row = match (node.ty, self.value(i)) {
+            (Ty::Num(q), v) => number_row(name.clone(), kind, &node.display, q.dim, v.as_num(), line, i),
+            (_, Value::State(sv)) => {
+                let mut row = number_row(name.clone(), kind, &DisplayUnit::Auto, Dim::NONE, None, line, i);
+                row.text = Some(format!("state of {}", sv.sub));
+                row.si_unit = String::new();
+                row.unit = String::new();
+                for f in STATE_FIELDS {
+                    if let Some(x) = sv.st.get(f) {
+                        let fname = format!("{name}.{}", f.name());
+                        let mut fr = number_row(fname, kind, &DisplayUnit::Auto, field_dim(f), Some(x), line, i);
+                        fr.description = Some(field_words(f).to_string());
+                        row.fields.push(fr);
+                    }
+                }
+                row
+            }
+            (_, Value::Substance(sub)) => {
+                let mut row = number_row(name.clone(), kind, &DisplayUnit::Auto, Dim::NONE, None, line, i);
+                row.text = Some(sub.to_string());
+                row.si_unit = String::new();
+                row.unit = String::new();
+                for (fname, dim, x, words) in substance_fields(sub) {
+                    let mut fr = number_row(format!("{name}.{fname}"), kind, &DisplayUnit::Auto, dim, Some(x), line, i);
+                    fr.description = Some(words.to_string());
+                    row.fields.push(fr);
+                }
+                row
+            }
+            (ty, v) => {
+                let mut row = number_row(name.clone(), kind, &DisplayUnit::Auto, Dim::NONE, None, line, i);
+                row.text = Some(match v {
+                    Value::Str(s) => format!("\"{s}\""),
+                    Value::Bool(b) => b.to_string(),
+                    _ => ty.describe(),
+                });
+                row.unit = String::new();
+                row.si_unit = String::new();
+                row
+            }
+        };
+        row.description = node.description.clone();
+        row.problem = problem;
+        row
+    }
+
+    fn check_row(&self, i: usize, line: usize) -> CheckRow {
+        let node = &self.nodes()[i];
+        let src = self.source();
+        let passed = match self.value(i) {
+            Value::Bool(b) => Some(*b),
+            _ => None,
+        };
+        let (mut left, mut right) = (None, None);
+        if let Some(StatementKind::Check { left: l, right: rt, .. }) =
+            self.worksheet().statements.get(node.stmt).map(|s| &s.kind)
+            && let (crate::eval::Code::Cmp(_, lc, rc), Some(_)) = (&node.code, passed)
+        {
+            let mut w = Vec::new();
+            let lv = crate::eval::eval(lc, self.values(), node.expr_span, &mut w).ok().and_then(|v| v.as_num());
+            let rv = crate::eval::eval(rc, self.values(), node.expr_span, &mut w).ok().and_then(|v| v.as_num());
+            // Show both sides in the unit written on the right (or the left).
+            let unit_src = [rt, l].into_iter().find_map(|e| match &e.kind {
+                sheaf_grammar::ExprKind::Number { unit: Some(u), .. } => Some(u),
+                _ => None,
+            });
+            let display = unit_src
+                .and_then(|u| units::resolve(u).ok().map(|unit| DisplayUnit::Fixed {
+                    unit,
+                    text: crate::check::normalise_unit_text(u.span.slice(src)),
+                }))
+                .or_else(|| {
+                    [l, rt].into_iter().find_map(|e| match &e.kind {
+                        sheaf_grammar::ExprKind::Name(n) => self.node_index(n).map(|j| self.display(j).clone()),
+                        _ => None,
+                    })
+                })
+                .unwrap_or(DisplayUnit::Auto);
+            if let (Some(lv), Some(rv)) = (lv, rv) {
+                let dim = node.operand.map_or(Dim::NONE, |q| q.dim);
+                let fmt = |x: f64| {
+                    let (v, u) = match (&display, dim == Dim::NONE) {
+                        (DisplayUnit::Fixed { .. }, _) => shown(&display, dim, x),
+                        (DisplayUnit::Auto, true) => (x, String::new()),
+                        (DisplayUnit::Auto, false) => units::auto_display(dim, x),
+                    };
+                    if u.is_empty() { units::format_sig(v, 4) } else { format!("{} {u}", units::format_sig(v, 4)) }
+                };
+                left = Some(fmt(lv));
+                right = Some(fmt(rv));
+            }
+        }
+        CheckRow {
+            line,
+            text: node.expr_span.slice(src).to_string(),
+            passed,
+            description: node.description.clone(),
+            left,
+            right,
+            node: i,
+        }
+    }
+}
+
+/// Words for a state field.
+pub fn field_words(f: Field) -> &'static str {
+    match f {
+        Field::T => "temperature",
+        Field::P => "pressure",
+        Field::H => "specific enthalpy",
+        Field::U => "specific internal energy",
+        Field::S => "specific entropy",
+        Field::V => "specific volume",
+        Field::Rho => "density",
+        Field::Cp => "isobaric specific heat",
+        Field::Cv => "isochoric specific heat",
+        Field::K => "ratio of specific heats",
+        Field::X => "vapour quality",
+    }
+}
+
+/// Fields listed for a substance: (name, dimension, SI value, words).
+pub fn substance_fields(sub: &Substance) -> Vec<(&'static str, Dim, f64, &'static str)> {
+    let mut out = Vec::new();
+    if let Some(r) = sub.gas_constant() {
+        out.push(("R", Dim::SPECIFIC_ENTROPY, r, "specific gas constant"));
+    }
+    for f in [Field::Cp, Field::Cv, Field::K, Field::Rho] {
+        if let Some(x) = substance_field(sub, f) {
+            out.push((f.name(), field_dim(f), x, field_words(f)));
+        }
+    }
+    out
+}
+
+/// Whether a value's affinity makes it an absolute reading (for renderers
+/// that want to say so).
+pub fn is_absolute(ty: Ty) -> bool {
+    matches!(ty, Ty::Num(q) if q.aff == Affinity::Absolute)
+}

@@ -1,0 +1,83 @@
+//! Static types of worksheet values, inferred by the checker before any
+//! evaluation.
+
+use crate::thermo::ModelKind;
+use crate::units::{self, Affinity, Dim};
+
+/// The type of a number: its dimension and whether it is an absolute value
+/// (a temperature or gauge pressure written with an offset unit), a
+/// difference, or neutral (usable as either).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub struct QTy {
+    pub dim: Dim,
+    pub aff: Affinity,
+}
+
+impl QTy {
+    pub const DIMENSIONLESS: QTy = QTy {
+        dim: Dim::NONE,
+        aff: Affinity::Neutral,
+    };
+    pub fn neutral(dim: Dim) -> QTy {
+        QTy {
+            dim,
+            aff: Affinity::Neutral,
+        }
+    }
+    pub fn absolute(dim: Dim) -> QTy {
+        QTy {
+            dim,
+            aff: Affinity::Absolute,
+        }
+    }
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Ty {
+    Num(QTy),
+    Bool,
+    Str,
+    Substance(ModelKind),
+    State(ModelKind),
+    /// The type of something that failed to check; suppresses follow-on
+    /// errors.
+    Error,
+}
+
+impl Ty {
+    pub fn num(dim: Dim) -> Ty {
+        Ty::Num(QTy::neutral(dim))
+    }
+
+    /// Words for messages: "pressure (Pa)", "an absolute temperature (K)",
+    /// "a state of ideal gas".
+    pub fn describe(&self) -> String {
+        match self {
+            Ty::Num(q) => describe_qty(*q),
+            Ty::Bool => "a true/false value".into(),
+            Ty::Str => "a string".into(),
+            Ty::Substance(k) => format!("a substance ({})", k.describe()),
+            Ty::State(k) => format!("a state of {}", k.describe()),
+            Ty::Error => "an erroneous value".into(),
+        }
+    }
+}
+
+/// "pressure (Pa)", "temperature difference (K)", "dimensionless number".
+pub fn describe_qty(q: QTy) -> String {
+    if q.dim.is_none() {
+        return "a dimensionless number".into();
+    }
+    let name = units::quantity_name(q.dim);
+    let unit = units::si_unit(q.dim);
+    let qual = match q.aff {
+        Affinity::Neutral => "",
+        Affinity::Absolute => "absolute ",
+        Affinity::Difference => "",
+    };
+    let suffix = match q.aff {
+        Affinity::Difference => " difference",
+        _ => "",
+    };
+    format!("{qual}{name}{suffix} ({unit})")
+}
