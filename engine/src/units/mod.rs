@@ -365,7 +365,11 @@ pub fn suggest(symbol: &str) -> Option<String> {
         ("BTU", "Btu"),
         ("HP", "hp"),
         ("RPM", "rpm"),
-        ("mile", "mi"),
+        ("tonne", "t"),
+        ("litre", "L"),
+        ("liter", "L"),
+        ("mins", "min"),
+        ("kWhr", "kWh"),
     ];
     if let Some((_, to)) = HINTS.iter().find(|(from, _)| *from == symbol) {
         return Some((*to).to_string());

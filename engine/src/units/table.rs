@@ -217,6 +217,9 @@ fn row(symbol: &'static str, name: &'static str, dim: Dim, factor: f64) -> B {
 impl B {
     fn prefixable(mut self) -> B {
         self.e.prefixable = true;
+        if self.e.note.is_empty() {
+            self.e.note = "takes SI prefixes";
+        }
         self
     }
     fn aliases(mut self, a: &'static [&'static str]) -> B {
@@ -317,6 +320,9 @@ fn build() -> Vec<Entry> {
         row("mmHg", "millimetre of mercury (conventional)", P, c::<pr::millimeter_of_mercury>()),
         row("inH2O", "inch of water (conventional)", P, c::<pr::inch_of_water>())
             .note("conventional: 0.0254 m x 1000 kg/m^3 x 9.80665 m/s^2"),
+        row("inHg", "inch of mercury (conventional)", P, c::<pr::inch_of_mercury>()),
+        row("mmH2O", "millimetre of water (conventional)", P, c::<pr::millimeter_of_water>())
+            .note("conventional: 0.001 m x 1000 kg/m^3 x 9.80665 m/s^2"),
         row("torr", "torr", P, c::<pr::torr>()).aliases(&["Torr"]),
         row("barg", "bar, gauge", P, c::<pr::bar>())
             .offset(atm, Affinity::Absolute)
@@ -351,9 +357,9 @@ fn build() -> Vec<Entry> {
             .note("550 ft lbf/s"),
         // volume
         row("L", "litre", V, c::<volume::liter>())
+            .note("also l; 0.001 m^3; takes SI prefixes")
             .prefixable()
-            .aliases(&["l"])
-            .note("also l; 0.001 m^3"),
+            .aliases(&["l"]),
         row("mL", "millilitre", V, c::<volume::milliliter>()).aliases(&["ml"]),
         row("gal", "gallon (US liquid)", V, c::<volume::gallon>()),
         // frequency and rotational speed

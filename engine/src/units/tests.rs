@@ -205,6 +205,23 @@ fn mmhg_atm_torr_nist() {
 }
 
 #[test]
+fn manometer_units() {
+    // NIST SP 811 (2008) B.8 (from memory): inch of mercury, conventional
+    // = 3.386 389 E+03 Pa; millimeter of water, conventional = 9.806 65 E+00
+    // Pa exactly (0.001 m x 1000 kg/m^3 x g_n).
+    close(u("inHg").factor, 3386.389, 0.000_5, "inHg");
+    close(u("mmH2O").factor, 9.806_65, 1e-12, "mmH2O");
+    // Conventional inch of mercury = 25.4 mmHg (both conventional, so this
+    // is a definition; tolerance: 7 digits printed for both factors).
+    close(
+        u("inHg").factor / u("mmHg").factor,
+        25.4,
+        25.4 * 5e-7,
+        "inHg/mmHg",
+    );
+}
+
+#[test]
 fn kcal_hp_gal_nist() {
     // NIST SP 811 (2008) B.8: kilocalorie (IT) = 4.1868 E+03 J exactly,
     // calorie (IT) = 4.1868 E+00 J exactly.
@@ -559,6 +576,10 @@ fn suggestions() {
     assert_eq!(suggest("kW h").as_deref(), Some("kWh"));
     assert_eq!(suggest("barr").as_deref(), Some("bar"));
     assert_eq!(suggest("psigg").as_deref(), Some("psig"));
+    assert_eq!(suggest("tonne").as_deref(), Some("t"));
+    assert_eq!(suggest("litre").as_deref(), Some("L"));
+    assert_eq!(suggest("kj").as_deref(), Some("kJ"));
+    assert_eq!(suggest("mw").as_deref(), Some("MW"));
     assert_eq!(suggest("x"), None);
     assert_eq!(suggest("xyzzy"), None);
     assert_eq!(suggest(""), None);
@@ -714,5 +735,51 @@ fn format_sig_cases() {
     ];
     for &(v, sig, want) in cases {
         assert_eq!(format_sig(v, sig), want, "format_sig({v}, {sig})");
+    }
+}
+
+// ----------------------------------------------------------- properties
+
+mod props {
+    use super::*;
+    use proptest::prelude::*;
+
+    proptest! {
+        /// format_sig keeps `sig` significant figures: the text parses back
+        /// to the value within half a unit in the last kept digit, uses the
+        /// exponent form exactly outside [1e-3, 1e6), and never prints -0.
+        #[test]
+        fn format_sig_round_trips(
+            mant in 1.0f64..10.0,
+            exp in -12i32..12,
+            neg in any::<bool>(),
+            sig in 1usize..10,
+        ) {
+            let v = if neg { -mant } else { mant } * 10f64.powi(exp);
+            let s = format_sig(v, sig);
+            let back: f64 = s.parse().unwrap();
+            let tol = v.abs() * 0.5 * 10f64.powi(1 - sig as i32) * (1.0 + 1e-9);
+            prop_assert!((back - v).abs() <= tol, "{v} {sig} -> {s}");
+            prop_assert!(s != "-0");
+            let a = back.abs();
+            prop_assert_eq!(s.contains('e'), !(1e-3..1e6).contains(&a), "{}", s);
+            let mantissa = s.split('e').next().unwrap_or("");
+            if mantissa.contains('.') {
+                prop_assert!(!mantissa.ends_with('0') && !mantissa.ends_with('.'), "{}", s);
+            }
+        }
+
+        /// auto_display puts prefixable quantities in [1, 1000) inside the
+        /// micro..giga range, and the unit text converts the value back.
+        #[test]
+        fn auto_display_in_range(mant in 1.0f64..10.0, exp in -5i32..11, neg in any::<bool>()) {
+            let si = if neg { -mant } else { mant } * 10f64.powi(exp);
+            for d in [Dim::PRESSURE, Dim::ENERGY, Dim::POWER, Dim::SPECIFIC_ENERGY, Dim::LENGTH] {
+                let (v, text) = auto_display(d, si);
+                prop_assert!((1.0..1000.0).contains(&v.abs()), "{si} -> {v} {text}");
+                let r = res(&text).unwrap();
+                prop_assert!((r.to_si(v) - si).abs() <= si.abs() * 1e-14);
+            }
+        }
     }
 }
