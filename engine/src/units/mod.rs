@@ -285,7 +285,11 @@ fn combine(u: &UnitExpr, depth: usize) -> Result<(f64, Dim), UnitError> {
         }
     };
     if !factor.is_finite() || factor == 0.0 {
-        return Err(overflow(u.span));
+        return Err(UnitError {
+            span: u.span,
+            message: "unit too large or too small to represent".into(),
+            suggestion: None,
+        });
     }
     Ok((factor, dim))
 }
