@@ -81,6 +81,8 @@ const KNOWN: &[Known] = &[
         "m^2/s",
         false,
     ),
+    k([0, 0, 0, 0, 0, 1, 0], "electric current", "A", true),
+    k([0, 0, 0, 0, 0, 0, 1], "luminous intensity", "cd", false),
 ];
 
 fn known(dim: Dim) -> Option<&'static Known> {

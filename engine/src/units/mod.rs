@@ -194,7 +194,7 @@ pub struct UnitError {
 /// `degC`, `°C`, `barg`). A symbol that is itself in the table (`min`,
 /// `mm`, `ft`) resolves as itself before any prefix is tried; prefixes
 /// apply only to the SI/metric units (m, g, s, Pa, J, W, N, L, mol, Hz,
-/// bar, Wh).
+/// bar, Wh, A).
 pub fn lookup(symbol: &str) -> Option<Unit> {
     let (e, exp) = table::find_prefixed(symbol)?;
     Some(Unit {

@@ -369,6 +369,11 @@ fn build() -> Vec<Entry> {
         // angle (dimensionless)
         row("rad", "radian", NONE, c::<angle::radian>()),
         row("deg", "degree (angle)", NONE, c::<angle::degree>()).aliases(&["°"]).note("pi/180"),
+        // the other two SI base units, so that every base-symbol text
+        // (`Dim::base_symbol`) resolves
+        row("A", "ampere", Dim([0, 0, 0, 0, 0, 1, 0]), c::<uom::si::electric_current::ampere>())
+            .prefixable(),
+        row("cd", "candela", Dim([0, 0, 0, 0, 0, 0, 1]), c::<uom::si::luminous_intensity::candela>()),
         // dimensionless ratios
         row("%", "percent", NONE, c::<ratio::percent>()),
         row("ppm", "part per million", NONE, c::<ratio::part_per_million>()),

@@ -636,6 +636,16 @@ fn si_units() {
     for (d, s) in cases {
         assert_eq!(si_unit(d), s);
     }
+    // Base-symbol fallback texts resolve too (A and cd are in the table).
+    for d in [
+        Dim([1, 0, 0, 0, 0, 1, 0]),
+        Dim([-2, -1, 3, 0, 0, 2, 0]),
+        Dim([0, 0, 0, 0, 0, 0, 1]),
+        Dim([2, 1, -3, 0, 0, -1, 0]),
+    ] {
+        let r = res(&si_unit(d)).unwrap();
+        assert_eq!((r.dim, r.factor), (d, 1.0), "{}", si_unit(d));
+    }
 }
 
 /// Every dimension `si_unit`/`auto_display` name: the text resolves back
