@@ -13,12 +13,22 @@
 //!   dimension and value;
 //! - [`quantity_name`]: "pressure", "specific entropy", ... for messages;
 //! - [`format_sig`]: significant-figure formatting;
-//! - [`catalogue`]: the table, for `sheaf units`.
+//! - [`catalogue`], [`search`], [`suggest`]: the table, for `sheaf units`
+//!   and "did you mean" hints.
 
 use std::fmt;
 use std::ops::{Div, Mul};
 
-use sheaf_grammar::{Span, UnitExpr};
+use sheaf_grammar::{Span, UnitExpr, UnitKind};
+
+mod display;
+mod format;
+mod table;
+#[cfg(test)]
+mod tests;
+
+pub use display::{auto_display, quantity_name, si_unit};
+pub use format::format_sig;
 
 /// Number of base quantities: length, mass, time, temperature, amount,
 /// electric current, luminous intensity.
@@ -93,7 +103,11 @@ impl Dim {
                 e => den.push(format!("{sym}^{}", -e)),
             }
         }
-        let n = if num.is_empty() { "1".to_string() } else { num.join(" ") };
+        let n = if num.is_empty() {
+            "1".to_string()
+        } else {
+            num.join(" ")
+        };
         match den.len() {
             0 if num.is_empty() => String::new(),
             0 => n,
@@ -128,7 +142,11 @@ impl Div for Dim {
 impl fmt::Display for Dim {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         let s = self.base_symbol();
-        if s.is_empty() { f.write_str("1") } else { f.write_str(&s) }
+        if s.is_empty() {
+            f.write_str("1")
+        } else {
+            f.write_str(&s)
+        }
     }
 }
 
@@ -173,41 +191,211 @@ pub struct UnitError {
 }
 
 /// Look up one unit symbol, with an optional SI prefix (`kJ`, `MPa`,
-/// `degC`, `°C`, `barg`).
-pub fn lookup(_symbol: &str) -> Option<Unit> {
-    None
+/// `degC`, `°C`, `barg`). A symbol that is itself in the table (`min`,
+/// `mm`, `ft`) resolves as itself before any prefix is tried; prefixes
+/// apply only to the SI/metric units (m, g, s, Pa, J, W, N, L, mol, Hz,
+/// bar, Wh, A).
+pub fn lookup(symbol: &str) -> Option<Unit> {
+    let (e, exp) = table::find_prefixed(symbol)?;
+    Some(Unit {
+        factor: table::scale_pow10(e.factor, exp),
+        offset: e.offset,
+        dim: e.dim,
+        affinity: e.affinity,
+    })
 }
 
 /// Resolve a parsed unit expression. An offset unit keeps its offset only
 /// when it stands alone; inside a compound (`kJ/(kg degC)`) it acts as its
 /// difference unit.
 pub fn resolve(u: &UnitExpr) -> Result<Unit, UnitError> {
-    Err(UnitError {
-        span: u.span,
-        message: "units not yet available".into(),
-        suggestion: None,
+    match &u.kind {
+        UnitKind::Atom(sym) => atom(sym, u.span),
+        _ => {
+            let (factor, dim) = combine(u, 0)?;
+            Ok(Unit {
+                factor,
+                offset: 0.0,
+                dim,
+                affinity: Affinity::Neutral,
+            })
+        }
+    }
+}
+
+/// Deepest unit expression accepted (the parser bounds nesting too; this
+/// keeps `resolve` safe on any tree).
+const MAX_UNIT_DEPTH: usize = 256;
+
+fn atom(sym: &str, span: Span) -> Result<Unit, UnitError> {
+    lookup(sym).ok_or_else(|| UnitError {
+        span,
+        message: format!("unknown unit `{sym}`"),
+        suggestion: suggest(sym),
     })
 }
 
-/// The coherent SI unit with an engineering prefix for showing `si` of
-/// dimension `dim`: returns (value in that unit, unit text).
-pub fn auto_display(dim: Dim, si: f64) -> (f64, String) {
-    (si, dim.base_symbol())
+fn checked_mul_dim(a: Dim, b: Dim, sign: i8) -> Option<Dim> {
+    let mut out = a.0;
+    for (o, e) in out.iter_mut().zip(b.0) {
+        *o = o.checked_add(e.checked_mul(sign)?)?;
+    }
+    Some(Dim(out))
 }
 
-/// The coherent SI unit text for a dimension (`Pa`, `J/kg`, `J/(kg K)`).
-pub fn si_unit(dim: Dim) -> String {
-    dim.base_symbol()
+fn overflow(span: Span) -> UnitError {
+    UnitError {
+        span,
+        message: "unit exponent out of range".into(),
+        suggestion: None,
+    }
 }
 
-/// Name of the quantity in words, e.g. "pressure"; falls back to
-/// "quantity of dimension kg/(m s^2)".
-pub fn quantity_name(dim: Dim) -> String {
-    format!("quantity of dimension {dim}")
+/// Factor and dimension of a unit used as part of a compound: offsets are
+/// dropped (a `degC` inside `kJ/(kg degC)` is a kelvin-sized step).
+fn combine(u: &UnitExpr, depth: usize) -> Result<(f64, Dim), UnitError> {
+    if depth > MAX_UNIT_DEPTH {
+        return Err(UnitError {
+            span: u.span,
+            message: "unit expression nested too deeply".into(),
+            suggestion: None,
+        });
+    }
+    let (factor, dim) = match &u.kind {
+        UnitKind::Atom(sym) => {
+            let a = atom(sym, u.span)?;
+            (a.factor, a.dim)
+        }
+        UnitKind::One => (1.0, Dim::NONE),
+        UnitKind::Mul(a, b) | UnitKind::Div(a, b) => {
+            let (fa, da) = combine(a, depth + 1)?;
+            let (fb, db) = combine(b, depth + 1)?;
+            if matches!(u.kind, UnitKind::Mul(..)) {
+                let d = checked_mul_dim(da, db, 1).ok_or_else(|| overflow(u.span))?;
+                (fa * fb, d)
+            } else {
+                let d = checked_mul_dim(da, db, -1).ok_or_else(|| overflow(u.span))?;
+                (fa / fb, d)
+            }
+        }
+        UnitKind::Pow(base, n) => {
+            let (fb, db) = combine(base, depth + 1)?;
+            let d = db.powi(*n).ok_or_else(|| overflow(u.span))?;
+            (fb.powi(*n), d)
+        }
+    };
+    if !factor.is_finite() || factor == 0.0 {
+        return Err(UnitError {
+            span: u.span,
+            message: "unit too large or too small to represent".into(),
+            suggestion: None,
+        });
+    }
+    Ok((factor, dim))
 }
 
-/// Format with `sig` significant figures, plain decimal for moderate
-/// magnitudes, exponent form otherwise.
-pub fn format_sig(v: f64, sig: usize) -> String {
-    format!("{v:.sig$}")
+/// One row of the unit catalogue, for `sheaf units [WORD]`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct UnitInfo {
+    pub symbol: &'static str,
+    pub name: &'static str,
+    /// The quantity in words ("pressure").
+    pub quantity: String,
+    /// `si = value * factor + offset`.
+    pub factor: f64,
+    pub offset: f64,
+    /// Other spellings, gauge/absolute, where the factor is defined.
+    pub note: &'static str,
+}
+
+/// Every unit in the table (without the generated prefixed forms; rows
+/// that take SI prefixes say so in `note` or via [`takes_prefixes`]).
+pub fn catalogue() -> Vec<UnitInfo> {
+    table::entries()
+        .iter()
+        .map(|e| UnitInfo {
+            symbol: e.symbol,
+            name: e.name,
+            quantity: quantity_name(e.dim),
+            factor: e.factor,
+            offset: e.offset,
+            note: e.note,
+        })
+        .collect()
+}
+
+/// Whether a catalogue symbol accepts SI prefixes (`Pa` -> `kPa`).
+pub fn takes_prefixes(symbol: &str) -> bool {
+    table::find(symbol).is_some_and(|e| e.prefixable)
+}
+
+/// Catalogue rows whose symbol, name or quantity contains `word`
+/// (case-insensitive). An empty word gives the whole catalogue.
+pub fn search(word: &str) -> Vec<UnitInfo> {
+    let w = word.to_lowercase();
+    catalogue()
+        .into_iter()
+        .filter(|u| {
+            u.symbol.to_lowercase().contains(&w)
+                || u.name.to_lowercase().contains(&w)
+                || u.quantity.to_lowercase().contains(&w)
+                || table::find(u.symbol)
+                    .is_some_and(|e| e.aliases.iter().any(|a| a.to_lowercase().contains(&w)))
+        })
+        .collect()
+}
+
+/// The closest known symbol to an unknown one (`kpa` -> `kPa`,
+/// `degc` -> `degC`), or `None` when nothing is close.
+pub fn suggest(symbol: &str) -> Option<String> {
+    if symbol.is_empty() {
+        return None;
+    }
+    // Common spellings that are not close by edit distance.
+    const HINTS: &[(&str, &str)] = &[
+        ("C", "degC"),
+        ("F", "degF"),
+        ("R", "degR"),
+        ("°K", "K"),
+        ("degK", "K"),
+        ("deg_C", "degC"),
+        ("deg_F", "degF"),
+        ("sec", "s"),
+        ("hr", "h"),
+        ("hrs", "h"),
+        ("lbs", "lb"),
+        ("kgs", "kg"),
+        ("bara", "bar"),
+        ("BTU", "Btu"),
+        ("HP", "hp"),
+        ("RPM", "rpm"),
+        ("tonne", "t"),
+        ("litre", "L"),
+        ("liter", "L"),
+        ("mins", "min"),
+        ("kWhr", "kWh"),
+    ];
+    if let Some((_, to)) = HINTS.iter().find(|(from, _)| *from == symbol) {
+        return Some((*to).to_string());
+    }
+    let candidates = table::suggestion_candidates();
+    // Same letters, other case: the usual slip (`kpa`, `KPa`, `degc`).
+    let lower = symbol.to_lowercase();
+    if let Some(c) = candidates.iter().find(|c| c.to_lowercase() == lower) {
+        return Some(c.clone());
+    }
+    // Edit distance allowed grows with length: a one-letter typo is close
+    // to every one-letter unit, so only case slips count there.
+    let limit = match symbol.chars().count() {
+        0..=1 => 0,
+        2..=3 => 1,
+        4..=6 => 2,
+        _ => 3,
+    };
+    candidates
+        .iter()
+        .map(|c| (strsim::damerau_levenshtein(symbol, c), c))
+        .filter(|(d, _)| *d <= limit)
+        .min_by_key(|(d, _)| *d)
+        .map(|(_, c)| c.clone())
 }

@@ -1,0 +1,66 @@
+//! Significant-figure number formatting.
+
+/// Format with `sig` significant figures (at least 1): plain decimal when
+/// 1e-3 <= |v| < 1e6 after rounding, trailing zeros after the point
+/// stripped ("101.4", "0.8", "3232", "123500"); exponent form otherwise
+/// ("1.235e-5", "4.5e9"). Zero (and anything that rounds to it) is "0",
+/// never "-0"; non-finite values print as "NaN", "inf", "-inf".
+pub fn format_sig(v: f64, sig: usize) -> String {
+    if v.is_nan() {
+        return "NaN".into();
+    }
+    if v.is_infinite() {
+        return if v > 0.0 { "inf".into() } else { "-inf".into() };
+    }
+    if v == 0.0 {
+        return "0".into();
+    }
+    // f64 carries at most 17 significant decimal digits.
+    let sig = sig.clamp(1, 17);
+    // Round once, in exponent form: mantissa digits and decimal exponent.
+    let e_form = format!("{:.*e}", sig - 1, v.abs());
+    let Some((mantissa, exp)) = e_form.split_once('e') else {
+        return e_form;
+    };
+    let Ok(exp) = exp.parse::<i32>() else {
+        return e_form;
+    };
+    let digits: String = mantissa.chars().filter(char::is_ascii_digit).collect();
+    if digits.chars().all(|c| c == '0') {
+        return "0".into();
+    }
+    let sign = if v < 0.0 { "-" } else { "" };
+    let body = if (-3..6).contains(&exp) {
+        plain(&digits, exp)
+    } else {
+        let m = strip_fraction_zeros(mantissa);
+        format!("{m}e{exp}")
+    };
+    format!("{sign}{body}")
+}
+
+/// Digits `d1 d2 d3 ...` meaning d1.d2d3... x 10^exp, as plain decimal.
+fn plain(digits: &str, exp: i32) -> String {
+    let n = digits.len() as i32;
+    let s = if exp < 0 {
+        let zeros = "0".repeat(usize::try_from(-exp - 1).unwrap_or(0));
+        format!("0.{zeros}{digits}")
+    } else if exp + 1 >= n {
+        let zeros = "0".repeat(usize::try_from(exp + 1 - n).unwrap_or(0));
+        format!("{digits}{zeros}")
+    } else {
+        let split = usize::try_from(exp + 1).unwrap_or(0);
+        let (int, frac) = digits.split_at(split);
+        format!("{int}.{frac}")
+    };
+    strip_fraction_zeros(&s)
+}
+
+/// "1.2300" -> "1.23", "4.000" -> "4", "120" -> "120".
+fn strip_fraction_zeros(s: &str) -> String {
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s.to_string()
+    }
+}
