@@ -172,7 +172,11 @@ pub(crate) fn parse_lines(src: &str) -> Result<Vec<ParsedLine>, Vec<ParseError>>
 }
 
 pub(crate) fn parse_expr(src: &str) -> Result<Expr, ParseError> {
-    prescan(src, 0, src, false)?;
+    let depth = prescan(src, 0, false)?;
+    with_stack(depth, Span::new(0, src.len()), || parse_expr_inner(src))
+}
+
+fn parse_expr_inner(src: &str) -> Result<Expr, ParseError> {
     let b = Builder { base: 0, src };
     let pairs = WsParser::parse(Rule::expr_only, src).map_err(|e| b.pest_error(e, Ctx::Expr, src))?;
     for p in pairs {
@@ -188,7 +192,11 @@ pub(crate) fn parse_expr(src: &str) -> Result<Expr, ParseError> {
 }
 
 pub(crate) fn parse_unit(src: &str) -> Result<UnitExpr, ParseError> {
-    prescan(src, 0, src, false)?;
+    let depth = prescan(src, 0, false)?;
+    with_stack(depth, Span::new(0, src.len()), || parse_unit_inner(src))
+}
+
+fn parse_unit_inner(src: &str) -> Result<UnitExpr, ParseError> {
     let b = Builder { base: 0, src };
     let pairs = WsParser::parse(Rule::unit_only, src).map_err(|e| b.pest_error(e, Ctx::Unit, src))?;
     for p in pairs {
@@ -264,8 +272,17 @@ fn parse_line(src: &str, norm: &str, l: Logical) -> Result<ParsedLine, ParseErro
         });
     }
 
-    prescan(text, l.start, src, true)?;
+    let depth = prescan(text, l.start, true)?;
+    with_stack(depth, span, || parse_statement(src, text, l.start, content, span))
+}
 
+fn parse_statement(
+    src: &str,
+    text: &str,
+    start: usize,
+    content: &str,
+    span: Span,
+) -> Result<ParsedLine, ParseError> {
     // Dispatch on the first word.
     let word_len = content
         .bytes()
@@ -290,10 +307,7 @@ fn parse_line(src: &str, norm: &str, l: Logical) -> Result<ParsedLine, ParseErro
         Ctx::Meta => Rule::stmt_meta,
         _ => Rule::stmt_define,
     };
-    let b = Builder {
-        base: l.start,
-        src,
-    };
+    let b = Builder { base: start, src };
     let pairs = WsParser::parse(rule, text).map_err(|e| b.pest_error(e, ctx, text))?;
     let Some(stmt) = pairs.into_iter().next() else {
         return Err(internal(span));
@@ -353,9 +367,9 @@ fn describe_char(c: char) -> String {
 /// Checks a statement line before pest sees it: characters that can never be
 /// valid, unterminated strings, and parenthesis depth (so that the grammar's
 /// recursion and the tree's depth stay bounded).
-fn prescan(text: &str, base: usize, src: &str, comments: bool) -> Result<(), ParseError> {
-    let _ = src;
+fn prescan(text: &str, base: usize, comments: bool) -> Result<usize, ParseError> {
     let mut depth = 0usize;
+    let mut max_depth = 0usize;
     let mut str_start: Option<usize> = None;
     let mut chars = text.char_indices().peekable();
     while let Some((i, c)) = chars.next() {
@@ -375,6 +389,7 @@ fn prescan(text: &str, base: usize, src: &str, comments: bool) -> Result<(), Par
             '/' if comments && matches!(chars.peek(), Some((_, '/'))) => break,
             '(' => {
                 depth += 1;
+                max_depth = max_depth.max(depth);
                 if depth > MAX_NESTING {
                     return Err(nesting_error(Span::new(base + i, base + i + 1)));
                 }
@@ -397,7 +412,34 @@ fn prescan(text: &str, base: usize, src: &str, comments: bool) -> Result<(), Par
             message: "unterminated string".into(),
         });
     }
-    Ok(())
+    Ok(max_depth)
+}
+
+/// Parenthesis depth up to which a line is parsed on the caller's stack.
+/// Deeper lines (at most `MAX_NESTING`, see [`prescan`]) are parsed on a
+/// helper thread with a stack sized for the depth: the grammar and the tree
+/// builder recurse once per parenthesis level, and an unoptimised build
+/// needs several KiB per level.
+const INLINE_DEPTH: usize = 8;
+
+fn with_stack<T: Send>(
+    depth: usize,
+    span: Span,
+    f: impl FnOnce() -> Result<T, ParseError> + Send,
+) -> Result<T, ParseError> {
+    if depth <= INLINE_DEPTH {
+        return f();
+    }
+    let size = (1 << 20) + depth * (64 << 10);
+    std::thread::scope(|s| {
+        match std::thread::Builder::new().stack_size(size).spawn_scoped(s, f) {
+            Ok(handle) => handle.join().unwrap_or_else(|_| Err(internal(span))),
+            Err(_) => Err(ParseError {
+                span,
+                message: "could not start a parser thread for this deeply nested line".into(),
+            }),
+        }
+    })
 }
 
 // ------------------------------------------------------------------ tree building
