@@ -1032,6 +1032,11 @@ fn found_at(text: &str, pos: usize) -> (Found, usize) {
             return (Found::Other(op.to_string()), 2);
         }
     }
+    if c == '"' {
+        let n = comment_start(rest.as_bytes()).unwrap_or(rest.len());
+        let end = rest[1..n].find('"').map_or(n, |i| i + 2);
+        return (Found::Other(rest[..end].to_string()), end);
+    }
     (Found::Other(c.to_string()), c.len_utf8())
 }
 
@@ -1209,6 +1214,9 @@ impl Builder<'_> {
                         "`{w}` is not a valid name: a name starts with a letter or `_`"
                     ));
                 }
+            }
+            if prev.as_ref().is_some_and(|p| p.ends_with('.')) {
+                return err(format!("expected a field name after `.`, found {found_desc}"));
             }
             return err(match (ctx, &prev) {
                 (Ctx::Define, None) => format!(
