@@ -2,6 +2,8 @@
 //! text into a spanned AST ([`ast`]). No I/O.
 
 pub mod ast;
+mod format;
+mod parser;
 
 pub use ast::*;
 
@@ -26,3 +28,31 @@ pub fn line_col(src: &str, offset: usize) -> (usize, usize) {
     let col = src.get(line_start..offset).map_or(0, |s| s.chars().count()) + 1;
     (line, col)
 }
+
+/// Parses a whole worksheet. Every bad statement (logical line) yields one
+/// error; all of them are returned, in source order.
+pub fn parse(src: &str) -> Result<Worksheet, Vec<ParseError>> {
+    parser::parse_lines(src).map(|lines| Worksheet {
+        statements: lines.into_iter().map(|l| l.stmt).collect(),
+    })
+}
+
+/// Parses one expression (for `sheaf eval "EXPR"`). Spans are offsets into
+/// `src`.
+pub fn parse_expr(src: &str) -> Result<Expr, ParseError> {
+    parser::parse_expr(src)
+}
+
+/// Parses a unit (for `--in UNIT` and the like) with the annotation rules:
+/// spaces allowed anywhere, a space between factors multiplies and binds
+/// tighter than `*` and `/` (`kJ/kg K` = kJ/(kg K)), `1` allowed (`1/s`).
+pub fn parse_unit(src: &str) -> Result<UnitExpr, ParseError> {
+    parser::parse_unit(src)
+}
+
+/// Formats a worksheet in the canonical layout (`sheaf fmt`).
+pub fn format(src: &str) -> Result<String, Vec<ParseError>> {
+    format::format(src)
+}
+
+pub use parser::KEYWORDS;

@@ -1,0 +1,1295 @@
+//! Worksheet parser: splits the source into logical lines, classifies each,
+//! runs the pest grammar (`worksheet.pest`) on statement lines and builds the
+//! spanned AST. Errors are collected, one per bad statement, and worded for
+//! people (pest rule names never reach the user).
+//!
+//! Stack safety: the grammar is flat except for parentheses, whose depth is
+//! bounded by [`prescan`] before pest runs; operator precedence is applied by
+//! an explicit-stack pass ([`Builder::expr`]) that tracks the depth of every
+//! node it creates and refuses to build a tree deeper than [`MAX_NESTING`].
+//! So neither parsing, nor later recursive passes over the tree, nor dropping
+//! it, can recurse deeper than about `MAX_NESTING` levels.
+
+use pest::Parser;
+use pest::error::{ErrorVariant, InputLocation};
+use pest::iterators::Pair;
+use pest_derive::Parser;
+
+use crate::ast::*;
+use crate::{MAX_NESTING, ParseError, line_col};
+
+#[derive(Parser)]
+#[grammar = "worksheet.pest"]
+struct WsParser;
+
+/// Words that start statements and therefore cannot be names.
+pub const KEYWORDS: [&str; 3] = ["input", "check", "meta"];
+
+/// One parsed logical line plus what the AST does not keep but the formatter
+/// needs.
+#[derive(Clone, Debug)]
+pub(crate) struct ParsedLine {
+    pub stmt: Statement,
+    /// Span of a trailing `// comment` after a statement.
+    pub trailing_comment: Option<Span>,
+}
+
+/// What a line's pest rule is parsing, for wording errors.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Ctx {
+    Meta,
+    Input,
+    Check,
+    Define,
+    Expr,
+    Unit,
+}
+
+// ------------------------------------------------------------------ lines
+
+/// A logical line: byte range (into the source) of its content without the
+/// final line end. Continuations have been blanked in the normalised text.
+#[derive(Clone, Copy, Debug)]
+struct Logical {
+    start: usize,
+    end: usize,
+}
+
+/// Returns the source with line continuations (`\` + line break) and a
+/// leading byte-order mark replaced by spaces (same byte offsets), and the
+/// logical lines.
+fn split_lines(src: &str) -> (String, Vec<Logical>) {
+    let mut bytes = src.as_bytes().to_vec();
+    if src.starts_with('\u{feff}') {
+        for b in bytes.iter_mut().take(3) {
+            *b = b' ';
+        }
+    }
+    // Physical lines: (start, content_end, next_start).
+    let mut phys = Vec::new();
+    let mut pos = 0;
+    while pos < src.len() {
+        let nl = src[pos..].find('\n').map(|i| pos + i);
+        let le = nl.unwrap_or(src.len());
+        let ce = if le > pos && bytes[le - 1] == b'\r' {
+            le - 1
+        } else {
+            le
+        };
+        let next = nl.map_or(src.len(), |i| i + 1);
+        phys.push((pos, ce, next));
+        pos = next;
+    }
+    let mut lines = Vec::new();
+    let mut i = 0;
+    while i < phys.len() {
+        let (start, mut end, _) = phys[i];
+        let first = first_non_ws(&bytes[start..end]);
+        let single = first.is_some_and(|f| {
+            let rest = &bytes[start + f..end];
+            rest.starts_with(b"//") || rest.starts_with(b"#") || rest.starts_with(b">")
+        });
+        if !single {
+            loop {
+                let (ls, ce, next) = phys[i];
+                let line = &bytes[ls..ce];
+                let tlen = trim_ws_end(line).len();
+                let continues = tlen > 0
+                    && line[tlen - 1] == b'\\'
+                    && comment_start(&line[..tlen]).is_none()
+                    && i + 1 < phys.len();
+                if !continues {
+                    end = ce;
+                    break;
+                }
+                // Blank the `\`, trailing blanks and the line break.
+                for b in &mut bytes[ls + tlen - 1..next] {
+                    *b = b' ';
+                }
+                i += 1;
+            }
+        }
+        lines.push(Logical { start, end });
+        i += 1;
+    }
+    // Only ASCII bytes (and a whole BOM) were replaced by ASCII spaces, so
+    // the text is still valid UTF-8; fall back to the source just in case.
+    let norm = String::from_utf8(bytes).unwrap_or_else(|_| src.to_string());
+    (norm, lines)
+}
+
+fn first_non_ws(b: &[u8]) -> Option<usize> {
+    b.iter().position(|c| *c != b' ' && *c != b'\t')
+}
+
+fn trim_ws_end(b: &[u8]) -> &[u8] {
+    let n = b
+        .iter()
+        .rposition(|c| *c != b' ' && *c != b'\t')
+        .map_or(0, |i| i + 1);
+    &b[..n]
+}
+
+/// Byte offset of a `//` comment outside string literals, if any.
+fn comment_start(b: &[u8]) -> Option<usize> {
+    let mut in_str = false;
+    let mut i = 0;
+    while i < b.len() {
+        let c = b[i];
+        if in_str {
+            if c == b'\\' {
+                i += 1;
+            } else if c == b'"' {
+                in_str = false;
+            }
+        } else if c == b'"' {
+            in_str = true;
+        } else if c == b'/' && b.get(i + 1) == Some(&b'/') {
+            return Some(i);
+        }
+        i += 1;
+    }
+    None
+}
+
+// ------------------------------------------------------------------ entry points
+
+pub(crate) fn parse_lines(src: &str) -> Result<Vec<ParsedLine>, Vec<ParseError>> {
+    let (norm, lines) = split_lines(src);
+    let mut out = Vec::with_capacity(lines.len());
+    let mut errors = Vec::new();
+    for l in lines {
+        match parse_line(src, &norm, l) {
+            Ok(p) => out.push(p),
+            Err(e) => errors.push(e),
+        }
+    }
+    if errors.is_empty() {
+        Ok(out)
+    } else {
+        Err(errors)
+    }
+}
+
+pub(crate) fn parse_expr(src: &str) -> Result<Expr, ParseError> {
+    let depth = prescan(src, 0, false)?;
+    with_stack(depth, Span::new(0, src.len()), || parse_expr_inner(src))
+}
+
+fn parse_expr_inner(src: &str) -> Result<Expr, ParseError> {
+    let b = Builder { base: 0, src };
+    let pairs = WsParser::parse(Rule::expr_only, src).map_err(|e| b.pest_error(e, Ctx::Expr, src))?;
+    for p in pairs {
+        if p.as_rule() == Rule::expr_only {
+            for q in p.into_inner() {
+                if q.as_rule() == Rule::expr {
+                    return Ok(b.expr(q)?.0);
+                }
+            }
+        }
+    }
+    Err(internal(Span::new(0, src.len())))
+}
+
+pub(crate) fn parse_unit(src: &str) -> Result<UnitExpr, ParseError> {
+    let depth = prescan(src, 0, false)?;
+    with_stack(depth, Span::new(0, src.len()), || parse_unit_inner(src))
+}
+
+fn parse_unit_inner(src: &str) -> Result<UnitExpr, ParseError> {
+    let b = Builder { base: 0, src };
+    let pairs = WsParser::parse(Rule::unit_only, src).map_err(|e| b.pest_error(e, Ctx::Unit, src))?;
+    for p in pairs {
+        if p.as_rule() == Rule::unit_only {
+            for q in p.into_inner() {
+                if q.as_rule() == Rule::unit_loose {
+                    return Ok(b.unit(q)?.0);
+                }
+            }
+        }
+    }
+    Err(internal(Span::new(0, src.len())))
+}
+
+fn internal(span: Span) -> ParseError {
+    ParseError {
+        span,
+        message: "internal parser error: unexpected syntax tree shape (please report)".into(),
+    }
+}
+
+fn nesting_error(span: Span) -> ParseError {
+    ParseError {
+        span,
+        message: format!(
+            "expression nested too deeply (more than {MAX_NESTING} levels); split it into named intermediate values"
+        ),
+    }
+}
+
+fn parse_line(src: &str, norm: &str, l: Logical) -> Result<ParsedLine, ParseError> {
+    let text = &norm[l.start..l.end];
+    let Some(f) = first_non_ws(text.as_bytes()) else {
+        return Ok(ParsedLine {
+            stmt: Statement {
+                kind: StatementKind::Blank,
+                span: Span::new(l.start, l.end),
+            },
+            trailing_comment: None,
+        });
+    };
+    let content_end = l.start + trim_ws_end(text.as_bytes()).len();
+    let content = &norm[l.start + f..content_end];
+    let span = Span::new(l.start + f, content_end);
+    let simple = |kind| {
+        Ok(ParsedLine {
+            stmt: Statement { kind, span },
+            trailing_comment: None,
+        })
+    };
+    if let Some(rest) = content.strip_prefix("//") {
+        return simple(StatementKind::Comment {
+            text: rest.trim().to_string(),
+        });
+    }
+    if content.starts_with('#') {
+        let level = content.bytes().take_while(|b| *b == b'#').count();
+        if level > 3 {
+            return Err(ParseError {
+                span: Span::new(span.start, span.start + level),
+                message: "a heading has at most three `#` (`#` title, `##` section, `###` subsection)"
+                    .into(),
+            });
+        }
+        return simple(StatementKind::Heading {
+            level: level as u8,
+            text: content[level..].trim().to_string(),
+        });
+    }
+    if let Some(rest) = content.strip_prefix('>') {
+        return simple(StatementKind::Note {
+            text: rest.trim().to_string(),
+        });
+    }
+
+    let depth = prescan(text, l.start, true)?;
+    with_stack(depth, span, || parse_statement(src, text, l.start, content, span))
+}
+
+fn parse_statement(
+    src: &str,
+    text: &str,
+    start: usize,
+    content: &str,
+    span: Span,
+) -> Result<ParsedLine, ParseError> {
+    // Dispatch on the first word.
+    let word_len = content
+        .bytes()
+        .take_while(|b| b.is_ascii_alphanumeric() || *b == b'_')
+        .count();
+    let word = &content[..word_len];
+    let ctx = match word {
+        "input" => Ctx::Input,
+        "check" => Ctx::Check,
+        "meta" => Ctx::Meta,
+        _ => Ctx::Define,
+    };
+    if ctx != Ctx::Define {
+        let after = content[word_len..].trim_start();
+        if (after.starts_with('=') && !after.starts_with("==")) || after.starts_with(':') {
+            return Err(keyword_error(word, Span::new(span.start, span.start + word_len)));
+        }
+    }
+    let rule = match ctx {
+        Ctx::Input => Rule::stmt_input,
+        Ctx::Check => Rule::stmt_check,
+        Ctx::Meta => Rule::stmt_meta,
+        _ => Rule::stmt_define,
+    };
+    let b = Builder { base: start, src };
+    let pairs = WsParser::parse(rule, text).map_err(|e| b.pest_error(e, ctx, text))?;
+    let Some(stmt) = pairs.into_iter().next() else {
+        return Err(internal(span));
+    };
+    b.statement(stmt, ctx)
+}
+
+fn keyword_error(word: &str, span: Span) -> ParseError {
+    ParseError {
+        span,
+        message: format!("`{word}` is a keyword and cannot be a name"),
+    }
+}
+
+/// Characters that may appear outside strings and comments.
+fn allowed_char(c: char) -> bool {
+    c.is_ascii_alphanumeric()
+        || matches!(
+            c,
+            '_' | ' '
+                | '\t'
+                | '+'
+                | '-'
+                | '*'
+                | '/'
+                | '^'
+                | '('
+                | ')'
+                | '.'
+                | ','
+                | ':'
+                | '='
+                | '<'
+                | '>'
+                | '!'
+                | '"'
+                | '%'
+                | '°'
+                | 'µ'
+        )
+        || (!c.is_ascii() && c.is_alphabetic())
+}
+
+/// Describe a character for an "unexpected" message.
+fn describe_char(c: char) -> String {
+    match c {
+        '\n' | '\r' => "a line break".into(),
+        '\u{a0}' => "a non-breaking space (U+00A0)".into(),
+        c if c.is_whitespace() || c.is_control() || c == '\u{feff}' || c == '\u{200b}' => {
+            format!("character U+{:04X}", c as u32)
+        }
+        '`' => "a backtick".into(),
+        c => format!("`{c}`"),
+    }
+}
+
+/// Checks a statement line before pest sees it: characters that can never be
+/// valid, unterminated strings, and parenthesis depth (so that the grammar's
+/// recursion and the tree's depth stay bounded).
+fn prescan(text: &str, base: usize, comments: bool) -> Result<usize, ParseError> {
+    let mut depth = 0usize;
+    let mut max_depth = 0usize;
+    let mut str_start: Option<usize> = None;
+    let mut chars = text.char_indices().peekable();
+    while let Some((i, c)) = chars.next() {
+        if str_start.is_some() {
+            match c {
+                '\\' => {
+                    chars.next();
+                }
+                '"' => str_start = None,
+                '\n' | '\r' => break,
+                _ => {}
+            }
+            continue;
+        }
+        match c {
+            '"' => str_start = Some(i),
+            '/' if comments && matches!(chars.peek(), Some((_, '/'))) => break,
+            '(' => {
+                depth += 1;
+                max_depth = max_depth.max(depth);
+                if depth > MAX_NESTING {
+                    return Err(nesting_error(Span::new(base + i, base + i + 1)));
+                }
+            }
+            ')' => depth = depth.saturating_sub(1),
+            c if allowed_char(c) => {}
+            c => {
+                return Err(ParseError {
+                    span: Span::new(base + i, base + i + c.len_utf8()),
+                    message: format!("unexpected {}", describe_char(c)),
+                });
+            }
+        }
+    }
+    if let Some(s) = str_start {
+        let end = text[s..].find(['\n', '\r']).map_or(text.len(), |e| s + e);
+        let end = s + text[s..end].trim_end().len();
+        return Err(ParseError {
+            span: Span::new(base + s, base + end),
+            message: "unterminated string".into(),
+        });
+    }
+    Ok(max_depth)
+}
+
+/// Parenthesis depth up to which a line is parsed on the caller's stack.
+/// Deeper lines (at most `MAX_NESTING`, see [`prescan`]) are parsed on a
+/// helper thread with a stack sized for the depth: the grammar and the tree
+/// builder recurse once per parenthesis level, and an unoptimised build
+/// needs several KiB per level.
+const INLINE_DEPTH: usize = 8;
+
+fn with_stack<T: Send>(
+    depth: usize,
+    span: Span,
+    f: impl FnOnce() -> Result<T, ParseError> + Send,
+) -> Result<T, ParseError> {
+    if depth <= INLINE_DEPTH {
+        return f();
+    }
+    let size = (1 << 20) + depth * (64 << 10);
+    std::thread::scope(|s| {
+        match std::thread::Builder::new().stack_size(size).spawn_scoped(s, f) {
+            Ok(handle) => handle.join().unwrap_or_else(|_| Err(internal(span))),
+            Err(_) => Err(ParseError {
+                span,
+                message: "could not start a parser thread for this deeply nested line".into(),
+            }),
+        }
+    })
+}
+
+// ------------------------------------------------------------------ tree building
+
+/// An expression with its depth (a leaf has depth 0).
+type Node = (Expr, usize);
+type UNode = (UnitExpr, usize);
+
+struct Builder<'a> {
+    /// Offset of the parsed text in the source.
+    base: usize,
+    /// The whole original source (for line numbers in messages).
+    src: &'a str,
+}
+
+enum StackOp {
+    Prefix { neg: bool, span: Span },
+    Infix { op: BinOp, span: Span },
+}
+
+impl StackOp {
+    fn prec(&self) -> u8 {
+        match self {
+            StackOp::Prefix { .. } => 3,
+            StackOp::Infix { op, .. } => binop_prec(*op),
+        }
+    }
+}
+
+fn binop_prec(op: BinOp) -> u8 {
+    match op {
+        BinOp::Add | BinOp::Sub => 1,
+        BinOp::Mul | BinOp::Div => 2,
+        BinOp::Pow => 4,
+    }
+}
+
+impl Builder<'_> {
+    /// The pair's span without trailing blanks (pest's implicit whitespace
+    /// before an optional or repeated part that then matched nothing stays
+    /// inside the enclosing pair).
+    fn span(&self, p: &Pair<'_, Rule>) -> Span {
+        let s = p.as_span();
+        let len = s.as_str().trim_end_matches([' ', '\t']).len();
+        Span::new(self.base + s.start(), self.base + s.start() + len)
+    }
+
+    fn check_depth(&self, depth: usize, span: Span) -> Result<usize, ParseError> {
+        if depth > MAX_NESTING {
+            Err(nesting_error(span))
+        } else {
+            Ok(depth)
+        }
+    }
+
+    fn statement(&self, pair: Pair<'_, Rule>, ctx: Ctx) -> Result<ParsedLine, ParseError> {
+        let whole = self.span(&pair);
+        let mut start: Option<usize> = None;
+        let mut end = whole.start;
+        let mut trailing_comment = None;
+        let mut ident = None;
+        let mut exprs: Vec<Expr> = Vec::new();
+        let mut unit = None;
+        let mut strings: Vec<StringLit> = Vec::new();
+        let mut op = None;
+        for p in pair.into_inner() {
+            let sp = self.span(&p);
+            match p.as_rule() {
+                Rule::EOI => continue,
+                Rule::trailing_comment => {
+                    trailing_comment = Some(sp);
+                    continue;
+                }
+                Rule::ident => ident = Some(self.ident(p)?),
+                Rule::expr => exprs.push(self.expr(p)?.0),
+                Rule::unit_loose => unit = Some(self.unit(p)?.0),
+                Rule::string => strings.push(self.string(p)?),
+                Rule::cmp_op => op = Some((cmp_op(&p), sp)),
+                _ => {}
+            }
+            start.get_or_insert(sp.start);
+            end = sp.end;
+        }
+        let span = Span::new(start.unwrap_or(whole.start), end);
+        let mut strings = strings.into_iter();
+        let mut exprs = exprs.into_iter();
+        let kind = match ctx {
+            Ctx::Meta => match (ident, strings.next()) {
+                (Some(key), Some(value)) => StatementKind::Meta { key, value },
+                _ => return Err(internal(span)),
+            },
+            Ctx::Input => match (ident, exprs.next()) {
+                (Some(name), Some(value)) => StatementKind::Input {
+                    name,
+                    value,
+                    description: strings.next(),
+                },
+                _ => return Err(internal(span)),
+            },
+            Ctx::Define => match (ident, exprs.next()) {
+                (Some(name), Some(value)) => StatementKind::Define {
+                    name,
+                    unit,
+                    value,
+                    description: strings.next(),
+                },
+                _ => return Err(internal(span)),
+            },
+            Ctx::Check => match (exprs.next(), op, exprs.next()) {
+                (Some(left), Some((op, op_span)), Some(right)) => StatementKind::Check {
+                    left,
+                    op,
+                    op_span,
+                    right,
+                    description: strings.next(),
+                },
+                _ => return Err(internal(span)),
+            },
+            Ctx::Expr | Ctx::Unit => return Err(internal(span)),
+        };
+        Ok(ParsedLine {
+            stmt: Statement { kind, span },
+            trailing_comment,
+        })
+    }
+
+    fn ident(&self, p: Pair<'_, Rule>) -> Result<Ident, ParseError> {
+        let span = self.span(&p);
+        let name = p.as_str();
+        if KEYWORDS.contains(&name) {
+            return Err(keyword_error(name, span));
+        }
+        Ok(Ident {
+            name: name.to_string(),
+            span,
+        })
+    }
+
+    fn string(&self, p: Pair<'_, Rule>) -> Result<StringLit, ParseError> {
+        let span = self.span(&p);
+        let raw = p
+            .into_inner()
+            .next()
+            .map_or("", |q| q.as_str());
+        let mut value = String::with_capacity(raw.len());
+        let mut it = raw.char_indices();
+        while let Some((i, c)) = it.next() {
+            if c == '\\' {
+                match it.next() {
+                    Some((_, '"')) => value.push('"'),
+                    Some((_, '\\')) => value.push('\\'),
+                    other => {
+                        let (len, shown) = match other {
+                            Some((_, e)) => (1 + e.len_utf8(), format!("\\{e}")),
+                            None => (1, "\\".to_string()),
+                        };
+                        let at = span.start + 1 + i;
+                        return Err(ParseError {
+                            span: Span::new(at, at + len),
+                            message: format!(
+                                "unknown escape `{shown}` in a string; only `\\\"` and `\\\\` are allowed"
+                            ),
+                        });
+                    }
+                }
+            } else {
+                value.push(c);
+            }
+        }
+        Ok(StringLit { value, span })
+    }
+
+    /// Operator-precedence pass over the flat `term (op term)*` sequence,
+    /// with explicit stacks (no recursion per operator).
+    fn expr(&self, pair: Pair<'_, Rule>) -> Result<Node, ParseError> {
+        let mut out: Vec<Node> = Vec::new();
+        let mut ops: Vec<StackOp> = Vec::new();
+        for p in pair.into_inner() {
+            let sp = self.span(&p);
+            let binop = match p.as_rule() {
+                Rule::neg | Rule::pos => {
+                    ops.push(StackOp::Prefix {
+                        neg: p.as_rule() == Rule::neg,
+                        span: sp,
+                    });
+                    continue;
+                }
+                Rule::postfix => {
+                    out.push(self.postfix(p)?);
+                    continue;
+                }
+                Rule::add => BinOp::Add,
+                Rule::sub => BinOp::Sub,
+                Rule::mul => BinOp::Mul,
+                Rule::div => BinOp::Div,
+                Rule::pow => BinOp::Pow,
+                _ => return Err(internal(sp)),
+            };
+            let prec = binop_prec(binop);
+            let right_assoc = binop == BinOp::Pow;
+            while let Some(top) = ops.last() {
+                let tp = top.prec();
+                if tp > prec || (tp == prec && !right_assoc) {
+                    self.reduce(&mut out, &mut ops)?;
+                } else {
+                    break;
+                }
+            }
+            ops.push(StackOp::Infix { op: binop, span: sp });
+        }
+        while !ops.is_empty() {
+            self.reduce(&mut out, &mut ops)?;
+        }
+        match (out.pop(), out.is_empty()) {
+            (Some(n), true) => Ok(n),
+            _ => Err(internal(Span::default())),
+        }
+    }
+
+    fn reduce(&self, out: &mut Vec<Node>, ops: &mut Vec<StackOp>) -> Result<(), ParseError> {
+        let Some(op) = ops.pop() else {
+            return Err(internal(Span::default()));
+        };
+        match op {
+            StackOp::Prefix { neg, span } => {
+                let Some((e, d)) = out.pop() else {
+                    return Err(internal(span));
+                };
+                let full = span.join(e.span);
+                if neg {
+                    let d = self.check_depth(d + 1, span)?;
+                    out.push((
+                        Expr {
+                            kind: ExprKind::Neg(Box::new(e)),
+                            span: full,
+                        },
+                        d,
+                    ));
+                } else {
+                    // Unary plus has no node of its own; the operand's span
+                    // grows to cover the `+`.
+                    out.push((Expr { kind: e.kind, span: full }, d));
+                }
+            }
+            StackOp::Infix { op, span } => {
+                let (Some((r, rd)), Some((l, ld))) = (out.pop(), out.pop()) else {
+                    return Err(internal(span));
+                };
+                let d = self.check_depth(ld.max(rd) + 1, span)?;
+                let full = l.span.join(r.span);
+                out.push((
+                    Expr {
+                        kind: ExprKind::Binary {
+                            op,
+                            left: Box::new(l),
+                            right: Box::new(r),
+                        },
+                        span: full,
+                    },
+                    d,
+                ));
+            }
+        }
+        Ok(())
+    }
+
+    fn postfix(&self, pair: Pair<'_, Rule>) -> Result<Node, ParseError> {
+        let mut inner = pair.into_inner();
+        let Some(first) = inner.next() else {
+            return Err(internal(Span::default()));
+        };
+        let (mut e, mut d) = self.primary(first)?;
+        for f in inner {
+            let fspan = self.span(&f);
+            let Some(id) = f.into_inner().next() else {
+                return Err(internal(fspan));
+            };
+            let field = self.ident(id)?;
+            d = self.check_depth(d + 1, fspan)?;
+            let span = e.span.join(fspan);
+            e = Expr {
+                kind: ExprKind::Field {
+                    base: Box::new(e),
+                    field,
+                },
+                span,
+            };
+        }
+        Ok((e, d))
+    }
+
+    fn primary(&self, p: Pair<'_, Rule>) -> Result<Node, ParseError> {
+        let span = self.span(&p);
+        match p.as_rule() {
+            Rule::num_lit => {
+                let mut inner = p.into_inner();
+                let Some(num) = inner.next() else {
+                    return Err(internal(span));
+                };
+                let text = num.as_str().to_string();
+                let nspan = self.span(&num);
+                let value = text.parse::<f64>().map_err(|_| internal(nspan))?;
+                if !value.is_finite() {
+                    return Err(ParseError {
+                        span: nspan,
+                        message: format!("the number `{text}` is too large"),
+                    });
+                }
+                let (unit, d) = match inner.next() {
+                    Some(u) => {
+                        let (u, d) = self.unit_seq(u)?;
+                        (Some(u), d)
+                    }
+                    None => (None, 0),
+                };
+                Ok((
+                    Expr {
+                        kind: ExprKind::Number { value, text, unit },
+                        span,
+                    },
+                    d,
+                ))
+            }
+            Rule::string => {
+                let s = self.string(p)?;
+                Ok((
+                    Expr {
+                        kind: ExprKind::Str(s.value),
+                        span,
+                    },
+                    0,
+                ))
+            }
+            Rule::name => {
+                let Some(id) = p.into_inner().next() else {
+                    return Err(internal(span));
+                };
+                let id = self.ident(id)?;
+                Ok((
+                    Expr {
+                        kind: ExprKind::Name(id.name),
+                        span,
+                    },
+                    0,
+                ))
+            }
+            Rule::paren => {
+                let mut open = span;
+                let mut inner = None;
+                for q in p.into_inner() {
+                    match q.as_rule() {
+                        Rule::lparen => open = self.span(&q),
+                        Rule::expr => inner = Some(self.expr(q)?),
+                        _ => {}
+                    }
+                }
+                let Some((e, d)) = inner else {
+                    return Err(internal(span));
+                };
+                let d = self.check_depth(d + 1, open)?;
+                Ok((
+                    Expr {
+                        kind: ExprKind::Paren(Box::new(e)),
+                        span,
+                    },
+                    d,
+                ))
+            }
+            Rule::call => {
+                let mut func = None;
+                let mut args = Vec::new();
+                let mut depth = 0;
+                for q in p.into_inner() {
+                    match q.as_rule() {
+                        Rule::ident => func = Some(self.ident(q)?),
+                        Rule::arg => {
+                            let aspan = self.span(&q);
+                            let mut name = None;
+                            let mut value = None;
+                            for r in q.into_inner() {
+                                match r.as_rule() {
+                                    Rule::ident => name = Some(self.ident(r)?),
+                                    Rule::expr => value = Some(self.expr(r)?),
+                                    _ => {}
+                                }
+                            }
+                            let Some((value, d)) = value else {
+                                return Err(internal(aspan));
+                            };
+                            depth = depth.max(d);
+                            args.push(Arg {
+                                name,
+                                value,
+                                span: aspan,
+                            });
+                        }
+                        _ => {}
+                    }
+                }
+                let Some(func) = func else {
+                    return Err(internal(span));
+                };
+                let d = self.check_depth(depth + 1, func.span)?;
+                Ok((
+                    Expr {
+                        kind: ExprKind::Call { func, args },
+                        span,
+                    },
+                    d,
+                ))
+            }
+            _ => Err(internal(span)),
+        }
+    }
+
+    // ---------------------------------------------------------- units
+
+    /// `unit_loose` (annotation / `parse_unit`): juxtaposition groups joined
+    /// by `*` and `/`, left to right.
+    fn unit(&self, p: Pair<'_, Rule>) -> Result<UNode, ParseError> {
+        self.unit_seq(p)
+    }
+
+    /// Any left-associative unit sequence: `unit_loose`, `unit_tight`,
+    /// `unit_juxt` (operands joined by `*`, `/` or, without an operator,
+    /// juxtaposition = multiplication).
+    fn unit_seq(&self, p: Pair<'_, Rule>) -> Result<UNode, ParseError> {
+        let span = self.span(&p);
+        let mut acc: Option<UNode> = None;
+        let mut pending_div = false;
+        for q in p.into_inner() {
+            let (rhs, rd) = match q.as_rule() {
+                Rule::unit_mul => {
+                    pending_div = false;
+                    continue;
+                }
+                Rule::unit_div => {
+                    pending_div = true;
+                    continue;
+                }
+                Rule::unit_juxt => self.unit_seq(q)?,
+                Rule::unit_factor | Rule::unit_tight_first | Rule::unit_tight_factor => {
+                    self.unit_factor(q)?
+                }
+                _ => return Err(internal(self.span(&q))),
+            };
+            acc = Some(match acc.take() {
+                None => (rhs, rd),
+                Some((lhs, ld)) => {
+                    let s = lhs.span.join(rhs.span);
+                    let d = self.check_depth(ld.max(rd) + 1, rhs.span)?;
+                    let kind = if pending_div {
+                        UnitKind::Div(Box::new(lhs), Box::new(rhs))
+                    } else {
+                        UnitKind::Mul(Box::new(lhs), Box::new(rhs))
+                    };
+                    (UnitExpr { kind, span: s }, d)
+                }
+            });
+            pending_div = false;
+        }
+        acc.ok_or_else(|| internal(span))
+    }
+
+    fn unit_factor(&self, p: Pair<'_, Rule>) -> Result<UNode, ParseError> {
+        let span = self.span(&p);
+        let mut base: Option<UNode> = None;
+        let mut pow = None;
+        for q in p.into_inner() {
+            let qs = self.span(&q);
+            match q.as_rule() {
+                Rule::unit_atom => {
+                    base = Some((
+                        UnitExpr {
+                            kind: UnitKind::Atom(q.as_str().to_string()),
+                            span: qs,
+                        },
+                        0,
+                    ))
+                }
+                Rule::unit_one => {
+                    base = Some((
+                        UnitExpr {
+                            kind: UnitKind::One,
+                            span: qs,
+                        },
+                        0,
+                    ))
+                }
+                Rule::unit_group | Rule::unit_paren => {
+                    let mut inner = None;
+                    for r in q.into_inner() {
+                        match r.as_rule() {
+                            Rule::unit_inner => {
+                                if let Some(l) = r.into_inner().next() {
+                                    inner = Some(self.unit_seq(l)?);
+                                }
+                            }
+                            Rule::unit_loose => inner = Some(self.unit_seq(r)?),
+                            _ => {}
+                        }
+                    }
+                    let Some((u, d)) = inner else {
+                        return Err(internal(qs));
+                    };
+                    // The group's span includes its parentheses.
+                    base = Some((
+                        UnitExpr {
+                            kind: u.kind,
+                            span: qs,
+                        },
+                        d,
+                    ));
+                }
+                Rule::unit_pow => {
+                    let Some(int) = q.into_inner().next() else {
+                        return Err(internal(qs));
+                    };
+                    let n = int.as_str().parse::<i32>().map_err(|_| ParseError {
+                        span: self.span(&int),
+                        message: format!("the unit exponent `{}` is too large", int.as_str()),
+                    })?;
+                    pow = Some(n);
+                }
+                _ => return Err(internal(qs)),
+            }
+        }
+        let Some((b, d)) = base else {
+            return Err(internal(span));
+        };
+        match pow {
+            None => Ok((b, d)),
+            Some(n) => {
+                let d = self.check_depth(d + 1, span)?;
+                Ok((
+                    UnitExpr {
+                        kind: UnitKind::Pow(Box::new(b), n),
+                        span,
+                    },
+                    d,
+                ))
+            }
+        }
+    }
+}
+
+fn cmp_op(p: &Pair<'_, Rule>) -> CompareOp {
+    match p.as_str() {
+        "<=" => CompareOp::Le,
+        ">=" => CompareOp::Ge,
+        "!=" => CompareOp::Ne,
+        "==" => CompareOp::Eq,
+        "<" => CompareOp::Lt,
+        _ => CompareOp::Gt,
+    }
+}
+
+// ------------------------------------------------------------------ error wording
+
+/// What stands at the error position.
+#[derive(Debug)]
+enum Found {
+    End,
+    Word(String),
+    Other(String),
+}
+
+fn is_word_start(c: char) -> bool {
+    c.is_alphanumeric() || c == '_' || c == '°' || c == 'µ' || c == '%'
+}
+
+fn found_at(text: &str, pos: usize) -> (Found, usize) {
+    let rest = &text[pos.min(text.len())..];
+    let rest = match comment_start(rest.as_bytes()) {
+        Some(0) => "",
+        _ => rest,
+    };
+    let Some(c) = rest.chars().next() else {
+        return (Found::End, 0);
+    };
+    if is_word_start(c) {
+        let n = rest
+            .char_indices()
+            .find(|(_, c)| !is_word_start(*c))
+            .map_or(rest.len(), |(i, _)| i);
+        return (Found::Word(rest[..n].to_string()), n);
+    }
+    for op in ["<=", ">=", "==", "!="] {
+        if rest.starts_with(op) {
+            return (Found::Other(op.to_string()), 2);
+        }
+    }
+    if c == '"' {
+        let n = comment_start(rest.as_bytes()).unwrap_or(rest.len());
+        let end = rest[1..n].find('"').map_or(n, |i| i + 2);
+        return (Found::Other(rest[..end].to_string()), end);
+    }
+    (Found::Other(c.to_string()), c.len_utf8())
+}
+
+/// The token just before `pos` (skipping blanks), as written.
+fn prev_token(text: &str, pos: usize) -> Option<String> {
+    let before = text[..pos.min(text.len())].trim_end();
+    let c = before.chars().next_back()?;
+    if is_word_start(c) || c == '.' {
+        let start = before
+            .char_indices()
+            .rev()
+            .find(|(_, c)| !(is_word_start(*c) || *c == '.'))
+            .map_or(0, |(i, c)| i + c.len_utf8());
+        return Some(before[start..].to_string());
+    }
+    if c == '"' {
+        return Some("the string".into());
+    }
+    for op in ["<=", ">=", "==", "!="] {
+        if before.ends_with(op) {
+            return Some(op.into());
+        }
+    }
+    Some(c.to_string())
+}
+
+fn after(prev: &Option<String>) -> String {
+    match prev {
+        Some(p) if p == "the string" => " after the string".into(),
+        Some(p) => format!(" after `{p}`"),
+        None => String::new(),
+    }
+}
+
+/// Byte offset (in `text`) of the innermost `(` still open at `pos`.
+fn open_paren(text: &str, pos: usize) -> Option<usize> {
+    let b = text.as_bytes();
+    let mut stack = Vec::new();
+    let mut in_str = false;
+    let mut i = 0;
+    while i < pos.min(b.len()) {
+        let c = b[i];
+        if in_str {
+            if c == b'\\' {
+                i += 1;
+            } else if c == b'"' {
+                in_str = false;
+            }
+        } else {
+            match c {
+                b'"' => in_str = true,
+                b'(' => stack.push(i),
+                b')' => {
+                    stack.pop();
+                }
+                _ => {}
+            }
+        }
+        i += 1;
+    }
+    stack.pop()
+}
+
+const COMPARISONS: &str = "(`<`, `<=`, `>`, `>=`, `==`, `!=`)";
+
+impl Builder<'_> {
+    fn pest_error(&self, e: pest::error::Error<Rule>, ctx: Ctx, text: &str) -> ParseError {
+        let pos = match e.location {
+            InputLocation::Pos(p) => p,
+            InputLocation::Span((s, _)) => s,
+        };
+        let positives = match e.variant {
+            ErrorVariant::ParsingError { positives, .. } => positives,
+            ErrorVariant::CustomError { .. } => Vec::new(),
+        };
+        if std::env::var_os("SHEAF_DEBUG_PEST").is_some() {
+            eprintln!("pest positives at {pos}: {positives:?}");
+        }
+        let has = |r: Rule| positives.contains(&r);
+        let (found, flen) = found_at(text, pos);
+        let prev = prev_token(text, pos);
+        let at = self.base + pos;
+        let span = Span::new(at, at + flen);
+        let err = |message: String| ParseError { span, message };
+        let found_desc = match &found {
+            Found::End => "the end of the line".to_string(),
+            Found::Word(w) | Found::Other(w) => format!("`{w}`"),
+        };
+
+        // An unclosed parenthesis at the end of the statement.
+        if matches!(found, Found::End) && has(Rule::rparen) {
+            if let Some(open) = open_paren(text, pos) {
+                let (line, _) = line_col(self.src, self.base + open);
+                return err(format!(
+                    "expected `)` to close the `(` opened at line {line}"
+                ));
+            }
+        }
+        let expects_operand = has(Rule::number) || has(Rule::postfix) || has(Rule::neg) || has(Rule::expr);
+        let expects_unit = has(Rule::unit_atom)
+            || has(Rule::unit_factor)
+            || has(Rule::unit_juxt)
+            || has(Rule::unit_loose);
+        let after_operand = has(Rule::add) || has(Rule::pow);
+        if let Found::Word(w) = &found {
+            if KEYWORDS.contains(&w.as_str()) && (expects_operand || has(Rule::ident)) {
+                return err(format!("`{w}` is a keyword and cannot be a name"));
+            }
+            if (expects_operand || has(Rule::ident))
+                && w.chars().next().is_some_and(|c| !c.is_ascii() && c.is_alphabetic())
+            {
+                return err(format!(
+                    "`{w}` is not a valid name: names use ASCII letters, digits and `_`"
+                ));
+            }
+        }
+        if expects_operand {
+            return err(match ctx {
+                Ctx::Expr if prev.is_none() => "expected an expression".into(),
+                _ => format!("expected an expression{}", after(&prev)),
+            });
+        }
+        if after_operand {
+            if let Found::Word(w) = &found {
+                if w.starts_with(|c: char| c.is_ascii_digit()) {
+                    return err(format!("expected an operator before `{w}`"));
+                }
+                if self.prev_is_unit(text, pos) {
+                    return err(format!(
+                        "unexpected `{w}`: a unit after a number cannot contain spaces except inside parentheses, e.g. `kJ/(kg K)`"
+                    ));
+                }
+                return err("a unit can only follow a number or `:`".into());
+            }
+        }
+        if has(Rule::cmp_op) {
+            if let Found::Other(o) = &found {
+                if o == "=" {
+                    return err(format!(
+                        "expected a comparison {COMPARISONS} in a check; use `==` to test equality"
+                    ));
+                }
+            }
+            return err(format!("expected a comparison {COMPARISONS} in a check"));
+        }
+        if let Found::Other(o) = &found {
+            if matches!(o.as_str(), "<" | ">" | "<=" | ">=" | "==" | "!=") && after_operand {
+                return err(if ctx == Ctx::Check {
+                    "a check has exactly one comparison".into()
+                } else {
+                    format!("a comparison {COMPARISONS} can only be used in a `check`")
+                });
+            }
+        }
+        if has(Rule::rparen) {
+            if let Some(open) = open_paren(text, pos) {
+                let (line, _) = line_col(self.src, self.base + open);
+                if has(Rule::comma) {
+                    return err(format!(
+                        "expected `,` or `)` to close the `(` opened at line {line}, found {found_desc}"
+                    ));
+                }
+                return err(format!(
+                    "expected `)` to close the `(` opened at line {line}, found {found_desc}"
+                ));
+            }
+        }
+        if has(Rule::eq) {
+            return err(format!("expected `=`{}, found {found_desc}", after(&prev)));
+        }
+        if has(Rule::ident) {
+            if let Found::Word(w) = &found {
+                if w.starts_with(|c: char| c.is_ascii_digit()) {
+                    return err(format!(
+                        "`{w}` is not a valid name: a name starts with a letter or `_`"
+                    ));
+                }
+            }
+            if prev.as_ref().is_some_and(|p| p.ends_with('.')) {
+                return err(format!("expected a field name after `.`, found {found_desc}"));
+            }
+            return err(match (ctx, &prev) {
+                (Ctx::Define, None) => format!(
+                    "expected a statement (a name, `input`, `check`, `meta`, `#` heading, `>` note or `//` comment), found {found_desc}"
+                ),
+                _ => format!("expected a name{}, found {found_desc}", after(&prev)),
+            });
+        }
+        if ctx == Ctx::Meta && has(Rule::string) {
+            return err(format!(
+                "expected a text in quotes{}, e.g. `meta prepared = \"A. Person\"`",
+                after(&prev)
+            ));
+        }
+        if expects_unit {
+            return err(match (ctx, &prev) {
+                (Ctx::Unit, None) => "expected a unit".into(),
+                _ => format!("expected a unit{}", after(&prev)),
+            });
+        }
+        if let Found::Other(o) = &found {
+            if o == ")" && open_paren(text, pos).is_none() {
+                return err("unexpected `)` without a matching `(`".into());
+            }
+        }
+        if let Found::Other(o) = &found {
+            if o == "(" && has(Rule::field) {
+                if let Some(p) = prev.as_ref().filter(|p| p.contains('.')) {
+                    return err(format!(
+                        "only a name can be called; `{p}` is a field access"
+                    ));
+                }
+            }
+        }
+        if !positives.is_empty()
+            && positives
+                .iter()
+                .all(|r| matches!(r, Rule::EOI | Rule::trailing_comment))
+        {
+            return err(format!(
+                "expected the end of the statement after the description, found {found_desc} (a comment starts with `//`)"
+            ));
+        }
+        err(match found {
+            Found::End => "unexpected end of the statement".into(),
+            _ => format!("unexpected {found_desc}"),
+        })
+    }
+
+    /// Whether the word before the blank(s) at `pos` is part of a unit
+    /// written right after a number (`2 kJ/kg K`: true at `K`).
+    fn prev_is_unit(&self, text: &str, pos: usize) -> bool {
+        let before = text[..pos.min(text.len())].trim_end();
+        let chunk_start = before
+            .rfind([' ', '\t'])
+            .map_or(0, |i| i + 1);
+        let chunk = &before[chunk_start..];
+        if chunk.starts_with(|c: char| c.is_ascii_digit() || c == '.')
+            && chunk.chars().any(|c| c.is_alphabetic() && c != 'e' && c != 'E')
+        {
+            return true;
+        }
+        if !chunk.starts_with(|c: char| c.is_alphabetic() || c == '°' || c == '%') {
+            return false;
+        }
+        let earlier = before[..chunk_start].trim_end();
+        let prev_chunk = earlier
+            .rfind([' ', '\t', '(', ',', '='])
+            .map_or(earlier, |i| &earlier[i + 1..]);
+        !prev_chunk.is_empty()
+            && prev_chunk
+                .chars()
+                .all(|c| c.is_ascii_digit() || matches!(c, '.' | 'e' | 'E' | '+' | '-'))
+            && prev_chunk.starts_with(|c: char| c.is_ascii_digit() || c == '.')
+    }
+}
