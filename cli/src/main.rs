@@ -48,10 +48,12 @@ enum Format {
 #[derive(Subcommand)]
 enum Command {
     /// Check and evaluate a worksheet; print its results.
-    #[command(after_help = "Examples:\n  sheaf run worksheets/air_receiver.sheaf\n  \
+    #[command(
+        after_help = "Examples:\n  sheaf run worksheets/air_receiver.sheaf\n  \
 sheaf run worksheets/air_receiver.sheaf --set V_tank=3 m^3 --set p_set=9 barg\n  \
 sheaf run worksheets/air_receiver.sheaf --format json > results.json\n\n\
-Exit status: 0 all checks pass; 1 errors; 2 usage or file error; 3 a check failed.")]
+Exit status: 0 all checks pass; 1 errors; 2 usage or file error; 3 a check failed."
+    )]
     Run {
         /// The worksheet (.sheaf).
         file: PathBuf,
@@ -107,9 +109,19 @@ sheaf eval 'state(fluid(\"water\"), p: 3 MPa, T: 400 degC).h' --in kJ/kg")]
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let code = match cli.command {
-        Command::Run { file, set, format, sig } => cmd_run(&file, &set, format, usize::from(sig)),
+        Command::Run {
+            file,
+            set,
+            format,
+            sig,
+        } => cmd_run(&file, &set, format, usize::from(sig)),
         Command::Check { file } => cmd_check(&file),
-        Command::Eval { expr, unit, format, sig } => cmd_eval(&expr, unit.as_deref(), format, usize::from(sig)),
+        Command::Eval {
+            expr,
+            unit,
+            format,
+            sig,
+        } => cmd_eval(&expr, unit.as_deref(), format, usize::from(sig)),
         Command::Units { word } => cmd_units(word.as_deref()),
         Command::Functions => cmd_functions(),
         Command::Fmt { file, write } => cmd_fmt(&file, write),
@@ -132,7 +144,11 @@ fn load(file: &Path) -> Result<(String, Model), u8> {
         Ok(m) => Ok((name, m)),
         Err(diags) => {
             diagnostics::emit(&name, &src, &diags);
-            eprintln!("{} error{} in {name}", diags.len(), if diags.len() == 1 { "" } else { "s" });
+            eprintln!(
+                "{} error{} in {name}",
+                diags.len(),
+                if diags.len() == 1 { "" } else { "s" }
+            );
             Err(EXIT_ERRORS)
         }
     }
@@ -162,7 +178,10 @@ fn cmd_run(file: &Path, sets: &[String], format: Format, sig: usize) -> u8 {
     match format {
         Format::Text => {
             let colour = std::io::stdout().is_terminal() && std::env::var_os("NO_COLOR").is_none();
-            print!("{}", render::text(&report, &name, sig, &render::Style::new(colour)));
+            print!(
+                "{}",
+                render::text(&report, &name, sig, &render::Style::new(colour))
+            );
         }
         Format::Json => match serde_json::to_string_pretty(&render::json(&report)) {
             Ok(s) => println!("{s}"),
@@ -218,7 +237,11 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
     let value = match eval(&code, &[], expr.span, &mut warnings) {
         Ok(v) => v,
         Err(e) => {
-            diagnostics::emit("<expression>", text, &[sheaf_engine::Diagnostic::error(e.message, e.span)]);
+            diagnostics::emit(
+                "<expression>",
+                text,
+                &[sheaf_engine::Diagnostic::error(e.message, e.span)],
+            );
             return EXIT_ERRORS;
         }
     };
@@ -239,7 +262,10 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
                     let target = match units::resolve(&parsed) {
                         Ok(t) => t,
                         Err(e) => {
-                            let hint = e.suggestion.map(|s| format!(" (did you mean `{s}`?)")).unwrap_or_default();
+                            let hint = e
+                                .suggestion
+                                .map(|s| format!(" (did you mean `{s}`?)"))
+                                .unwrap_or_default();
                             eprintln!("error: --in {u}: {}{hint}", e.message);
                             return EXIT_USAGE;
                         }
@@ -252,11 +278,18 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
                         );
                         return EXIT_USAGE;
                     }
-                    if q.aff == units::Affinity::Difference && target.affinity == units::Affinity::Absolute {
-                        eprintln!("error: --in {u}: the value is a difference; show it in K or delta_degC");
+                    if q.aff == units::Affinity::Difference
+                        && target.affinity == units::Affinity::Absolute
+                    {
+                        eprintln!(
+                            "error: --in {u}: the value is a difference; show it in K or delta_degC"
+                        );
                         return EXIT_USAGE;
                     }
-                    (target.from_si(si), u.split_whitespace().collect::<Vec<_>>().join(" "))
+                    (
+                        target.from_si(si),
+                        u.split_whitespace().collect::<Vec<_>>().join(" "),
+                    )
                 }
                 None => units::auto_display(q.dim, si),
             };
@@ -267,7 +300,11 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
                 ),
                 _ => {
                     let v = units::format_sig(shown, sig);
-                    if unit_text.is_empty() { println!("{v}") } else { println!("{v} {unit_text}") }
+                    if unit_text.is_empty() {
+                        println!("{v}")
+                    } else {
+                        println!("{v} {unit_text}")
+                    }
                 }
             }
             0
@@ -285,7 +322,13 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
                         _ => units::Dim::NONE,
                     };
                     let (v, u) = units::auto_display(dim, x);
-                    println!("  .{:<4} {:>12} {:<10} {}", f.name(), units::format_sig(v, sig), u, field_words(f));
+                    println!(
+                        "  .{:<4} {:>12} {:<10} {}",
+                        f.name(),
+                        units::format_sig(v, sig),
+                        u,
+                        field_words(f)
+                    );
                 }
             }
             0
@@ -294,7 +337,10 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
             println!("{sub}");
             for (n, dim, x, words) in substance_fields(&sub) {
                 let (v, u) = units::auto_display(dim, x);
-                println!("  .{n:<4} {:>12} {u:<10} {words}", units::format_sig(v, sig));
+                println!(
+                    "  .{n:<4} {:>12} {u:<10} {words}",
+                    units::format_sig(v, sig)
+                );
             }
             0
         }
@@ -319,21 +365,39 @@ fn cmd_units(word: Option<&str>) -> u8 {
         None => units::catalogue(),
     };
     if list.is_empty() {
-        let hint = word.and_then(units::suggest).map(|s| format!("; did you mean `{s}`?")).unwrap_or_default();
+        let hint = word
+            .and_then(units::suggest)
+            .map(|s| format!("; did you mean `{s}`?"))
+            .unwrap_or_default();
         eprintln!("no unit matches `{}`{hint}", word.unwrap_or(""));
         return EXIT_USAGE;
     }
-    println!("{:<12} {:<34} {:<28} {}", "symbol", "name", "quantity", "in SI");
+    println!(
+        "{:<12} {:<34} {:<28} {}",
+        "symbol", "name", "quantity", "in SI"
+    );
     for u in list {
-        let si = units::si_unit(
-            units::lookup(u.symbol).map_or(units::Dim::NONE, |x| x.dim),
-        );
+        let si = units::si_unit(units::lookup(u.symbol).map_or(units::Dim::NONE, |x| x.dim));
         let conv = if u.offset != 0.0 {
-            format!("x {} + {} {si}", units::format_sig(u.factor, 10), units::format_sig(u.offset, 10))
+            format!(
+                "x {} + {} {si}",
+                units::format_sig(u.factor, 10),
+                units::format_sig(u.offset, 10)
+            )
         } else {
             format!("{} {si}", units::format_sig(u.factor, 10))
         };
-        println!("{:<12} {:<34} {:<28} {conv}{}", u.symbol, u.name, u.quantity, if u.note.is_empty() { String::new() } else { format!("  ({})", u.note) });
+        println!(
+            "{:<12} {:<34} {:<28} {conv}{}",
+            u.symbol,
+            u.name,
+            u.quantity,
+            if u.note.is_empty() {
+                String::new()
+            } else {
+                format!("  ({})", u.note)
+            }
+        );
     }
     println!("\nSI prefixes (k, M, m, µ or u, ...) apply to metric units: kPa, MJ, mm, mL.");
     0
@@ -381,8 +445,14 @@ fn cmd_fmt(file: &Path, write: bool) -> u8 {
 
 /// Write to a temporary file beside the target, then rename over it.
 fn write_atomic(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
-    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-    let file_name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let file_name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
     let tmp = dir.join(format!(".{file_name}.sheaf-tmp-{}", std::process::id()));
     let result = std::fs::write(&tmp, bytes).and_then(|()| std::fs::rename(&tmp, path));
     if result.is_err() {

@@ -1,9 +1,9 @@
 //! Renderers of a worksheet report: text (terminal), json (tools), md.
 
 use serde_json::{Value as Json, json};
+use sheaf_engine::CAUTION;
 use sheaf_engine::report::{Block, CheckRow, GAUGE_NOTE, QuantityRow, Report};
 use sheaf_engine::units::format_sig;
-use sheaf_engine::CAUTION;
 
 /// Terminal styles; empty strings when colour is off.
 pub struct Style {
@@ -53,7 +53,11 @@ fn value_text(row: &QuantityRow, sig: usize) -> String {
 
 fn pad(s: &str, w: usize) -> String {
     let n = s.chars().count();
-    if n >= w { s.to_string() } else { format!("{s}{}", " ".repeat(w - n)) }
+    if n >= w {
+        s.to_string()
+    } else {
+        format!("{s}{}", " ".repeat(w - n))
+    }
 }
 
 /// The results as a terminal report.
@@ -61,7 +65,12 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
     let mut out = String::new();
     let title = report.title.clone().unwrap_or_else(|| file.to_string());
     out.push_str(&format!("{}{}{}\n", st.bold, title, st.reset));
-    out.push_str(&format!("{}{}{}\n", st.dim, "─".repeat(title.chars().count().max(20)), st.reset));
+    out.push_str(&format!(
+        "{}{}{}\n",
+        st.dim,
+        "─".repeat(title.chars().count().max(20)),
+        st.reset
+    ));
     out.push_str(&format!("{}worksheet {file}{}\n", st.dim, st.reset));
     for (k, v) in &report.meta {
         out.push_str(&format!("{}{k}: {v}{}\n", st.dim, st.reset));
@@ -77,9 +86,24 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
         })
         .flat_map(|q| std::iter::once(q).chain(q.fields.iter()))
         .collect();
-    let wn = rows.iter().map(|r| r.name.chars().count()).max().unwrap_or(4).max(4);
-    let wv = rows.iter().map(|r| value_text(r, sig).chars().count()).max().unwrap_or(5).clamp(5, 28);
-    let wu = rows.iter().map(|r| r.unit.chars().count()).max().unwrap_or(4).max(4);
+    let wn = rows
+        .iter()
+        .map(|r| r.name.chars().count())
+        .max()
+        .unwrap_or(4)
+        .max(4);
+    let wv = rows
+        .iter()
+        .map(|r| value_text(r, sig).chars().count())
+        .max()
+        .unwrap_or(5)
+        .clamp(5, 28);
+    let wu = rows
+        .iter()
+        .map(|r| r.unit.chars().count())
+        .max()
+        .unwrap_or(4)
+        .max(4);
 
     let mut first_heading = true;
     for b in &report.blocks {
@@ -94,7 +118,11 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
             }
             Block::Note(t) => out.push_str(&format!("  {}{t}{}\n", st.dim, st.reset)),
             Block::Quantity(q) => {
-                let tag = if q.kind == "input" { format!("{}in{}", st.input, st.reset) } else { "  ".into() };
+                let tag = if q.kind == "input" {
+                    format!("{}in{}", st.input, st.reset)
+                } else {
+                    "  ".into()
+                };
                 let name = if q.kind == "input" {
                     format!("{}{}{}", st.input, pad(&q.name, wn), st.reset)
                 } else {
@@ -104,7 +132,11 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
                 let desc = q.description.clone().unwrap_or_default();
                 let line = format!(
                     "  {tag} {name}  {:>wv$}  {}  {}",
-                    if q.value.is_some() { val.clone() } else { String::new() },
+                    if q.value.is_some() {
+                        val.clone()
+                    } else {
+                        String::new()
+                    },
                     pad(&q.unit, wu),
                     desc,
                     wv = wv
@@ -135,8 +167,16 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
         }
     }
     if !report.checks.is_empty() {
-        let passed = report.checks.iter().filter(|c| c.passed == Some(true)).count();
-        let failed = report.checks.iter().filter(|c| c.passed == Some(false)).count();
+        let passed = report
+            .checks
+            .iter()
+            .filter(|c| c.passed == Some(true))
+            .count();
+        let failed = report
+            .checks
+            .iter()
+            .filter(|c| c.passed == Some(false))
+            .count();
         out.push_str(&format!(
             "\n{}checks{}: {passed} passed, {}{failed} failed{}",
             st.bold,
@@ -174,7 +214,11 @@ fn check_line(c: &CheckRow, st: &Style) -> String {
         (Some(l), Some(r)) => format!("  {}[{l} vs {r}]{}", st.dim, st.reset),
         _ => String::new(),
     };
-    let desc = c.description.as_ref().map(|d| format!("  {d}")).unwrap_or_default();
+    let desc = c
+        .description
+        .as_ref()
+        .map(|d| format!("  {d}"))
+        .unwrap_or_default();
     format!("  {verdict}  check {}{values}{desc}\n", c.text)
 }
 
@@ -259,7 +303,11 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
                     continue;
                 }
                 close(&mut out, &mut in_table);
-                out.push_str(&format!("{} {}\n\n", "#".repeat(usize::from(*level).max(2)), md_escape(text)));
+                out.push_str(&format!(
+                    "{} {}\n\n",
+                    "#".repeat(usize::from(*level).max(2)),
+                    md_escape(text)
+                ));
             }
             Block::Note(t) => {
                 close(&mut out, &mut in_table);
@@ -267,7 +315,9 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
             }
             Block::Quantity(q) => {
                 if !in_table {
-                    out.push_str("| | name | value | unit | description |\n|---|---|---:|---|---|\n");
+                    out.push_str(
+                        "| | name | value | unit | description |\n|---|---|---:|---|---|\n",
+                    );
                     in_table = true;
                 }
                 let tag = if q.kind == "input" { "input" } else { "" };
@@ -297,7 +347,10 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
                         (Some(l), Some(r)) => format!(" ({} vs {})", md_escape(l), md_escape(r)),
                         _ => String::new(),
                     },
-                    c.description.as_ref().map(|d| format!(": {}", md_escape(d))).unwrap_or_default()
+                    c.description
+                        .as_ref()
+                        .map(|d| format!(": {}", md_escape(d)))
+                        .unwrap_or_default()
                 ));
             }
         }

@@ -160,10 +160,28 @@ macro_rules! sig {
 }
 
 pub const SIGNATURES: &[Signature] = &[
-    sig!(Ln, "ln", X, "ln(x)", "natural logarithm of a dimensionless number"),
+    sig!(
+        Ln,
+        "ln",
+        X,
+        "ln(x)",
+        "natural logarithm of a dimensionless number"
+    ),
     sig!(Exp, "exp", X, "exp(x)", "e to the power x (dimensionless)"),
-    sig!(Log10, "log10", X, "log10(x)", "base-10 logarithm of a dimensionless number"),
-    sig!(Sqrt, "sqrt", X, "sqrt(x)", "square root; the dimension must have even exponents"),
+    sig!(
+        Log10,
+        "log10",
+        X,
+        "log10(x)",
+        "base-10 logarithm of a dimensionless number"
+    ),
+    sig!(
+        Sqrt,
+        "sqrt",
+        X,
+        "sqrt(x)",
+        "square root; the dimension must have even exponents"
+    ),
     sig!(Abs, "abs", X, "abs(x)", "absolute value"),
     Signature {
         builtin: Builtin::Min,
@@ -181,16 +199,46 @@ pub const SIGNATURES: &[Signature] = &[
         usage: "max(a, b, ...)",
         description: "largest of values of one quantity",
     },
-    sig!(Sin, "sin", X, "sin(x)", "sine of an angle (rad, or a number with unit deg)"),
+    sig!(
+        Sin,
+        "sin",
+        X,
+        "sin(x)",
+        "sine of an angle (rad, or a number with unit deg)"
+    ),
     sig!(Cos, "cos", X, "cos(x)", "cosine of an angle"),
     sig!(Tan, "tan", X, "tan(x)", "tangent of an angle"),
     sig!(Asin, "asin", X, "asin(x)", "inverse sine, in rad"),
     sig!(Acos, "acos", X, "acos(x)", "inverse cosine, in rad"),
     sig!(Atan, "atan", X, "atan(x)", "inverse tangent, in rad"),
-    sig!(Atan2, "atan2", &[p("y"), p("x")], "atan2(y, x)", "angle of the point (x, y), in rad; y and x of one quantity"),
-    sig!(Floor, "floor", X, "floor(x)", "largest integer not above a dimensionless x"),
-    sig!(Ceil, "ceil", X, "ceil(x)", "smallest integer not below a dimensionless x"),
-    sig!(Round, "round", X, "round(x)", "nearest integer to a dimensionless x (halves away from zero)"),
+    sig!(
+        Atan2,
+        "atan2",
+        &[p("y"), p("x")],
+        "atan2(y, x)",
+        "angle of the point (x, y), in rad; y and x of one quantity"
+    ),
+    sig!(
+        Floor,
+        "floor",
+        X,
+        "floor(x)",
+        "largest integer not above a dimensionless x"
+    ),
+    sig!(
+        Ceil,
+        "ceil",
+        X,
+        "ceil(x)",
+        "smallest integer not below a dimensionless x"
+    ),
+    sig!(
+        Round,
+        "round",
+        X,
+        "round(x)",
+        "nearest integer to a dimensionless x (halves away from zero)"
+    ),
     sig!(
         IdealGas,
         "ideal_gas",
@@ -212,11 +260,24 @@ pub const SIGNATURES: &[Signature] = &[
         "incompressible(c: 4.18 kJ/(kg K), rho: 998 kg/m^3)",
         "liquid or solid with constant specific heat and density"
     ),
-    sig!(Fluid, "fluid", &[p("name")], "fluid(\"water\")", "water and steam by IAPWS-IF97"),
+    sig!(
+        Fluid,
+        "fluid",
+        &[p("name")],
+        "fluid(\"water\")",
+        "water and steam by IAPWS-IF97"
+    ),
     sig!(
         State,
         "state",
-        &[p("substance"), opt("T"), opt("p"), opt("h"), opt("s"), opt("x")],
+        &[
+            p("substance"),
+            opt("T"),
+            opt("p"),
+            opt("h"),
+            opt("s"),
+            opt("x")
+        ],
         "state(gas, T: 300 K, p: 1 bar)",
         "state fixed by two properties: (T, p), (p, h), (p, s); water also (p, x), (T, x)"
     ),
@@ -255,7 +316,13 @@ pub const SIGNATURES: &[Signature] = &[
         "nozzle(st1, p: p2, eta: 0.95)",
         "nozzle outlet: h2 = h1 - eta (h1 - h2s)"
     ),
-    sig!(Throttle, "throttle", &[p("st"), named("p")], "throttle(st1, p: p2)", "throttling valve outlet: h2 = h1"),
+    sig!(
+        Throttle,
+        "throttle",
+        &[p("st"), named("p")],
+        "throttle(st1, p: p2)",
+        "throttling valve outlet: h2 = h1"
+    ),
     sig!(
         JetSpeed,
         "jet_speed",
@@ -343,7 +410,13 @@ fn err_call<T>(message: impl Into<String>) -> Result<T, TypeErr> {
 /// Expect argument `i` (present) to be a number of dimension `dim`.
 /// `absolute`: it is an absolute quantity (a temperature); a difference is
 /// refused.
-fn want_num(sig: &Signature, args: &[Option<TArg>], i: usize, dim: Dim, absolute: bool) -> Result<Option<QTy>, TypeErr> {
+fn want_num(
+    sig: &Signature,
+    args: &[Option<TArg>],
+    i: usize,
+    dim: Dim,
+    absolute: bool,
+) -> Result<Option<QTy>, TypeErr> {
     let Some(a) = &args[i] else { return Ok(None) };
     let pname = sig.params.get(i).map_or("x", |p| p.name);
     match a.ty {
@@ -373,7 +446,11 @@ fn want_num(sig: &Signature, args: &[Option<TArg>], i: usize, dim: Dim, absolute
     }
 }
 
-fn want_state(sig: &Signature, args: &[Option<TArg>], i: usize) -> Result<Option<ModelKind>, TypeErr> {
+fn want_state(
+    sig: &Signature,
+    args: &[Option<TArg>],
+    i: usize,
+) -> Result<Option<ModelKind>, TypeErr> {
     let Some(a) = &args[i] else { return Ok(None) };
     let pname = sig.params.get(i).map_or("st", |p| p.name);
     match a.ty {
@@ -381,7 +458,11 @@ fn want_state(sig: &Signature, args: &[Option<TArg>], i: usize) -> Result<Option
         Ty::State(k) => Ok(Some(k)),
         other => err_at(
             i,
-            format!("`{pname}` of `{}` must be a state, got {}", sig.name, other.describe()),
+            format!(
+                "`{pname}` of `{}` must be a state, got {}",
+                sig.name,
+                other.describe()
+            ),
         ),
     }
 }
@@ -399,12 +480,26 @@ pub fn type_call(sig: &Signature, args: &[Option<TArg>]) -> Result<Ty, TypeErr> 
     let num_arg = |i: usize| -> Result<QTy, TypeErr> {
         match args.get(i).and_then(|a| a.as_ref()).map(|a| a.ty) {
             Some(Ty::Num(q)) => Ok(q),
-            Some(other) => err_at(i, format!("`{}` expects a number, got {}", sig.name, other.describe())),
+            Some(other) => err_at(
+                i,
+                format!("`{}` expects a number, got {}", sig.name, other.describe()),
+            ),
             None => err_call(format!("`{}` is missing an argument", sig.name)),
         }
     };
     let ty = match sig.builtin {
-        B::Ln | B::Exp | B::Log10 | B::Sin | B::Cos | B::Tan | B::Asin | B::Acos | B::Atan | B::Floor | B::Ceil | B::Round => {
+        B::Ln
+        | B::Exp
+        | B::Log10
+        | B::Sin
+        | B::Cos
+        | B::Tan
+        | B::Asin
+        | B::Acos
+        | B::Atan
+        | B::Floor
+        | B::Ceil
+        | B::Round => {
             if any_error {
                 return Ok(Ty::Error);
             }
@@ -483,7 +578,10 @@ pub fn type_call(sig: &Signature, args: &[Option<TArg>]) -> Result<Ty, TypeErr> 
                     }
                 };
             }
-            Ty::Num(QTy { dim: first.dim, aff })
+            Ty::Num(QTy {
+                dim: first.dim,
+                aff,
+            })
         }
         B::Atan2 => {
             if any_error {
@@ -515,7 +613,9 @@ pub fn type_call(sig: &Signature, args: &[Option<TArg>]) -> Result<Ty, TypeErr> 
             if !matches!(name.to_ascii_lowercase().as_str(), "water" | "steam") {
                 return err_at(
                     0,
-                    format!("unknown fluid \"{name}\": the real-fluid model available is \"water\" (IAPWS-IF97)"),
+                    format!(
+                        "unknown fluid \"{name}\": the real-fluid model available is \"water\" (IAPWS-IF97)"
+                    ),
                 );
             }
             Ty::Substance(ModelKind::Water)
@@ -525,7 +625,9 @@ pub fn type_call(sig: &Signature, args: &[Option<TArg>]) -> Result<Ty, TypeErr> 
             want_num(sig, args, 1, Dim::SPECIFIC_ENTROPY, false)?;
             want_dimensionless(sig, args, 2)?;
             match (&args[1], &args[2]) {
-                (Some(_), Some(_)) => return err_call("`perfect_gas` takes either `cp:` or `k:`, not both"),
+                (Some(_), Some(_)) => {
+                    return err_call("`perfect_gas` takes either `cp:` or `k:`, not both");
+                }
                 (None, None) => return err_call("`perfect_gas` needs `cp:` or `k:` besides `R:`"),
                 _ => {}
             }
@@ -541,9 +643,16 @@ pub fn type_call(sig: &Signature, args: &[Option<TArg>]) -> Result<Ty, TypeErr> 
                 Some(Ty::Substance(k)) => Some(k),
                 Some(Ty::Error) => None,
                 Some(other) => {
-                    return err_at(0, format!("`state` needs a substance first, got {}", other.describe()));
+                    return err_at(
+                        0,
+                        format!("`state` needs a substance first, got {}", other.describe()),
+                    );
                 }
-                None => return err_call("`state` needs a substance, e.g. state(gas, T: 300 K, p: 1 bar)"),
+                None => {
+                    return err_call(
+                        "`state` needs a substance, e.g. state(gas, T: 300 K, p: 1 bar)",
+                    );
+                }
             };
             want_num(sig, args, 1, Dim::TEMPERATURE, true)?;
             want_num(sig, args, 2, Dim::PRESSURE, false)?;
@@ -594,15 +703,23 @@ pub fn type_call(sig: &Signature, args: &[Option<TArg>]) -> Result<Ty, TypeErr> 
             want_num(sig, args, 0, Dim::SPECIFIC_ENTROPY, false)?;
             want_num(sig, args, 1, Dim::TEMPERATURE, true)?;
             want_num(sig, args, 2, Dim::TEMPERATURE, true)?;
-            if any_error { Ty::Error } else { Ty::num(Dim::SPECIFIC_ENTROPY) }
+            if any_error {
+                Ty::Error
+            } else {
+                Ty::num(Dim::SPECIFIC_ENTROPY)
+            }
         }
         B::DsIdealGas => {
             match args[0].as_ref().map(|a| a.ty) {
-                Some(Ty::Substance(ModelKind::IdealGas | ModelKind::PerfectGas)) | Some(Ty::Error) => {}
+                Some(Ty::Substance(ModelKind::IdealGas | ModelKind::PerfectGas))
+                | Some(Ty::Error) => {}
                 Some(other) => {
                     return err_at(
                         0,
-                        format!("`ds_ideal_gas` needs an ideal or perfect gas, got {}", other.describe()),
+                        format!(
+                            "`ds_ideal_gas` needs an ideal or perfect gas, got {}",
+                            other.describe()
+                        ),
                     );
                 }
                 None => return err_call("`ds_ideal_gas` needs a gas"),
@@ -611,7 +728,11 @@ pub fn type_call(sig: &Signature, args: &[Option<TArg>]) -> Result<Ty, TypeErr> 
             want_num(sig, args, 2, Dim::PRESSURE, false)?;
             want_num(sig, args, 3, Dim::TEMPERATURE, true)?;
             want_num(sig, args, 4, Dim::PRESSURE, false)?;
-            if any_error { Ty::Error } else { Ty::num(Dim::SPECIFIC_ENTROPY) }
+            if any_error {
+                Ty::Error
+            } else {
+                Ty::num(Dim::SPECIFIC_ENTROPY)
+            }
         }
         B::FlowExergy | B::ClosedExergy => {
             let a = want_state(sig, args, 0)?;
@@ -632,7 +753,11 @@ pub fn type_call(sig: &Signature, args: &[Option<TArg>]) -> Result<Ty, TypeErr> 
                     ),
                 );
             }
-            if any_error { Ty::Error } else { Ty::num(Dim::SPECIFIC_ENERGY) }
+            if any_error {
+                Ty::Error
+            } else {
+                Ty::num(Dim::SPECIFIC_ENERGY)
+            }
         }
         B::HeatExergy => {
             if any_error {
@@ -787,7 +912,10 @@ pub fn call(b: Builtin, args: &[Value], warnings: &mut Warnings) -> Result<Value
         B::Asin | B::Acos => {
             let x = n(0)?;
             if !(-1.0..=1.0).contains(&x) {
-                return Err(format!("`{}` of {x}, outside [-1, 1]", if b == B::Asin { "asin" } else { "acos" }));
+                return Err(format!(
+                    "`{}` of {x}, outside [-1, 1]",
+                    if b == B::Asin { "asin" } else { "acos" }
+                ));
             }
             Ok(Value::Num(if b == B::Asin { x.asin() } else { x.acos() }))
         }
@@ -817,7 +945,10 @@ pub fn call(b: Builtin, args: &[Value], warnings: &mut Warnings) -> Result<Value
         B::State => {
             let sub = substance(&args[0])?;
             let g = |i: usize| opt_num(&args[i], f64::NAN);
-            let given: Vec<bool> = args[1..6].iter().map(|a| !matches!(a, Value::Absent)).collect();
+            let given: Vec<bool> = args[1..6]
+                .iter()
+                .map(|a| !matches!(a, Value::Absent))
+                .collect();
             let spec = match spec_kind(given.into_iter()) {
                 Some(SpecKind::TP) => Spec::TP { t: g(1)?, p: g(2)? },
                 Some(SpecKind::PH) => Spec::PH { p: g(2)?, h: g(3)? },
@@ -853,12 +984,26 @@ pub fn call(b: Builtin, args: &[Value], warnings: &mut Warnings) -> Result<Value
         B::JetSpeed => {
             let a = state(&args[0])?;
             let c = state(&args[1])?;
-            Ok(Value::Num(th(process::jet_speed(&a.st, &c.st, opt_num(&args[2], 0.0)?))?))
+            Ok(Value::Num(th(process::jet_speed(
+                &a.st,
+                &c.st,
+                opt_num(&args[2], 0.0)?,
+            ))?))
         }
-        B::DsIncompressible => Ok(Value::Num(th(exergy::ds_incompressible(n(0)?, n(1)?, n(2)?))?)),
+        B::DsIncompressible => Ok(Value::Num(th(exergy::ds_incompressible(
+            n(0)?,
+            n(1)?,
+            n(2)?,
+        ))?)),
         B::DsIdealGas => {
             let g = substance(&args[0])?;
-            Ok(Value::Num(th(exergy::ds_ideal_gas(g, n(1)?, n(2)?, n(3)?, n(4)?))?))
+            Ok(Value::Num(th(exergy::ds_ideal_gas(
+                g,
+                n(1)?,
+                n(2)?,
+                n(3)?,
+                n(4)?,
+            ))?))
         }
         B::FlowExergy | B::ClosedExergy => {
             let a = state(&args[0])?;
@@ -870,7 +1015,12 @@ pub fn call(b: Builtin, args: &[Value], warnings: &mut Warnings) -> Result<Value
                 ));
             }
             Ok(Value::Num(if b == B::FlowExergy {
-                exergy::flow_exergy(&a.st, &d.st, opt_num(&args[2], 0.0)?, opt_num(&args[3], 0.0)?)
+                exergy::flow_exergy(
+                    &a.st,
+                    &d.st,
+                    opt_num(&args[2], 0.0)?,
+                    opt_num(&args[3], 0.0)?,
+                )
             } else {
                 exergy::closed_exergy(&a.st, &d.st)
             }))

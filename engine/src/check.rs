@@ -7,7 +7,8 @@ use std::collections::HashMap;
 use std::sync::Arc;
 
 use sheaf_grammar::{
-    Arg, BinOp, Expr, ExprKind, Ident, Span, Statement, StatementKind, StringLit, UnitExpr, Worksheet,
+    Arg, BinOp, Expr, ExprKind, Ident, Span, Statement, StatementKind, StringLit, UnitExpr,
+    Worksheet,
 };
 
 use crate::builtins::{self, Builtin, Signature, TArg};
@@ -86,7 +87,14 @@ pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
                 unit,
                 value,
                 description,
-            } => (NodeKind::Computed, Some(name), value, None, unit.as_ref(), description),
+            } => (
+                NodeKind::Computed,
+                Some(name),
+                value,
+                None,
+                unit.as_ref(),
+                description,
+            ),
             StatementKind::Check {
                 left,
                 right,
@@ -108,8 +116,14 @@ pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
             }
             if builtins::constant(&n.name).is_some() {
                 diags.push(
-                    Diagnostic::error(format!("`{}` is a built-in constant and cannot be redefined", n.name), n.span)
-                        .with_note("help: choose another name"),
+                    Diagnostic::error(
+                        format!(
+                            "`{}` is a built-in constant and cannot be redefined",
+                            n.name
+                        ),
+                        n.span,
+                    )
+                    .with_note("help: choose another name"),
                 );
                 continue;
             }
@@ -201,7 +215,11 @@ pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
     }
     diags.extend(cx.diags);
     if diags.is_empty() {
-        Ok(Checked { nodes, order, names })
+        Ok(Checked {
+            nodes,
+            order,
+            names,
+        })
     } else {
         diags.sort_by_key(|d| d.span().map_or(0, |s| s.start));
         Err(diags)
@@ -237,8 +255,12 @@ fn closest<'a>(word: &str, candidates: impl Iterator<Item = &'a str>) -> Option<
 }
 
 fn unknown_name(name: &str, span: Span, names: &HashMap<String, usize>) -> Diagnostic {
-    let cands = names.keys().map(String::as_str).chain(builtins::CONSTANTS.iter().map(|c| c.name));
-    let d = Diagnostic::error(format!("unknown name `{name}`"), span).with_label("not defined in this worksheet");
+    let cands = names
+        .keys()
+        .map(String::as_str)
+        .chain(builtins::CONSTANTS.iter().map(|c| c.name));
+    let d = Diagnostic::error(format!("unknown name `{name}`"), span)
+        .with_label("not defined in this worksheet");
     match closest(name, cands) {
         Some(s) => d.with_note(format!("help: did you mean `{s}`?")),
         None => d.with_note("help: define it with `input` or `NAME = ...`"),
@@ -246,13 +268,24 @@ fn unknown_name(name: &str, span: Span, names: &HashMap<String, usize>) -> Diagn
 }
 
 fn cycle_diagnostic(cycle: &[usize], nodes: &[Node], refs_of: &[Vec<(usize, Span)>]) -> Diagnostic {
-    let name = |i: usize| nodes[i].name.as_ref().map_or("(check)".to_string(), |n| n.name.clone());
+    let name = |i: usize| {
+        nodes[i]
+            .name
+            .as_ref()
+            .map_or("(check)".to_string(), |n| n.name.clone())
+    };
     let mut chain: Vec<String> = cycle.iter().map(|&i| name(i)).collect();
     chain.push(name(cycle[0]));
     let first = cycle[0];
-    let first_span = nodes[first].name.as_ref().map_or(nodes[first].expr_span, |n| n.span);
-    let mut d = Diagnostic::error(format!("circular definition: {}", chain.join(" -> ")), first_span)
-        .with_label(format!("`{}` is part of the cycle", name(first)));
+    let first_span = nodes[first]
+        .name
+        .as_ref()
+        .map_or(nodes[first].expr_span, |n| n.span);
+    let mut d = Diagnostic::error(
+        format!("circular definition: {}", chain.join(" -> ")),
+        first_span,
+    )
+    .with_label(format!("`{}` is part of the cycle", name(first)));
     for (k, &i) in cycle.iter().enumerate() {
         let next = cycle[(k + 1) % cycle.len()];
         if let Some((_, span)) = refs_of[i].iter().find(|(j, _)| *j == next) {
@@ -342,7 +375,8 @@ impl Cx<'_> {
                 if let Some(s) = err.suggestion {
                     d = d.with_note(format!("help: did you mean `{s}`?"));
                 }
-                self.diags.push(d.with_note("help: `sheaf units WORD` lists the units sheaf knows"));
+                self.diags
+                    .push(d.with_note("help: `sheaf units WORD` lists the units sheaf knows"));
                 None
             }
         }
@@ -375,10 +409,18 @@ impl Cx<'_> {
             (Ty::Error, _) | (_, Ty::Error) => return ERR,
             (Ty::Num(a), Ty::Num(b)) => (a, b),
             (a, b) => {
-                let bad = if matches!(a, Ty::Num(_)) { (r.span, b) } else { (l.span, a) };
+                let bad = if matches!(a, Ty::Num(_)) {
+                    (r.span, b)
+                } else {
+                    (l.span, a)
+                };
                 return self.error(
                     Diagnostic::error(
-                        format!("`{}` needs numbers, but this is {}", op.symbol(), bad.1.describe()),
+                        format!(
+                            "`{}` needs numbers, but this is {}",
+                            op.symbol(),
+                            bad.1.describe()
+                        ),
                         bad.0,
                     )
                     .with_note("help: use a field of a state, e.g. `st1.h`"),
@@ -406,7 +448,11 @@ impl Cx<'_> {
                 match affinity(op, lq.aff, rq.aff) {
                     Ok(aff) => {
                         let ty = Ty::Num(QTy { dim: lq.dim, aff });
-                        let code = if op == BinOp::Add { Code::Add(lc, rc) } else { Code::Sub(lc, rc) };
+                        let code = if op == BinOp::Add {
+                            Code::Add(lc, rc)
+                        } else {
+                            Code::Sub(lc, rc)
+                        };
                         (ty, code)
                     }
                     Err(msg) => {
@@ -428,7 +474,10 @@ impl Cx<'_> {
             BinOp::Pow => {
                 if !rq.dim.is_none() {
                     return self.error(Diagnostic::error(
-                        format!("an exponent must be dimensionless, got {}", self.side(r, rq)),
+                        format!(
+                            "an exponent must be dimensionless, got {}",
+                            self.side(r, rq)
+                        ),
                         r.span,
                     ));
                 }
@@ -507,7 +556,10 @@ impl Cx<'_> {
             Ok(Ty::Error) => ERR,
             Ok(ty) => (ty, Code::Call(sig.builtin, codes, span)),
             Err(e) => {
-                let at = e.param.and_then(|i| bound.get(i).copied().flatten()).map_or(span, |x| x.span);
+                let at = e
+                    .param
+                    .and_then(|i| bound.get(i).copied().flatten())
+                    .map_or(span, |x| x.span);
                 self.error(
                     Diagnostic::error(e.message, at).with_note(format!("usage: {}", sig.usage)),
                 )
@@ -523,7 +575,10 @@ impl Cx<'_> {
             }
             let names: Vec<&str> = Field::ALL.iter().map(|f| f.name()).collect();
             let d = Diagnostic::error(format!("unknown field `.{}`", field.name), field.span)
-                .with_note(format!("help: the fields of a state are {}", names.join(", ")));
+                .with_note(format!(
+                    "help: the fields of a state are {}",
+                    names.join(", ")
+                ));
             let d = match closest(&field.name, names.iter().copied()) {
                 Some(s) => d.with_note(format!("help: did you mean `.{s}`?")),
                 None => d,
@@ -549,7 +604,10 @@ impl Cx<'_> {
                 let ok = matches!(
                     (k, f),
                     (ModelKind::PerfectGas, Field::Cp | Field::Cv | Field::K)
-                        | (ModelKind::Incompressible, Field::Cp | Field::Cv | Field::Rho | Field::V)
+                        | (
+                            ModelKind::Incompressible,
+                            Field::Cp | Field::Cv | Field::Rho | Field::V
+                        )
                 );
                 if !ok {
                     return self.error(
@@ -564,7 +622,11 @@ impl Cx<'_> {
             }
             other => {
                 return self.error(Diagnostic::error(
-                    format!("`.{}` needs a state, but this is {}", f.name(), other.describe()),
+                    format!(
+                        "`.{}` needs a state, but this is {}",
+                        f.name(),
+                        other.describe()
+                    ),
                     base.span,
                 ));
             }
@@ -572,7 +634,13 @@ impl Cx<'_> {
         (fty, Code::Field(Box::new(code), f, field.span))
     }
 
-    fn check_comparison(&mut self, ws: &Worksheet, node: &Node, left: &Expr, right: Option<&Expr>) -> Typed {
+    fn check_comparison(
+        &mut self,
+        ws: &Worksheet,
+        node: &Node,
+        left: &Expr,
+        right: Option<&Expr>,
+    ) -> Typed {
         let (op, op_span) = match &ws.statements[node.stmt].kind {
             StatementKind::Check { op, op_span, .. } => (*op, *op_span),
             _ => return ERR,
@@ -599,7 +667,8 @@ impl Cx<'_> {
                 }
                 if matches!(
                     (a.aff, b.aff),
-                    (Affinity::Absolute, Affinity::Difference) | (Affinity::Difference, Affinity::Absolute)
+                    (Affinity::Absolute, Affinity::Difference)
+                        | (Affinity::Difference, Affinity::Absolute)
                 ) {
                     return self.error(
                         Diagnostic::error(
@@ -617,7 +686,11 @@ impl Cx<'_> {
                 (Ty::Bool, Code::Cmp(op, Box::new(lc), Box::new(rc)))
             }
             (a, b) => {
-                let bad = if matches!(a, Ty::Num(_)) { (right.span, b) } else { (left.span, a) };
+                let bad = if matches!(a, Ty::Num(_)) {
+                    (right.span, b)
+                } else {
+                    (left.span, a)
+                };
                 self.error(Diagnostic::error(
                     format!("a check compares numbers, but this is {}", bad.1.describe()),
                     bad.0,
@@ -628,7 +701,13 @@ impl Cx<'_> {
 
     /// The display unit of a named value: its annotation, else for an
     /// input (or a plain literal) the unit of its literal, else automatic.
-    fn display_unit(&mut self, ty: Ty, value: &Expr, annotation: Option<&UnitExpr>, input: bool) -> DisplayUnit {
+    fn display_unit(
+        &mut self,
+        ty: Ty,
+        value: &Expr,
+        annotation: Option<&UnitExpr>,
+        input: bool,
+    ) -> DisplayUnit {
         let text_of = |u: &UnitExpr| normalise_unit_text(u.span.slice(self.src));
         if let Some(ann) = annotation {
             let Some(unit) = self.unit(ann) else {
@@ -684,7 +763,11 @@ impl Cx<'_> {
                 }
                 other => {
                     self.diags.push(Diagnostic::error(
-                        format!("{} has no unit; remove the `: {}`", other.describe(), text_of(ann)),
+                        format!(
+                            "{} has no unit; remove the `: {}`",
+                            other.describe(),
+                            text_of(ann)
+                        ),
                         ann.span,
                     ));
                 }
@@ -697,10 +780,18 @@ impl Cx<'_> {
         let Ty::Num(q) = ty else {
             return DisplayUnit::Auto;
         };
-        let literal = if input { last_literal_unit(value, q.dim) } else { plain_literal_unit(value) };
+        let literal = if input {
+            last_literal_unit(value, q.dim)
+        } else {
+            plain_literal_unit(value)
+        };
         match literal {
             Some(u) => match units::resolve(u) {
-                Ok(unit) if unit.dim == q.dim && !(q.aff == Affinity::Difference && unit.affinity == Affinity::Absolute) => {
+                Ok(unit)
+                    if unit.dim == q.dim
+                        && !(q.aff == Affinity::Difference
+                            && unit.affinity == Affinity::Absolute) =>
+                {
                     DisplayUnit::Fixed {
                         unit,
                         text: text_of(u),
@@ -744,7 +835,10 @@ fn last_literal_unit(e: &Expr, dim: Dim) -> Option<&UnitExpr> {
         ExprKind::Binary { left, right, .. } => {
             last_literal_unit(right, dim).or_else(|| last_literal_unit(left, dim))
         }
-        ExprKind::Call { args, .. } => args.iter().rev().find_map(|a| last_literal_unit(&a.value, dim)),
+        ExprKind::Call { args, .. } => args
+            .iter()
+            .rev()
+            .find_map(|a| last_literal_unit(&a.value, dim)),
     }
 }
 
@@ -777,7 +871,9 @@ fn affinity(op: BinOp, a: Affinity, b: Affinity) -> Result<Affinity, &'static st
         (BinOp::Add, Difference, _) | (BinOp::Add, _, Difference) => Ok(Difference),
         (BinOp::Sub, Absolute, Absolute) => Ok(Difference),
         (BinOp::Sub, Absolute, _) => Ok(Absolute),
-        (BinOp::Sub, _, Absolute) => Err("cannot subtract an absolute value of {q} from a difference"),
+        (BinOp::Sub, _, Absolute) => {
+            Err("cannot subtract an absolute value of {q} from a difference")
+        }
         (BinOp::Sub, Difference, _) | (BinOp::Sub, _, Difference) => Ok(Difference),
         _ => Ok(Neutral),
     }
@@ -785,7 +881,12 @@ fn affinity(op: BinOp, a: Affinity, b: Affinity) -> Result<Affinity, &'static st
 
 /// Bind call arguments to parameters. Returns one entry per parameter (or,
 /// for a variadic function, one per argument).
-fn bind<'a>(sig: &Signature, args: &'a [Arg], fspan: Span, call_span: Span) -> Result<Vec<Option<&'a Expr>>, Diagnostic> {
+fn bind<'a>(
+    sig: &Signature,
+    args: &'a [Arg],
+    fspan: Span,
+    call_span: Span,
+) -> Result<Vec<Option<&'a Expr>>, Diagnostic> {
     if sig.variadic {
         if let Some(a) = args.iter().find(|a| a.name.is_some()) {
             return Err(Diagnostic::error(
@@ -794,8 +895,11 @@ fn bind<'a>(sig: &Signature, args: &'a [Arg], fspan: Span, call_span: Span) -> R
             ));
         }
         if args.is_empty() {
-            return Err(Diagnostic::error(format!("`{}` needs at least one argument", sig.name), call_span)
-                .with_note(format!("usage: {}", sig.usage)));
+            return Err(Diagnostic::error(
+                format!("`{}` needs at least one argument", sig.name),
+                call_span,
+            )
+            .with_note(format!("usage: {}", sig.usage)));
         }
         return Ok(args.iter().map(|a| Some(&a.value)).collect());
     }
@@ -816,13 +920,17 @@ fn bind<'a>(sig: &Signature, args: &'a [Arg], fspan: Span, call_span: Span) -> R
                     return Err(d.with_note(format!("usage: {}", sig.usage)));
                 };
                 if out[i].is_some() {
-                    return Err(Diagnostic::error(format!("`{}` is given twice", n.name), a.span)
-                        .with_note(format!("usage: {}", sig.usage)));
+                    return Err(
+                        Diagnostic::error(format!("`{}` is given twice", n.name), a.span)
+                            .with_note(format!("usage: {}", sig.usage)),
+                    );
                 }
                 out[i] = Some(&a.value);
             }
             None => {
-                while next_pos < sig.params.len() && (out[next_pos].is_some() || !sig.params[next_pos].positional) {
+                while next_pos < sig.params.len()
+                    && (out[next_pos].is_some() || !sig.params[next_pos].positional)
+                {
                     if !sig.params[next_pos].positional && out[next_pos].is_none() {
                         return Err(Diagnostic::error(
                             format!(
@@ -836,8 +944,11 @@ fn bind<'a>(sig: &Signature, args: &'a [Arg], fspan: Span, call_span: Span) -> R
                     next_pos += 1;
                 }
                 if next_pos >= sig.params.len() {
-                    return Err(Diagnostic::error(format!("too many arguments for `{}`", sig.name), a.span)
-                        .with_note(format!("usage: {}", sig.usage)));
+                    return Err(Diagnostic::error(
+                        format!("too many arguments for `{}`", sig.name),
+                        a.span,
+                    )
+                    .with_note(format!("usage: {}", sig.usage)));
                 }
                 out[next_pos] = Some(&a.value);
                 next_pos += 1;
@@ -847,10 +958,17 @@ fn bind<'a>(sig: &Signature, args: &'a [Arg], fspan: Span, call_span: Span) -> R
     if sig.builtin != Builtin::State {
         for (i, p) in sig.params.iter().enumerate() {
             if p.required && out[i].is_none() {
-                let how = if p.positional { format!("`{}`", p.name) } else { format!("`{}: ...`", p.name) };
-                return Err(Diagnostic::error(format!("`{}` is missing the argument {how}", sig.name), call_span)
-                    .with_secondary(fspan, "in this call")
-                    .with_note(format!("usage: {}", sig.usage)));
+                let how = if p.positional {
+                    format!("`{}`", p.name)
+                } else {
+                    format!("`{}: ...`", p.name)
+                };
+                return Err(Diagnostic::error(
+                    format!("`{}` is missing the argument {how}", sig.name),
+                    call_span,
+                )
+                .with_secondary(fspan, "in this call")
+                .with_note(format!("usage: {}", sig.usage)));
             }
         }
     }
@@ -864,7 +982,9 @@ pub fn const_value(code: &Code) -> Option<f64> {
             Code::Slot(_) => true,
             Code::Const(_) | Code::Str(_) | Code::Absent => false,
             Code::Neg(a) => has_slot(a),
-            Code::Add(a, b) | Code::Sub(a, b) | Code::Mul(a, b) | Code::Cmp(_, a, b) => has_slot(a) || has_slot(b),
+            Code::Add(a, b) | Code::Sub(a, b) | Code::Mul(a, b) | Code::Cmp(_, a, b) => {
+                has_slot(a) || has_slot(b)
+            }
             Code::Div(a, b, _) | Code::Pow(a, b, _) => has_slot(a) || has_slot(b),
             Code::Field(a, _, _) => has_slot(a),
             Code::Call(_, args, _) => args.iter().any(has_slot),
@@ -874,7 +994,9 @@ pub fn const_value(code: &Code) -> Option<f64> {
         return None;
     }
     let mut w = Vec::new();
-    crate::eval::eval(code, &[], Span::default(), &mut w).ok()?.as_num()
+    crate::eval::eval(code, &[], Span::default(), &mut w)
+        .ok()?
+        .as_num()
 }
 
 /// A rational approximation n/d (d <= 12) of an exponent, if it is one.
@@ -910,7 +1032,11 @@ pub fn check_standalone(e: &Expr, src: &str) -> Result<(Ty, Code), Vec<Diagnosti
     };
     let (ty, code) = cx.expr(e);
     diags.extend(cx.diags);
-    if diags.is_empty() { Ok((ty, code)) } else { Err(diags) }
+    if diags.is_empty() {
+        Ok((ty, code))
+    } else {
+        Err(diags)
+    }
 }
 
 /// The statement a node came from.

@@ -75,7 +75,12 @@ fn fail<T>(span: Span, message: impl Into<String>) -> Result<T, EvalError> {
 
 /// Evaluate `code` reading other nodes' values from `slots`. `span` is the
 /// whole expression's span, used when a sub-expression has none.
-pub fn eval(code: &Code, slots: &[Value], span: Span, warnings: &mut Warnings) -> Result<Value, EvalError> {
+pub fn eval(
+    code: &Code,
+    slots: &[Value],
+    span: Span,
+    warnings: &mut Warnings,
+) -> Result<Value, EvalError> {
     let v = eval_inner(code, slots, span, warnings)?;
     if let Value::Num(x) = v
         && !x.is_finite()
@@ -92,9 +97,21 @@ fn number(code: &Code, slots: &[Value], span: Span, w: &mut Warnings) -> Result<
     }
 }
 
-fn eval_inner(code: &Code, slots: &[Value], span: Span, w: &mut Warnings) -> Result<Value, EvalError> {
-    let bin = |a: &Code, b: &Code, w: &mut Warnings, f: fn(f64, f64) -> f64| -> Result<Value, EvalError> {
-        Ok(Value::Num(f(number(a, slots, span, w)?, number(b, slots, span, w)?)))
+fn eval_inner(
+    code: &Code,
+    slots: &[Value],
+    span: Span,
+    w: &mut Warnings,
+) -> Result<Value, EvalError> {
+    let bin = |a: &Code,
+               b: &Code,
+               w: &mut Warnings,
+               f: fn(f64, f64) -> f64|
+     -> Result<Value, EvalError> {
+        Ok(Value::Num(f(
+            number(a, slots, span, w)?,
+            number(b, slots, span, w)?,
+        )))
     };
     match code {
         Code::Const(x) => Ok(Value::Num(*x)),
@@ -163,11 +180,17 @@ fn eval_inner(code: &Code, slots: &[Value], span: Span, w: &mut Warnings) -> Res
             for a in args {
                 vals.push(eval_inner(a, slots, span, w)?);
             }
-            let v = builtins::call(*b, &vals, w).map_err(|m| EvalError { span: *s, message: m })?;
+            let v = builtins::call(*b, &vals, w).map_err(|m| EvalError {
+                span: *s,
+                message: m,
+            })?;
             if let Value::Num(x) = v
                 && !x.is_finite()
             {
-                return fail(*s, "the function returned a value that is not a finite number");
+                return fail(
+                    *s,
+                    "the function returned a value that is not a finite number",
+                );
             }
             Ok(v)
         }

@@ -17,8 +17,10 @@ pub fn topo_order(deps: &[Vec<usize>]) -> Result<Vec<usize>, Vec<usize>> {
     }
     // Kahn's algorithm with a min-heap on index keeps file order among
     // independent nodes, which makes reports and error order predictable.
-    let mut ready: std::collections::BinaryHeap<std::cmp::Reverse<usize>> =
-        (0..n).filter(|&i| indegree[i] == 0).map(std::cmp::Reverse).collect();
+    let mut ready: std::collections::BinaryHeap<std::cmp::Reverse<usize>> = (0..n)
+        .filter(|&i| indegree[i] == 0)
+        .map(std::cmp::Reverse)
+        .collect();
     let mut order = Vec::with_capacity(n);
     while let Some(std::cmp::Reverse(i)) = ready.pop() {
         order.push(i);

@@ -40,7 +40,8 @@ impl Model {
     /// errors, are returned together.
     pub fn new(source: impl Into<String>) -> Result<Model, Vec<Diagnostic>> {
         let source = source.into();
-        let worksheet = sheaf_grammar::parse(&source).map_err(|es| es.into_iter().map(Diagnostic::from).collect::<Vec<_>>())?;
+        let worksheet = sheaf_grammar::parse(&source)
+            .map_err(|es| es.into_iter().map(Diagnostic::from).collect::<Vec<_>>())?;
         let checked = check::check(&worksheet, &source)?;
         let n = checked.nodes.len();
         let deps: Vec<Vec<usize>> = checked.nodes.iter().map(|n| n.deps.clone()).collect();
@@ -111,7 +112,11 @@ impl Model {
             self.dirty[i] = false;
             self.warnings[i].clear();
             let node = &self.checked.nodes[i];
-            if node.deps.iter().any(|&d| !matches!(self.status[d], Status::Ok)) {
+            if node
+                .deps
+                .iter()
+                .any(|&d| !matches!(self.status[d], Status::Ok))
+            {
                 self.status[i] = Status::Skipped;
                 self.values[i] = Value::Absent;
                 continue;
@@ -153,13 +158,19 @@ impl Model {
     /// the input's quantity. Errors are worded for a command line.
     pub fn set_input_text(&mut self, name: &str, text: &str) -> Result<(), String> {
         let i = self.input_index(name)?;
-        let expr = sheaf_grammar::parse_expr(text).map_err(|e| format!("`{name}={text}`: {}", e.message))?;
+        let expr = sheaf_grammar::parse_expr(text)
+            .map_err(|e| format!("`{name}={text}`: {}", e.message))?;
         let (ty, code) = check::check_standalone(&expr, text).map_err(|ds| {
-            let msgs: Vec<String> = ds.into_iter().map(|d| {
-                let mut m = d.message;
-                for n in d.notes { m.push_str(&format!(" ({n})")); }
-                m
-            }).collect();
+            let msgs: Vec<String> = ds
+                .into_iter()
+                .map(|d| {
+                    let mut m = d.message;
+                    for n in d.notes {
+                        m.push_str(&format!(" ({n})"));
+                    }
+                    m
+                })
+                .collect();
             format!("`{name}={text}`: {}", msgs.join("; "))
         })?;
         let want = self.checked.nodes[i].ty;
@@ -171,15 +182,21 @@ impl Model {
                 describe_qty(w),
                 describe_qty(g)
             )),
-            (Ty::Num(_), _, _) => Err(format!("`{name}={text}`: the value must be a number with a unit")),
-            _ => Err(format!("input `{name}` is not a number and cannot be set from the command line")),
+            (Ty::Num(_), _, _) => Err(format!(
+                "`{name}={text}`: the value must be a number with a unit"
+            )),
+            _ => Err(format!(
+                "input `{name}` is not a number and cannot be set from the command line"
+            )),
         }
     }
 
     fn input_index(&self, name: &str) -> Result<usize, String> {
         match self.node_index(name) {
             Some(i) if self.checked.nodes[i].kind == NodeKind::Input => Ok(i),
-            Some(_) => Err(format!("`{name}` is computed, not an input; only inputs can be set")),
+            Some(_) => Err(format!(
+                "`{name}` is computed, not an input; only inputs can be set"
+            )),
             None => {
                 let inputs: Vec<&str> = self
                     .checked
@@ -188,7 +205,10 @@ impl Model {
                     .filter(|n| n.kind == NodeKind::Input)
                     .filter_map(|n| n.name.as_ref().map(|n| n.name.as_str()))
                     .collect();
-                Err(format!("no input named `{name}`; the inputs are: {}", inputs.join(", ")))
+                Err(format!(
+                    "no input named `{name}`; the inputs are: {}",
+                    inputs.join(", ")
+                ))
             }
         }
     }

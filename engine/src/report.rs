@@ -34,7 +34,10 @@ pub struct Report {
 
 #[derive(Clone, Debug, Serialize)]
 pub enum Block {
-    Heading { level: u8, text: String },
+    Heading {
+        level: u8,
+        text: String,
+    },
     Note(String),
     Quantity(QuantityRow),
     /// Index into `Report::checks`.
@@ -97,16 +100,27 @@ pub fn shown(display: &DisplayUnit, dim: Dim, si: f64) -> (f64, String) {
     }
 }
 
-fn number_row(name: String, kind: &'static str, display: &DisplayUnit, dim: Dim, si: Option<f64>, line: usize, node: usize) -> QuantityRow {
+fn number_row(
+    name: String,
+    kind: &'static str,
+    display: &DisplayUnit,
+    dim: Dim,
+    si: Option<f64>,
+    line: usize,
+    node: usize,
+) -> QuantityRow {
     let (value, unit) = match si {
         Some(x) => {
             let (v, u) = shown(display, dim, x);
             (Some(v), u)
         }
-        None => (None, match display {
-            DisplayUnit::Fixed { text, .. } => text.clone(),
-            DisplayUnit::Auto => units::si_unit(dim),
-        }),
+        None => (
+            None,
+            match display {
+                DisplayUnit::Fixed { text, .. } => text.clone(),
+                DisplayUnit::Auto => units::si_unit(dim),
+            },
+        ),
     };
     QuantityRow {
         name,
@@ -164,7 +178,9 @@ impl Model {
                     });
                 }
                 StatementKind::Note { text } => r.blocks.push(Block::Note(text.clone())),
-                StatementKind::Meta { key, value } => r.meta.push((key.name.clone(), value.value.clone())),
+                StatementKind::Meta { key, value } => {
+                    r.meta.push((key.name.clone(), value.value.clone()))
+                }
                 StatementKind::Input { .. } | StatementKind::Define { .. } => {
                     let Some(i) = node_of_stmt[si] else { continue };
                     r.blocks.push(Block::Quantity(self.quantity_row(i, line)));
@@ -179,7 +195,10 @@ impl Model {
         }
         for &i in self.order() {
             for w in self.warnings(i) {
-                let name = self.nodes()[i].name.as_ref().map_or("check".to_string(), |n| n.name.clone());
+                let name = self.nodes()[i]
+                    .name
+                    .as_ref()
+                    .map_or("check".to_string(), |n| n.name.clone());
                 let line = line_col(src, self.nodes()[i].expr_span.start).0;
                 let msg = format!("line {line}, `{name}`: {w}");
                 if !r.warnings.contains(&msg) {
@@ -193,7 +212,11 @@ impl Model {
     fn quantity_row(&self, i: usize, line: usize) -> QuantityRow {
         let node = &self.nodes()[i];
         let name = node.name.as_ref().map_or(String::new(), |n| n.name.clone());
-        let kind = if node.kind == NodeKind::Input { "input" } else { "computed" };
+        let kind = if node.kind == NodeKind::Input {
+            "input"
+        } else {
+            "computed"
+        };
         let problem = match self.status(i) {
             Status::Ok => None,
             Status::Pending => Some("not evaluated".to_string()),
@@ -201,16 +224,40 @@ impl Model {
             Status::Failed(d) => Some(d.message.clone()),
         };
         let mut row = match (node.ty, self.value(i)) {
-            (Ty::Num(q), v) => number_row(name.clone(), kind, &node.display, q.dim, v.as_num(), line, i),
+            (Ty::Num(q), v) => number_row(
+                name.clone(),
+                kind,
+                &node.display,
+                q.dim,
+                v.as_num(),
+                line,
+                i,
+            ),
             (_, Value::State(sv)) => {
-                let mut row = number_row(name.clone(), kind, &DisplayUnit::Auto, Dim::NONE, None, line, i);
+                let mut row = number_row(
+                    name.clone(),
+                    kind,
+                    &DisplayUnit::Auto,
+                    Dim::NONE,
+                    None,
+                    line,
+                    i,
+                );
                 row.text = Some(format!("state of {}", sv.sub));
                 row.si_unit = String::new();
                 row.unit = String::new();
                 for f in STATE_FIELDS {
                     if let Some(x) = sv.st.get(f) {
                         let fname = format!("{name}.{}", f.name());
-                        let mut fr = number_row(fname, kind, &DisplayUnit::Auto, field_dim(f), Some(x), line, i);
+                        let mut fr = number_row(
+                            fname,
+                            kind,
+                            &DisplayUnit::Auto,
+                            field_dim(f),
+                            Some(x),
+                            line,
+                            i,
+                        );
                         fr.description = Some(field_words(f).to_string());
                         row.fields.push(fr);
                     }
@@ -218,19 +265,43 @@ impl Model {
                 row
             }
             (_, Value::Substance(sub)) => {
-                let mut row = number_row(name.clone(), kind, &DisplayUnit::Auto, Dim::NONE, None, line, i);
+                let mut row = number_row(
+                    name.clone(),
+                    kind,
+                    &DisplayUnit::Auto,
+                    Dim::NONE,
+                    None,
+                    line,
+                    i,
+                );
                 row.text = Some(sub.to_string());
                 row.si_unit = String::new();
                 row.unit = String::new();
                 for (fname, dim, x, words) in substance_fields(sub) {
-                    let mut fr = number_row(format!("{name}.{fname}"), kind, &DisplayUnit::Auto, dim, Some(x), line, i);
+                    let mut fr = number_row(
+                        format!("{name}.{fname}"),
+                        kind,
+                        &DisplayUnit::Auto,
+                        dim,
+                        Some(x),
+                        line,
+                        i,
+                    );
                     fr.description = Some(words.to_string());
                     row.fields.push(fr);
                 }
                 row
             }
             (ty, v) => {
-                let mut row = number_row(name.clone(), kind, &DisplayUnit::Auto, Dim::NONE, None, line, i);
+                let mut row = number_row(
+                    name.clone(),
+                    kind,
+                    &DisplayUnit::Auto,
+                    Dim::NONE,
+                    None,
+                    line,
+                    i,
+                );
                 row.text = Some(match v {
                     Value::Str(s) => format!("\"{s}\""),
                     Value::Bool(b) => b.to_string(),
@@ -254,26 +325,35 @@ impl Model {
             _ => None,
         };
         let (mut left, mut right) = (None, None);
-        if let Some(StatementKind::Check { left: l, right: rt, .. }) =
-            self.worksheet().statements.get(node.stmt).map(|s| &s.kind)
+        if let Some(StatementKind::Check {
+            left: l, right: rt, ..
+        }) = self.worksheet().statements.get(node.stmt).map(|s| &s.kind)
             && let (crate::eval::Code::Cmp(_, lc, rc), Some(_)) = (&node.code, passed)
         {
             let mut w = Vec::new();
-            let lv = crate::eval::eval(lc, self.values(), node.expr_span, &mut w).ok().and_then(|v| v.as_num());
-            let rv = crate::eval::eval(rc, self.values(), node.expr_span, &mut w).ok().and_then(|v| v.as_num());
+            let lv = crate::eval::eval(lc, self.values(), node.expr_span, &mut w)
+                .ok()
+                .and_then(|v| v.as_num());
+            let rv = crate::eval::eval(rc, self.values(), node.expr_span, &mut w)
+                .ok()
+                .and_then(|v| v.as_num());
             // Show both sides in the unit written on the right (or the left).
             let unit_src = [rt, l].into_iter().find_map(|e| match &e.kind {
                 sheaf_grammar::ExprKind::Number { unit: Some(u), .. } => Some(u),
                 _ => None,
             });
             let display = unit_src
-                .and_then(|u| units::resolve(u).ok().map(|unit| DisplayUnit::Fixed {
-                    unit,
-                    text: crate::check::normalise_unit_text(u.span.slice(src)),
-                }))
+                .and_then(|u| {
+                    units::resolve(u).ok().map(|unit| DisplayUnit::Fixed {
+                        unit,
+                        text: crate::check::normalise_unit_text(u.span.slice(src)),
+                    })
+                })
                 .or_else(|| {
                     [l, rt].into_iter().find_map(|e| match &e.kind {
-                        sheaf_grammar::ExprKind::Name(n) => self.node_index(n).map(|j| self.display(j).clone()),
+                        sheaf_grammar::ExprKind::Name(n) => {
+                            self.node_index(n).map(|j| self.display(j).clone())
+                        }
                         _ => None,
                     })
                 })
@@ -286,7 +366,11 @@ impl Model {
                         (DisplayUnit::Auto, true) => (x, String::new()),
                         (DisplayUnit::Auto, false) => units::auto_display(dim, x),
                     };
-                    if u.is_empty() { units::format_sig(v, 4) } else { format!("{} {u}", units::format_sig(v, 4)) }
+                    if u.is_empty() {
+                        units::format_sig(v, 4)
+                    } else {
+                        format!("{} {u}", units::format_sig(v, 4))
+                    }
                 };
                 left = Some(fmt(lv));
                 right = Some(fmt(rv));

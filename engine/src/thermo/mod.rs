@@ -157,7 +157,13 @@ impl ModelKind {
 
     /// Whether states of this model can have the field at all.
     pub fn has_field(self, field: Field) -> bool {
-        !matches!((self, field), (ModelKind::IdealGas | ModelKind::PerfectGas | ModelKind::Incompressible, Field::X))
+        !matches!(
+            (self, field),
+            (
+                ModelKind::IdealGas | ModelKind::PerfectGas | ModelKind::Incompressible,
+                Field::X
+            )
+        )
     }
 
     /// Whether this model accepts the property pair (by spec kind).
@@ -276,8 +282,16 @@ impl fmt::Display for Substance {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
             Substance::IdealGas(g) => write!(f, "ideal gas {}", g.name()),
-            Substance::PerfectGas(g) => write!(f, "perfect gas (R = {} J/(kg K), cp = {} J/(kg K))", g.r, g.cp),
-            Substance::Incompressible(m) => write!(f, "incompressible (c = {} J/(kg K), rho = {} kg/m^3)", m.c, m.rho),
+            Substance::PerfectGas(g) => write!(
+                f,
+                "perfect gas (R = {} J/(kg K), cp = {} J/(kg K))",
+                g.r, g.cp
+            ),
+            Substance::Incompressible(m) => write!(
+                f,
+                "incompressible (c = {} J/(kg K), rho = {} kg/m^3)",
+                m.c, m.rho
+            ),
             Substance::Water => write!(f, "water/steam (IAPWS-IF97)"),
         }
     }
