@@ -1,0 +1,155 @@
+//! Process-level tests of the `sheaf` binary: exit statuses, output formats,
+//! `--set`, `eval`, help texts.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn root() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("..")
+}
+
+fn sheaf(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_sheaf"))
+        .current_dir(root())
+        .env("NO_COLOR", "1")
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+fn stdout(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stdout).into_owned()
+}
+
+fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+#[test]
+fn eval_converts_psi_to_kpa_with_four_significant_figures() {
+    // 14.7 psi x 6894.757 Pa/psi (NIST SP 811, App. B.8) = 101 352.9 Pa -> "101.4 kPa".
+    let o = sheaf(&["eval", "14.7 psi", "--in", "kPa"]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    assert_eq!(stdout(&o).trim(), "101.4 kPa");
+}
+
+#[test]
+fn eval_json_has_the_fixed_keys() {
+    let o = sheaf(&["eval", "0 barg", "--format", "json"]);
+    assert_eq!(o.status.code(), Some(0));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    // Gauge zero is the standard atmosphere, 101 325 Pa (DESIGN §3; 10th CGPM 1954).
+    assert_eq!(v["si_value"].as_f64().unwrap(), 101_325.0);
+    assert_eq!(v["si_unit"], "Pa");
+    assert!(v.get("value").is_some() && v.get("unit").is_some());
+}
+
+#[test]
+fn eval_temperature_difference_in_kelvin_and_refuses_degc() {
+    let o = sheaf(&["eval", "20 degC - 10 degC", "--in", "K"]);
+    assert_eq!(stdout(&o).trim(), "10 K");
+    let o = sheaf(&["eval", "20 degC - 10 degC", "--in", "degC"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("difference"), "{}", stderr(&o));
+}
+
+#[test]
+fn check_exits_1_with_a_located_message_on_a_unit_error() {
+    let o = sheaf(&["check", "tests/golden/errors/dimension_mismatch.sheaf"]);
+    assert_eq!(o.status.code(), Some(1));
+    let e = stderr(&o);
+    assert!(e.contains("dimension_mismatch.sheaf:4:7"), "{e}");
+    assert!(e.contains("left is pressure (bar), right is temperature (K)"), "{e}");
+}
+
+#[test]
+fn check_passes_a_good_worksheet() {
+    let o = sheaf(&["check", "worksheets/air_receiver.sheaf"]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    assert!(stdout(&o).contains("ok"));
+}
+
+#[test]
+fn run_exit_status_3_when_a_check_fails_and_0_when_all_pass() {
+    let o = sheaf(&["run", "worksheets/tank_heatup.sheaf"]);
+    assert_eq!(o.status.code(), Some(3), "{}", stderr(&o));
+    let out = stdout(&o);
+    assert!(out.contains("PASS") && out.contains("FAIL"), "{out}");
+    assert!(out.contains("qualified engineer"), "the caution must be printed");
+    let o = sheaf(&["run", "worksheets/air_receiver.sheaf"]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+}
+
+#[test]
+fn run_json_keys_are_the_documented_ones() {
+    let o = sheaf(&["run", "worksheets/tank_heatup.sheaf", "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let mut keys: Vec<&str> = v.as_object().unwrap().keys().map(String::as_str).collect();
+    keys.sort();
+    assert_eq!(keys, ["checks", "quantities", "title", "warnings"]);
+    let q = &v["quantities"][0];
+    let mut qk: Vec<&str> = q.as_object().unwrap().keys().map(String::as_str).collect();
+    qk.sort();
+    assert_eq!(qk, ["description", "kind", "name", "si_unit", "si_value", "unit", "value"]);
+    let c = &v["checks"][0];
+    let mut ck: Vec<&str> = c.as_object().unwrap().keys().map(String::as_str).collect();
+    ck.sort();
+    assert_eq!(ck, ["description", "line", "passed", "text"]);
+    // T_start = 12 degC is 285.15 K in SI (degC offset 273.15 K, NIST SP 811 §4.2.1.1).
+    let t = v["quantities"].as_array().unwrap().iter().find(|q| q["name"] == "T_start").unwrap();
+    assert_eq!(t["kind"], "input");
+    assert_eq!(t["unit"], "degC");
+    assert!((t["value"].as_f64().unwrap() - 12.0).abs() < 1e-12);
+    assert!((t["si_value"].as_f64().unwrap() - 285.15).abs() < 1e-9);
+}
+
+#[test]
+fn set_overrides_an_input_and_is_dimension_checked() {
+    // Larger heater: heat-up time falls; dT check still fails (depends only on temperatures).
+    let base = sheaf(&["run", "worksheets/tank_heatup.sheaf", "--format", "json"]);
+    let set = sheaf(&["run", "worksheets/tank_heatup.sheaf", "--format", "json", "--set", "P_heater=120 kW"]);
+    let t = |o: &Output| {
+        let v: serde_json::Value = serde_json::from_str(&stdout(o)).unwrap();
+        v["quantities"].as_array().unwrap().iter().find(|q| q["name"] == "t_heat").unwrap()["si_value"]
+            .as_f64()
+            .unwrap()
+    };
+    assert!(t(&set) < t(&base));
+    let bad = sheaf(&["run", "worksheets/tank_heatup.sheaf", "--set", "P_heater=120 kPa"]);
+    assert_eq!(bad.status.code(), Some(2));
+    assert!(stderr(&bad).contains("power"), "{}", stderr(&bad));
+    let unknown = sheaf(&["run", "worksheets/tank_heatup.sheaf", "--set", "P_heatr=1 kW"]);
+    assert_eq!(unknown.status.code(), Some(2));
+}
+
+#[test]
+fn markdown_output_has_tables_and_the_caution() {
+    let o = sheaf(&["run", "worksheets/air_receiver.sheaf", "--format", "md"]);
+    let out = stdout(&o);
+    assert!(out.starts_with("# Kestrel Fen"));
+    assert!(out.contains("| input | `V_rec` |"), "{out}");
+    assert!(out.contains("qualified engineer"));
+}
+
+#[test]
+fn missing_file_is_a_usage_error() {
+    let o = sheaf(&["run", "no/such/file.sheaf"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("cannot read"));
+}
+
+#[test]
+fn help_shows_examples() {
+    for args in [vec!["--help"], vec!["run", "--help"], vec!["eval", "--help"], vec!["units", "--help"]] {
+        let o = sheaf(&args);
+        assert_eq!(o.status.code(), Some(0));
+        assert!(stdout(&o).contains("Example"), "{args:?}: {}", stdout(&o));
+    }
+}
+
+#[test]
+fn units_lists_pressure_units() {
+    let o = sheaf(&["units", "psi"]);
+    assert_eq!(o.status.code(), Some(0));
+    assert!(stdout(&o).contains("psig"));
+}

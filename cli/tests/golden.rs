@@ -1,0 +1,55 @@
+//! Golden tests of rendered diagnostics: every error kind the checker and
+//! evaluator report, located (file:line:col) and worded. Each
+//! `tests/golden/errors/NAME.sheaf` has `NAME.stderr` holding the exit
+//! status and the exact text `sheaf run` prints on stderr.
+//! Regenerate after an intended change with `UPDATE_GOLDEN=1 cargo test -p sheaf-cli --test golden`
+//! and review the diff.
+
+use std::path::Path;
+use std::process::Command;
+
+fn golden_dir() -> std::path::PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("../tests/golden/errors")
+}
+
+#[test]
+fn rendered_diagnostics_match_golden_files() {
+    let dir = golden_dir();
+    let mut cases: Vec<_> = std::fs::read_dir(&dir)
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|e| e == "sheaf"))
+        .collect();
+    cases.sort();
+    assert!(cases.len() >= 10, "expected the golden cases, found {}", cases.len());
+    let update = std::env::var_os("UPDATE_GOLDEN").is_some();
+    let mut failures = Vec::new();
+    for case in &cases {
+        let file_name = case.file_name().unwrap().to_str().unwrap();
+        let out = Command::new(env!("CARGO_BIN_EXE_sheaf"))
+            .current_dir(&dir)
+            .env("NO_COLOR", "1")
+            .args(["run", file_name])
+            .output()
+            .unwrap();
+        let actual = format!(
+            "exit: {}\n{}",
+            out.status.code().unwrap_or(-1),
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let golden = case.with_extension("stderr");
+        if update {
+            std::fs::write(&golden, &actual).unwrap();
+            continue;
+        }
+        let expected = std::fs::read_to_string(&golden)
+            .unwrap_or_else(|_| panic!("missing golden file {}", golden.display()));
+        if expected != actual {
+            failures.push(format!(
+                "--- {}\n=== expected\n{expected}\n=== actual\n{actual}",
+                golden.display()
+            ));
+        }
+    }
+    assert!(failures.is_empty(), "{}", failures.join("\n"));
+}
