@@ -519,11 +519,11 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
         let l = region1(ts, p);
         let v = region2(ts, p);
         let (yl, yv) = (which.of(&l), which.of(&v));
-        if y <= yl {
+        if y < yl {
             let pr = solve_gibbs(Gibbs::R1, p, y, which, backward1(p, y), T_MIN, ts)?;
             return Ok(single(&pr, p));
         }
-        if y < yv {
+        if y <= yv {
             let x = (y - yl) / (yv - yl);
             return Ok(two_phase(ts, p, &l, &v, x));
         }
@@ -549,11 +549,11 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
         let c = sat::coexist3(ts)?;
         let (l, v) = (c.liq.props(), c.vap.props());
         let (yl, yv) = (which.of(&l), which.of(&v));
-        if y > yl && y < yv {
+        if y >= yl && y <= yv {
             let x = (y - yl) / (yv - yl);
             return Ok(two_phase(ts, p, &l, &v, x));
         }
-        branch = if y <= yl { Branch::Liquid(ts) } else { Branch::Vapour(ts) };
+        branch = if y < yl { Branch::Liquid(ts) } else { Branch::Vapour(ts) };
     }
     let pt = solve_r3(p, y, which, branch, t23)?;
     Ok(single(&pt.props(), p))

@@ -53,6 +53,9 @@ pub(super) struct Coexist {
 /// taken as the critical state (the equilibrium system becomes singular).
 const T_CRIT_EPS: f64 = 1e-9;
 
+/// An upper density for the liquid iteration, kg/m^3.
+const RHO_MAX: f64 = 1100.0;
+
 /// Phase equilibrium of the region-3 equation at `t` (623.15 K ..= T_c):
 /// solves p(rho_l) = p(rho_v) and g(rho_l) = g(rho_v) for (rho_l, rho_v).
 pub(super) fn coexist3(t: f64) -> Result<Coexist, ThermoError> {
@@ -62,6 +65,12 @@ pub(super) fn coexist3(t: f64) -> Result<Coexist, ThermoError> {
     }
     let mut rl = rho_liq_aux(t);
     let mut rv = rho_vap_aux(t);
+    let rt = super::R * t;
+    // Residual norm of the best iterate so far. Close to the critical point
+    // the system is ill-conditioned and the iteration ends in rounding
+    // noise (about 1e-10 relative); the best iterate is kept.
+    let mut best: Option<(f64, f64, f64)> = None;
+    let mut noisy = 0;
     for _ in 0..100 {
         let l = R3Point::new(rl, t);
         let v = R3Point::new(rv, t);
@@ -82,6 +91,19 @@ pub(super) fn coexist3(t: f64) -> Result<Coexist, ThermoError> {
             }
             continue;
         }
+        let norm = f1.abs() / pl.abs().max(1.0) + f2.abs() / rt;
+        if best.is_none_or(|b| norm < b.0) {
+            best = Some((norm, rl, rv));
+        }
+        if norm <= 1e-14 {
+            break;
+        }
+        if norm <= 1e-9 {
+            noisy += 1;
+            if noisy > 4 {
+                break;
+            }
+        }
         // Jacobian: d(f1)/d(rl) = dl, d(f1)/d(rv) = -dv,
         // d(f2)/d(rl) = dl/rl, d(f2)/d(rv) = -dv/rv (dg = dp/rho at const T).
         // With a = dl*drl and b = dv*drv: a - b = -f1, a/rl - b/rv = -f2.
@@ -90,26 +112,25 @@ pub(super) fn coexist3(t: f64) -> Result<Coexist, ThermoError> {
         let a = b - f1;
         let mut drl = a / dl;
         let mut drv = b / dv;
-        // Keep each phase on its own side of the critical density.
+        // Keep each phase on its own side of the critical density and
+        // within the range of the equation.
         let lim_l = 0.5 * (rl - RHO_CRIT);
         let lim_v = 0.5 * (RHO_CRIT - rv);
-        if drl < -lim_l {
-            drl = -lim_l;
-        }
-        if drv > lim_v {
-            drv = lim_v;
-        }
+        drl = drl.clamp(-lim_l, 0.5 * (RHO_MAX - rl));
+        drv = drv.clamp(-0.5 * rv, lim_v);
         rl += drl;
         rv += drv;
-        if drl.abs() <= 1e-13 * rl && drv.abs() <= 1e-13 * rv {
-            return Ok(Coexist {
-                liq: R3Point::new(rl, t),
-                vap: R3Point::new(rv, t),
-            });
-        }
         if !(rl.is_finite() && rv.is_finite()) {
             break;
         }
+    }
+    if let Some((norm, rl, rv)) = best
+        && norm <= 1e-9
+    {
+        return Ok(Coexist {
+            liq: R3Point::new(rl, t),
+            vap: R3Point::new(rv, t),
+        });
     }
     Err(ThermoError::NoConvergence(format!(
         "the saturated densities of water at T = {t} K did not converge"
