@@ -285,14 +285,16 @@ fn single(pr: &Props, p: f64) -> State {
 }
 
 fn two_phase(t: f64, p: f64, l: &Props, v: &Props, x: f64) -> State {
-    let h = l.h + x * (v.h - l.h);
-    let vol = l.v + x * (v.v - l.v);
+    // (1 - x) a + x b is exact at x = 0 and x = 1.
+    let mix = |a: f64, b: f64| (1.0 - x) * a + x * b;
+    let h = mix(l.h, v.h);
+    let vol = mix(l.v, v.v);
     State {
         t,
         p,
         h,
         u: h - p * vol,
-        s: l.s + x * (v.s - l.s),
+        s: mix(l.s, v.s),
         v: vol,
         cp: None,
         cv: None,
