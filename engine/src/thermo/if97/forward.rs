@@ -1,0 +1,445 @@
+//! Forward (basic) equations of IAPWS-IF97: the Gibbs free energy of regions
+//! 1, 2 and 5 as a function of (T, p), the Helmholtz free energy of region 3
+//! as a function of (rho, T), the saturation-pressure equation of region 4 and
+//! the boundary equations between regions.
+//!
+//! Source: IAPWS R7-97(2012), "Revised Release on the IAPWS Industrial
+//! Formulation 1997 for the Thermodynamic Properties of Water and Steam";
+//! the equation and table numbers below are those of that document.
+//!
+//! All inputs and outputs are SI (K, Pa, kg/m^3, J/kg, J/(kg K)).
+
+use super::coef;
+use super::{R, RHO_CRIT, T_CRIT};
+
+/// Properties of a single-phase state, SI units.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(super) struct Props {
+    pub t: f64,
+    pub p: f64,
+    /// Specific volume, m^3/kg.
+    pub v: f64,
+    pub h: f64,
+    pub s: f64,
+    pub cp: f64,
+    pub cv: f64,
+    /// Speed of sound, m/s.
+    pub w: f64,
+}
+
+/// `x^min, x^(min+1), ..., x^(min+N-1)` by successive multiplication.
+#[inline(always)]
+fn powers<const N: usize>(x: f64, min: i32) -> [f64; N] {
+    let mut out = [0.0; N];
+    let mut acc = x.powi(min);
+    for o in out.iter_mut() {
+        *o = acc;
+        acc *= x;
+    }
+    out
+}
+
+/// A dimensionless Gibbs free energy and its derivatives with respect to the
+/// reduced pressure (pi) and the inverse reduced temperature (tau).
+#[derive(Clone, Copy, Debug, Default)]
+pub(super) struct Gibbs {
+    pub g: f64,
+    pub gp: f64,
+    pub gpp: f64,
+    pub gt: f64,
+    pub gtt: f64,
+    pub gpt: f64,
+}
+
+// ---------------------------------------------------------------- region 1
+
+const R1_PSTAR: f64 = 16.53e6;
+const R1_TSTAR: f64 = 1386.0;
+
+/// Dimensionless Gibbs free energy of region 1, Eq. (7), and its derivatives
+/// (Table 4), for pi = p/16.53 MPa and tau = 1386 K/T.
+pub(super) fn gamma1(pi: f64, tau: f64) -> Gibbs {
+    let a = 7.1 - pi;
+    let b = tau - 1.222;
+    // Exponents in Table 2: I in 0..=32, J in -41..=17.
+    let pa: [f64; 33] = powers(a, 0);
+    let pb: [f64; 59] = powers(b, -41);
+    let mut r = Gibbs::default();
+    for &(i, j, n) in coef::R1_GIBBS.iter() {
+        let term = n * pa[i as usize] * pb[(j + 41) as usize];
+        let fi = i as f64;
+        let fj = j as f64;
+        r.g += term;
+        r.gp += fi * term;
+        r.gpp += fi * (fi - 1.0) * term;
+        r.gt += fj * term;
+        r.gtt += fj * (fj - 1.0) * term;
+        r.gpt += fi * fj * term;
+    }
+    r.gp = -r.gp / a;
+    r.gpp /= a * a;
+    r.gt /= b;
+    r.gtt /= b * b;
+    r.gpt = -r.gpt / (a * b);
+    r
+}
+
+/// Region 1 properties at (T, p), Table 3.
+pub(super) fn region1(t: f64, p: f64) -> Props {
+    let pi = p / R1_PSTAR;
+    let tau = R1_TSTAR / t;
+    let g = gamma1(pi, tau);
+    let rt = R * t;
+    let cp = -R * tau * tau * g.gtt;
+    let x = g.gp - tau * g.gpt;
+    Props {
+        t,
+        p,
+        v: pi * g.gp * rt / p,
+        h: tau * g.gt * rt,
+        s: (tau * g.gt - g.g) * R,
+        cp,
+        cv: cp + R * x * x / g.gpp,
+        w: (rt * g.gp * g.gp / (x * x / (tau * tau * g.gtt) - g.gpp)).sqrt(),
+    }
+}
+
+// ---------------------------------------------------------------- region 2
+
+/// Ideal-gas part of region 2, Eq. (16), Table 10, tau = 540 K/T.
+fn gamma2_ideal(pi: f64, tau: f64) -> Gibbs {
+    // J0 in -5..=3.
+    let pt: [f64; 9] = powers(tau, -5);
+    let mut r = Gibbs {
+        g: pi.ln(),
+        gp: 1.0 / pi,
+        gpp: -1.0 / (pi * pi),
+        ..Gibbs::default()
+    };
+    for &(j, n) in coef::R2_IDEAL.iter() {
+        let term = n * pt[(j + 5) as usize];
+        let fj = j as f64;
+        r.g += term;
+        r.gt += fj * term;
+        r.gtt += fj * (fj - 1.0) * term;
+    }
+    r.gt /= tau;
+    r.gtt /= tau * tau;
+    r
+}
+
+/// Residual part of region 2, Eq. (17), Table 11.
+fn gamma2_res(pi: f64, tau: f64) -> Gibbs {
+    let b = tau - 0.5;
+    // I in 1..=24, J in 0..=58.
+    let pa: [f64; 24] = powers(pi, 1);
+    let pb: [f64; 59] = powers(b, 0);
+    let mut r = Gibbs::default();
+    for &(i, j, n) in coef::R2_RES.iter() {
+        let term = n * pa[(i - 1) as usize] * pb[j as usize];
+        let fi = i as f64;
+        let fj = j as f64;
+        r.g += term;
+        r.gp += fi * term;
+        r.gpp += fi * (fi - 1.0) * term;
+        r.gt += fj * term;
+        r.gtt += fj * (fj - 1.0) * term;
+        r.gpt += fi * fj * term;
+    }
+    r.gp /= pi;
+    r.gpp /= pi * pi;
+    r.gt /= b;
+    r.gtt /= b * b;
+    r.gpt /= pi * b;
+    r
+}
+
+/// Properties of a Gibbs-type region with ideal and residual parts split
+/// (regions 2 and 5, Tables 12 and 39).
+fn props_ideal_res(t: f64, p: f64, pi: f64, tau: f64, g0: Gibbs, gr: Gibbs) -> Props {
+    let rt = R * t;
+    let gt = g0.gt + gr.gt;
+    let gtt = g0.gtt + gr.gtt;
+    let cp = -R * tau * tau * gtt;
+    let x = 1.0 + pi * gr.gp - tau * pi * gr.gpt;
+    let y = 1.0 - pi * pi * gr.gpp;
+    let z = 1.0 + pi * gr.gp;
+    Props {
+        t,
+        p,
+        v: pi * (g0.gp + gr.gp) * rt / p,
+        h: tau * gt * rt,
+        s: (tau * gt - (g0.g + gr.g)) * R,
+        cp,
+        cv: cp - R * x * x / y,
+        w: (rt * z * z / (y + x * x / (tau * tau * gtt))).sqrt(),
+    }
+}
+
+/// Region 2 properties at (T, p), Eqs. (15)-(17).
+pub(super) fn region2(t: f64, p: f64) -> Props {
+    let pi = p / 1e6;
+    let tau = 540.0 / t;
+    props_ideal_res(t, p, pi, tau, gamma2_ideal(pi, tau), gamma2_res(pi, tau))
+}
+
+// ---------------------------------------------------------------- region 5
+
+/// Region 5 properties at (T, p), Eqs. (32)-(34), Tables 37 and 38.
+pub(super) fn region5(t: f64, p: f64) -> Props {
+    let pi = p / 1e6;
+    let tau = 1000.0 / t;
+    // Ideal part: J0 in -3..=2.
+    let pt: [f64; 6] = powers(tau, -3);
+    let mut g0 = Gibbs {
+        g: pi.ln(),
+        gp: 1.0 / pi,
+        gpp: -1.0 / (pi * pi),
+        ..Gibbs::default()
+    };
+    for &(j, n) in coef::R5_IDEAL.iter() {
+        let term = n * pt[(j + 3) as usize];
+        let fj = j as f64;
+        g0.g += term;
+        g0.gt += fj * term;
+        g0.gtt += fj * (fj - 1.0) * term;
+    }
+    g0.gt /= tau;
+    g0.gtt /= tau * tau;
+    // Residual part: I in 1..=3, J in 1..=9.
+    let mut gr = Gibbs::default();
+    for &(i, j, n) in coef::R5_RES.iter() {
+        let term = n * pi.powi(i) * tau.powi(j);
+        let fi = i as f64;
+        let fj = j as f64;
+        gr.g += term;
+        gr.gp += fi * term;
+        gr.gpp += fi * (fi - 1.0) * term;
+        gr.gt += fj * term;
+        gr.gtt += fj * (fj - 1.0) * term;
+        gr.gpt += fi * fj * term;
+    }
+    gr.gp /= pi;
+    gr.gpp /= pi * pi;
+    gr.gt /= tau;
+    gr.gtt /= tau * tau;
+    gr.gpt /= pi * tau;
+    props_ideal_res(t, p, pi, tau, g0, gr)
+}
+
+// ---------------------------------------------------------------- region 3
+
+/// n1 of Table 30 (coefficient of ln(delta) in Eq. (28)).
+const R3_N1: f64 = 1.0658070028513;
+
+/// Dimensionless Helmholtz free energy of region 3 and its derivatives with
+/// respect to delta = rho/rho_c and tau = T_c/T (Table 32).
+#[derive(Clone, Copy, Debug, Default)]
+pub(super) struct Helm {
+    pub f: f64,
+    pub d: f64,
+    pub dd: f64,
+    pub t: f64,
+    pub tt: f64,
+    pub dt: f64,
+}
+
+/// Eq. (28) with its derivatives.
+pub(super) fn phi3(delta: f64, tau: f64) -> Helm {
+    // I in 0..=11, J in 0..=26.
+    let pd: [f64; 12] = powers(delta, 0);
+    let pt: [f64; 27] = powers(tau, 0);
+    let mut r = Helm::default();
+    for &(i, j, n) in coef::R3_HELM.iter() {
+        let term = n * pd[i as usize] * pt[j as usize];
+        let fi = i as f64;
+        let fj = j as f64;
+        r.f += term;
+        r.d += fi * term;
+        r.dd += fi * (fi - 1.0) * term;
+        r.t += fj * term;
+        r.tt += fj * (fj - 1.0) * term;
+        r.dt += fi * fj * term;
+    }
+    r.f += R3_N1 * delta.ln();
+    r.d = (r.d + R3_N1) / delta;
+    r.dd = (r.dd - R3_N1) / (delta * delta);
+    r.t /= tau;
+    r.tt /= tau * tau;
+    r.dt /= delta * tau;
+    r
+}
+
+/// A region-3 point with the quantities the solvers need.
+#[derive(Clone, Copy, Debug)]
+pub(super) struct R3Point {
+    pub rho: f64,
+    pub t: f64,
+    pub phi: Helm,
+    pub delta: f64,
+    pub tau: f64,
+}
+
+impl R3Point {
+    pub fn new(rho: f64, t: f64) -> R3Point {
+        let delta = rho / RHO_CRIT;
+        let tau = T_CRIT / t;
+        R3Point {
+            rho,
+            t,
+            phi: phi3(delta, tau),
+            delta,
+            tau,
+        }
+    }
+    /// Pressure, Pa (Table 31).
+    pub fn p(&self) -> f64 {
+        self.rho * R * self.t * self.delta * self.phi.d
+    }
+    /// dp/drho at constant T.
+    pub fn dp_drho(&self) -> f64 {
+        let f = &self.phi;
+        R * self.t * self.delta * (2.0 * f.d + self.delta * f.dd)
+    }
+    /// dp/dT at constant rho.
+    pub fn dp_dt(&self) -> f64 {
+        let f = &self.phi;
+        self.rho * R * self.delta * (f.d - self.tau * f.dt)
+    }
+    pub fn h(&self) -> f64 {
+        R * self.t * (self.tau * self.phi.t + self.delta * self.phi.d)
+    }
+    pub fn dh_drho(&self) -> f64 {
+        let f = &self.phi;
+        let d = self.delta;
+        R * self.t / self.rho * (d * self.tau * f.dt + d * f.d + d * d * f.dd)
+    }
+    pub fn dh_dt(&self) -> f64 {
+        let f = &self.phi;
+        let d = self.delta;
+        let tau = self.tau;
+        R * (-tau * tau * f.tt + d * f.d - d * tau * f.dt)
+    }
+    pub fn s(&self) -> f64 {
+        R * (self.tau * self.phi.t - self.phi.f)
+    }
+    pub fn ds_drho(&self) -> f64 {
+        let f = &self.phi;
+        R / self.rho * (self.delta * self.tau * f.dt - self.delta * f.d)
+    }
+    pub fn ds_dt(&self) -> f64 {
+        -R * self.tau * self.tau * self.phi.tt / self.t
+    }
+    /// Specific Gibbs free energy g = f + p/rho, J/kg.
+    pub fn g(&self) -> f64 {
+        R * self.t * (self.phi.f + self.delta * self.phi.d)
+    }
+    pub fn props(&self) -> Props {
+        let f = &self.phi;
+        let d = self.delta;
+        let tau = self.tau;
+        let rt = R * self.t;
+        let cv = -R * tau * tau * f.tt;
+        let x = d * f.d - d * tau * f.dt;
+        let y = 2.0 * d * f.d + d * d * f.dd;
+        Props {
+            t: self.t,
+            p: self.p(),
+            v: 1.0 / self.rho,
+            h: self.h(),
+            s: self.s(),
+            cp: cv + R * x * x / y,
+            cv,
+            w: (rt * (y - x * x / (tau * tau * f.tt))).sqrt(),
+        }
+    }
+}
+
+// ---------------------------------------------------------------- region 4
+
+/// Table 34.
+const R4_N: [f64; 10] = [
+    0.11670521452767e4,
+    -0.72421316703206e6,
+    -0.17073846940092e2,
+    0.12020824702470e5,
+    -0.32325550322333e7,
+    0.14915108613530e2,
+    -0.48232657361591e4,
+    0.40511340542057e6,
+    -0.23855557567849,
+    0.65017534844798e3,
+];
+
+/// Saturation pressure, Eq. (30). T in 273.15 K ..= 647.096 K (not checked).
+pub(super) fn psat(t: f64) -> f64 {
+    let n = &R4_N;
+    let th = t + n[8] / (t - n[9]);
+    let a = th * th + n[0] * th + n[1];
+    let b = n[2] * th * th + n[3] * th + n[4];
+    let c = n[5] * th * th + n[6] * th + n[7];
+    let x = 2.0 * c / (-b + (b * b - 4.0 * a * c).sqrt());
+    let x2 = x * x;
+    x2 * x2 * 1e6
+}
+
+/// Saturation temperature, Eq. (31). p in 611.213 Pa ..= 22.064 MPa (not
+/// checked).
+pub(super) fn tsat(p: f64) -> f64 {
+    let n = &R4_N;
+    let beta = (p / 1e6).sqrt().sqrt();
+    let b2 = beta * beta;
+    let e = b2 + n[2] * beta + n[5];
+    let f = n[0] * b2 + n[3] * beta + n[6];
+    let g = n[1] * b2 + n[4] * beta + n[7];
+    let d = 2.0 * g / (-f - (f * f - 4.0 * e * g).sqrt());
+    let k = n[9] + d;
+    (k - (k * k - 4.0 * (n[8] + n[9] * d)).sqrt()) / 2.0
+}
+
+// ---------------------------------------------------------------- boundaries
+
+/// Table 1: the B23 boundary equation.
+const B23_N: [f64; 5] = [
+    0.34805185628969e3,
+    -0.11671859879975e1,
+    0.10192970039326e-2,
+    0.57254459862746e3,
+    0.13918839778870e2,
+];
+
+/// Pressure on the region 2-3 boundary, Eq. (5).
+pub(super) fn b23_p(t: f64) -> f64 {
+    let n = &B23_N;
+    (n[0] + n[1] * t + n[2] * t * t) * 1e6
+}
+
+/// Temperature on the region 2-3 boundary, Eq. (6).
+pub(super) fn b23_t(p: f64) -> f64 {
+    let n = &B23_N;
+    let pi = p / 1e6;
+    n[3] + ((pi - n[4]) / n[2]).sqrt()
+}
+
+/// Table 19: the B2bc boundary equation.
+const B2BC_N: [f64; 5] = [
+    0.90584278514723e3,
+    -0.67955786399241,
+    0.12809002730136e-3,
+    0.26526571908428e4,
+    0.45257578905948e1,
+];
+
+/// Pressure on the 2b-2c boundary, Eq. (20); h in J/kg.
+pub(super) fn b2bc_p(h: f64) -> f64 {
+    let n = &B2BC_N;
+    let eta = h / 1e3;
+    (n[0] + n[1] * eta + n[2] * eta * eta) * 1e6
+}
+
+/// Enthalpy on the 2b-2c boundary, Eq. (21), J/kg.
+pub(super) fn b2bc_h(p: f64) -> f64 {
+    let n = &B2BC_N;
+    let pi = p / 1e6;
+    (n[3] + ((pi - n[4]) / n[2]).sqrt()) * 1e3
+}

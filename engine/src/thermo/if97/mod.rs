@@ -1,0 +1,726 @@
+//! Water and steam by IAPWS-IF97 (IAPWS R7-97(2012), "Revised Release on
+//! the IAPWS Industrial Formulation 1997 for the Thermodynamic Properties of
+//! Water and Steam").
+//!
+//! Regions 1 to 5 over the whole range of the formulation:
+//! 273.15 K <= T <= 1073.15 K for 0 < p <= 100 MPa, and
+//! 1073.15 K < T <= 2273.15 K for 0 < p <= 50 MPa.
+//!
+//! - (T, p): forward equations; in region 3 the density is solved from the
+//!   Helmholtz equation by a bracketed Newton iteration on the correct branch
+//!   of the isotherm.
+//! - (p, h), (p, s): backward equations of regions 1 and 2 (and of the
+//!   supplementary release SR3-03(2014) for region 3) give starting values;
+//!   Newton refinement on the forward equations then makes the result
+//!   consistent with them: h(p, T(p, h)) = h to about 1e-12 relative.
+//!   Region 3 is a 2-D Newton iteration on (rho, T), region 5 a 1-D Newton
+//!   iteration on T. Inside the saturation dome the quality follows from the
+//!   saturated liquid and vapour at p.
+//! - (p, x), (T, x): saturation by region 4; the saturated phases from
+//!   regions 1 and 2 below 623.15 K, above it from the phase equilibrium of
+//!   the region-3 equation (see [`sat`]).
+//!
+//! All values SI: K, Pa, J/kg, J/(kg K), m^3/kg.
+
+mod backward;
+mod coef;
+mod forward;
+mod sat;
+#[cfg(test)]
+mod tests;
+
+use super::{Result, Spec, State, ThermoError};
+use forward::{Props, R3Point, region1, region2, region5};
+
+/// Critical temperature, K (IAPWS R7-97(2012), Eq. (3)).
+pub const T_CRIT: f64 = 647.096;
+/// Critical pressure, Pa (IAPWS R7-97(2012), Eq. (4)).
+pub const P_CRIT: f64 = 22.064e6;
+/// Critical density, kg/m^3 (IAPWS R7-97(2012), Eq. (5)).
+pub const RHO_CRIT: f64 = 322.0;
+/// Specific gas constant of IF97, J/(kg K) (IAPWS R7-97(2012), Eq. (1)).
+pub const R: f64 = 461.526;
+
+/// Lowest temperature of the formulation, K.
+const T_MIN: f64 = 273.15;
+/// Upper temperature of regions 1 to 3, K.
+const T_MAX: f64 = 1073.15;
+/// Upper temperature of region 5, K.
+const T_MAX5: f64 = 2273.15;
+/// Upper pressure of regions 1 to 3, Pa.
+const P_MAX: f64 = 100e6;
+/// Upper pressure of region 5, Pa.
+const P_MAX5: f64 = 50e6;
+/// Temperature of the region 1-3 boundary, K.
+const T13: f64 = 623.15;
+/// p_sat(273.15 K) by Eq. (30), Pa (checked in the tests).
+const P_SAT_MIN: f64 = 611.212_677_444_344_9;
+/// p_sat(623.15 K) by Eq. (30), Pa (checked in the tests).
+const P_S13: f64 = 16_529_164.252_604_48;
+
+const MODEL: &str = "water/steam (IAPWS-IF97)";
+const RANGE: &str = "273.15 K to 1073.15 K up to 100 MPa; to 2273.15 K up to 50 MPa";
+const SAT_T_RANGE: &str = "saturation from 273.15 K to the critical temperature 647.096 K";
+const SAT_P_RANGE: &str = "saturation from 611.213 Pa to the critical pressure 22.064 MPa";
+
+/// The regions of IAPWS-IF97.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Region {
+    /// Compressed liquid up to 623.15 K.
+    R1,
+    /// Superheated and supercritical steam up to 1073.15 K.
+    R2,
+    /// Near-critical fluid between regions 1 and 2.
+    R3,
+    /// The saturation curve (two-phase states).
+    R4,
+    /// High-temperature steam, 1073.15 K to 2273.15 K up to 50 MPa.
+    R5,
+}
+
+// ------------------------------------------------------------ messages
+
+/// A number for a message: up to 6 significant figures, trailing zeros cut.
+fn num(x: f64) -> String {
+    if !x.is_finite() {
+        return format!("{x}");
+    }
+    if x == 0.0 {
+        return "0".into();
+    }
+    let mag = x.abs().log10().floor();
+    if !(-4.0..=9.0).contains(&mag) {
+        return format!("{x:.5e}");
+    }
+    let decimals = (5.0 - mag).max(0.0) as usize;
+    let s = format!("{x:.decimals$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+fn fmt_p(p: f64) -> String {
+    if p.abs() >= 1e5 {
+        format!("{} MPa", num(p / 1e6))
+    } else if p.abs() >= 1e3 {
+        format!("{} kPa", num(p / 1e3))
+    } else {
+        format!("{} Pa", num(p))
+    }
+}
+
+fn fmt_t(t: f64) -> String {
+    format!("{} K", num(t))
+}
+
+fn fmt_h(h: f64) -> String {
+    format!("{} kJ/kg", num(h / 1e3))
+}
+
+fn fmt_s(s: f64) -> String {
+    format!("{} kJ/(kg K)", num(s / 1e3))
+}
+
+fn out_of_range(what: String, range: &str) -> ThermoError {
+    ThermoError::OutOfRange {
+        what,
+        model: MODEL.into(),
+        range: range.into(),
+    }
+}
+
+fn finite(name: &str, x: f64) -> Result<()> {
+    if x.is_finite() {
+        Ok(())
+    } else {
+        Err(ThermoError::InvalidArgument(format!(
+            "{name} must be a finite number for {MODEL}, got {x}"
+        )))
+    }
+}
+
+fn check_p(p: f64) -> Result<()> {
+    finite("p", p)?;
+    if p <= 0.0 {
+        return Err(ThermoError::InvalidArgument(format!(
+            "the pressure of {MODEL} must be positive (absolute), got p = {}",
+            fmt_p(p)
+        )));
+    }
+    if p > P_MAX {
+        return Err(out_of_range(format!("p = {}", fmt_p(p)), RANGE));
+    }
+    Ok(())
+}
+
+fn check_x(x: f64) -> Result<()> {
+    finite("x", x)?;
+    if !(0.0..=1.0).contains(&x) {
+        return Err(ThermoError::InvalidArgument(format!(
+            "the quality x must be between 0 and 1, got x = {}",
+            num(x)
+        )));
+    }
+    Ok(())
+}
+
+// ------------------------------------------------------------ public API
+
+/// Fix a state of water/steam from a property pair.
+pub fn state(spec: Spec) -> Result<State> {
+    match spec {
+        Spec::TP { t, p } => state_tp(t, p),
+        Spec::PH { p, h } => state_ph(p, h),
+        Spec::PS { p, s } => state_ps(p, s),
+        Spec::PX { p, x } => state_px(p, x),
+        Spec::TX { t, x } => state_tx(t, x),
+    }
+}
+
+/// The region of a (T, p) pair. Never [`Region::R4`]: a (T, p) pair on the
+/// saturation curve is taken as saturated liquid (region 1 or 3).
+pub fn region_tp(t: f64, p: f64) -> Result<Region> {
+    finite("T", t)?;
+    check_p(p)?;
+    if !(T_MIN..=T_MAX5).contains(&t) || (t > T_MAX && p > P_MAX5) {
+        return Err(out_of_range(format!("T = {} at p = {}", fmt_t(t), fmt_p(p)), RANGE));
+    }
+    Ok(if t > T_MAX {
+        Region::R5
+    } else if t <= T13 {
+        if p >= forward::psat(t) { Region::R1 } else { Region::R2 }
+    } else if p > forward::b23_p(t) {
+        Region::R3
+    } else {
+        Region::R2
+    })
+}
+
+/// State from temperature (K) and pressure (Pa).
+pub fn state_tp(t: f64, p: f64) -> Result<State> {
+    let pr = match region_tp(t, p)? {
+        Region::R1 => region1(t, p),
+        Region::R2 => region2(t, p),
+        Region::R3 => r3_tp(t, p)?.props(),
+        Region::R4 => {
+            return Err(ThermoError::NoConvergence(
+                "internal: a (T, p) pair cannot fix a two-phase state".into(),
+            ));
+        }
+        Region::R5 => region5(t, p),
+    };
+    Ok(single(&pr, p))
+}
+
+/// State from pressure (Pa) and specific enthalpy (J/kg).
+pub fn state_ph(p: f64, h: f64) -> Result<State> {
+    check_p(p)?;
+    finite("h", h)?;
+    solve_p(p, h, Which::H)
+}
+
+/// State from pressure (Pa) and specific entropy (J/(kg K)).
+pub fn state_ps(p: f64, s: f64) -> Result<State> {
+    check_p(p)?;
+    finite("s", s)?;
+    solve_p(p, s, Which::S)
+}
+
+/// Two-phase (or saturated) state from pressure (Pa) and quality.
+pub fn state_px(p: f64, x: f64) -> Result<State> {
+    check_x(x)?;
+    let t = t_sat(p)?;
+    let (l, v) = sat::sat_props(t, p)?;
+    Ok(two_phase(t, p, &l, &v, x))
+}
+
+/// Two-phase (or saturated) state from temperature (K) and quality.
+pub fn state_tx(t: f64, x: f64) -> Result<State> {
+    check_x(x)?;
+    let p = p_sat(t)?;
+    let (l, v) = sat::sat_props(t, p)?;
+    Ok(two_phase(t, p, &l, &v, x))
+}
+
+/// Saturation pressure (Pa) at temperature `t` (K), region 4, Eq. (30).
+pub fn p_sat(t: f64) -> Result<f64> {
+    finite("T", t)?;
+    if !(T_MIN..=T_CRIT).contains(&t) {
+        return Err(out_of_range(format!("T = {}", fmt_t(t)), SAT_T_RANGE));
+    }
+    Ok(forward::psat(t).min(P_CRIT))
+}
+
+/// Saturation temperature (K) at pressure `p` (Pa), region 4, Eq. (31).
+pub fn t_sat(p: f64) -> Result<f64> {
+    finite("p", p)?;
+    if p <= 0.0 {
+        return Err(ThermoError::InvalidArgument(format!(
+            "the pressure of {MODEL} must be positive (absolute), got p = {}",
+            fmt_p(p)
+        )));
+    }
+    if !(P_SAT_MIN..=P_CRIT).contains(&p) {
+        return Err(out_of_range(format!("p = {}", fmt_p(p)), SAT_P_RANGE));
+    }
+    Ok(forward::tsat(p).clamp(T_MIN, T_CRIT))
+}
+
+// ------------------------------------------------------------ states
+
+fn single(pr: &Props, p: f64) -> State {
+    State {
+        t: pr.t,
+        p,
+        h: pr.h,
+        u: pr.h - p * pr.v,
+        s: pr.s,
+        v: pr.v,
+        cp: Some(pr.cp),
+        cv: Some(pr.cv),
+        x: None,
+    }
+}
+
+fn two_phase(t: f64, p: f64, l: &Props, v: &Props, x: f64) -> State {
+    // (1 - x) a + x b is exact at x = 0 and x = 1.
+    let mix = |a: f64, b: f64| (1.0 - x) * a + x * b;
+    let h = mix(l.h, v.h);
+    let vol = mix(l.v, v.v);
+    State {
+        t,
+        p,
+        h,
+        u: h - p * vol,
+        s: mix(l.s, v.s),
+        v: vol,
+        cp: None,
+        cv: None,
+        x: Some(x),
+    }
+}
+
+// ------------------------------------------------------------ region 3 (T, p)
+
+/// Solve `f(x) = 0` for `f` increasing on `[lo, hi]` with `f(lo) < 0 < f(hi)`:
+/// Newton's method, falling back to bisection whenever a step would leave
+/// the bracket. `f` returns (value, derivative).
+fn solve_bracketed(mut f: impl FnMut(f64) -> (f64, f64), mut lo: f64, mut hi: f64, x0: f64, ftol: f64) -> Option<f64> {
+    let mut x = if x0 > lo && x0 < hi { x0 } else { 0.5 * (lo + hi) };
+    for _ in 0..300 {
+        let (fx, dfx) = f(x);
+        if !fx.is_finite() {
+            return None;
+        }
+        if fx.abs() <= ftol {
+            return Some(x);
+        }
+        if fx < 0.0 {
+            lo = x;
+        } else {
+            hi = x;
+        }
+        let newton = x - fx / dfx;
+        let next = if dfx > 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
+        if (next - x).abs() <= 1e-15 * x.abs() || hi - lo <= 1e-15 * hi.abs() {
+            return Some(next);
+        }
+        x = next;
+    }
+    None
+}
+
+/// Plain Newton iteration from `x0` on a branch where `f` is increasing;
+/// used for the small metastable stretch between the region-4 saturation
+/// pressure and the region-3 equilibrium pressure.
+fn newton_from(mut f: impl FnMut(f64) -> (f64, f64), x0: f64, ftol: f64) -> Option<f64> {
+    let mut x = x0;
+    for _ in 0..50 {
+        let (fx, dfx) = f(x);
+        if !(fx.is_finite() && dfx > 0.0) {
+            return None;
+        }
+        if fx.abs() <= ftol {
+            return Some(x);
+        }
+        let step = fx / dfx;
+        x -= step;
+        if step.abs() <= 1e-15 * x.abs() {
+            return Some(x);
+        }
+    }
+    None
+}
+
+/// Region-3 point at (T, p): density from the Helmholtz equation.
+fn r3_tp(t: f64, p: f64) -> Result<R3Point> {
+    let f = |rho: f64| {
+        let pt = R3Point::new(rho, t);
+        (pt.p() - p, pt.dp_drho())
+    };
+    let ftol = 1e-13 * p;
+    let fail = || {
+        ThermoError::NoConvergence(format!(
+            "the density of {MODEL} at T = {} and p = {} did not converge",
+            fmt_t(t),
+            fmt_p(p)
+        ))
+    };
+    let root = if t < T_CRIT {
+        // Two branches of the isotherm: pick liquid or vapour by region 4,
+        // bracket between the coexisting density and a far end.
+        let c = sat::coexist3(t)?;
+        if p >= forward::psat(t) {
+            let lo = c.liq.rho;
+            if f(lo).0 >= 0.0 {
+                newton_from(f, lo, ftol)
+            } else {
+                let hi = far_end(&f, 800.0, 1.1, |v| v > 0.0).ok_or_else(fail)?;
+                solve_bracketed(f, lo, hi, lo, ftol)
+            }
+        } else {
+            let hi = c.vap.rho;
+            if f(hi).0 <= 0.0 {
+                newton_from(f, hi, ftol)
+            } else {
+                let lo = far_end(&f, 50.0, 0.5, |v| v < 0.0).ok_or_else(fail)?;
+                solve_bracketed(f, lo, hi, hi, ftol)
+            }
+        }
+    } else {
+        let lo = far_end(&f, 100.0, 0.5, |v| v < 0.0).ok_or_else(fail)?;
+        let hi = far_end(&f, 700.0, 1.1, |v| v > 0.0).ok_or_else(fail)?;
+        // Start from the secant through the bracket ends.
+        let (flo, fhi) = (f(lo).0, f(hi).0);
+        let x0 = lo - flo * (hi - lo) / (fhi - flo);
+        solve_bracketed(f, lo, hi, x0, ftol)
+    };
+    root.map(|rho| R3Point::new(rho, t)).ok_or_else(fail)
+}
+
+/// From `x0`, multiply by `factor` until `ok(f(x))`; at most 20 steps.
+fn far_end(f: &impl Fn(f64) -> (f64, f64), x0: f64, factor: f64, ok: impl Fn(f64) -> bool) -> Option<f64> {
+    let mut x = x0;
+    for _ in 0..20 {
+        if ok(f(x).0) {
+            return Some(x);
+        }
+        x *= factor;
+    }
+    None
+}
+
+// ------------------------------------------------------------ (p, h), (p, s)
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Which {
+    H,
+    S,
+}
+
+impl Which {
+    fn of(self, pr: &Props) -> f64 {
+        match self {
+            Which::H => pr.h,
+            Which::S => pr.s,
+        }
+    }
+    /// d(h or s)/dT at constant p.
+    fn d_dt(self, pr: &Props) -> f64 {
+        match self {
+            Which::H => pr.cp,
+            Which::S => pr.cp / pr.t,
+        }
+    }
+    fn name(self) -> &'static str {
+        match self {
+            Which::H => "h",
+            Which::S => "s",
+        }
+    }
+    fn fmt(self, x: f64) -> String {
+        match self {
+            Which::H => fmt_h(x),
+            Which::S => fmt_s(x),
+        }
+    }
+    /// Convergence tolerance of the refinement: 1e-12 relative, with a floor
+    /// of 1 J/kg resp. 1e-3 J/(kg K) for values near zero (liquid at 0 degC).
+    fn tol(self, target: f64) -> f64 {
+        let floor = match self {
+            Which::H => 1.0,
+            Which::S => 1e-3,
+        };
+        1e-12 * target.abs().max(floor * 1e3)
+    }
+}
+
+/// Which single-phase Gibbs region a (p, h|s) solve uses.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Gibbs {
+    R1,
+    R2,
+    R5,
+}
+
+fn gibbs(reg: Gibbs, t: f64, p: f64) -> Props {
+    match reg {
+        Gibbs::R1 => region1(t, p),
+        Gibbs::R2 => region2(t, p),
+        Gibbs::R5 => region5(t, p),
+    }
+}
+
+/// Dispatch a (p, h) or (p, s) pair to its region and solve.
+fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
+    // Lowest and highest value of h (s) at this pressure.
+    let low = if p >= P_SAT_MIN { region1(T_MIN, p) } else { region2(T_MIN, p) };
+    let top = if p <= P_MAX5 { region5(T_MAX5, p) } else { region2(T_MAX, p) };
+    let (ylow, ytop) = (which.of(&low), which.of(&top));
+    if y < ylow || y > ytop {
+        return Err(out_of_range(
+            format!("{} = {} at p = {}", which.name(), which.fmt(y), fmt_p(p)),
+            &format!(
+                "{} from {} (273.15 K) to {} ({}) at this pressure",
+                which.name(),
+                which.fmt(ylow),
+                which.fmt(ytop),
+                if p <= P_MAX5 { "2273.15 K" } else { "1073.15 K" }
+            ),
+        ));
+    }
+    // Above 1073.15 K: region 5 (up to 50 MPa).
+    if p <= P_MAX5 {
+        let r5 = region5(T_MAX, p);
+        if y > which.of(&r5) {
+            let t0 = T_MAX + (y - which.of(&r5)) / which.d_dt(&r5);
+            let pr = solve_gibbs(Gibbs::R5, p, y, which, t0, T_MAX, T_MAX5)?;
+            return Ok(single(&pr, p));
+        }
+    }
+    // The region 2 upper end; `T_MAX + 1` lets region 2 cover a gap left by
+    // the tiny region 2/5 inconsistency at 1073.15 K.
+    let t2_hi = T_MAX + 1.0;
+    let backward2 = |p: f64, y: f64| match which {
+        Which::H => backward::t2_ph(p, y),
+        Which::S => backward::t2_ps(p, y),
+    };
+    let backward1 = |p: f64, y: f64| match which {
+        Which::H => backward::t1_ph(p, y),
+        Which::S => backward::t1_ps(p, y),
+    };
+    if p < P_SAT_MIN {
+        // No liquid at this pressure: all region 2.
+        let pr = solve_gibbs(Gibbs::R2, p, y, which, backward2(p, y), T_MIN, t2_hi)?;
+        return Ok(single(&pr, p));
+    }
+    if p <= P_S13 {
+        let ts = forward::tsat(p);
+        let l = region1(ts, p);
+        let v = region2(ts, p);
+        let (yl, yv) = (which.of(&l), which.of(&v));
+        if y < yl {
+            let pr = solve_gibbs(Gibbs::R1, p, y, which, backward1(p, y), T_MIN, ts)?;
+            return Ok(single(&pr, p));
+        }
+        if y <= yv {
+            let x = (y - yl) / (yv - yl);
+            return Ok(two_phase(ts, p, &l, &v, x));
+        }
+        let pr = solve_gibbs(Gibbs::R2, p, y, which, backward2(p, y), ts, t2_hi)?;
+        return Ok(single(&pr, p));
+    }
+    // p > p_sat(623.15 K): regions 1, 3 (with the top of the dome) and 2.
+    let r13 = region1(T13, p);
+    if y <= which.of(&r13) {
+        let pr = solve_gibbs(Gibbs::R1, p, y, which, backward1(p, y), T_MIN, T13)?;
+        return Ok(single(&pr, p));
+    }
+    let t23 = forward::b23_t(p);
+    let r23 = region2(t23, p);
+    if y >= which.of(&r23) {
+        let pr = solve_gibbs(Gibbs::R2, p, y, which, backward2(p, y), t23, t2_hi)?;
+        return Ok(single(&pr, p));
+    }
+    // Region 3, possibly two-phase.
+    let mut branch = Branch::Dense;
+    if p < P_CRIT {
+        let ts = forward::tsat(p);
+        let c = sat::coexist3(ts)?;
+        let (l, v) = (c.liq.props(), c.vap.props());
+        let (yl, yv) = (which.of(&l), which.of(&v));
+        if y >= yl && y <= yv {
+            let x = (y - yl) / (yv - yl);
+            return Ok(two_phase(ts, p, &l, &v, x));
+        }
+        branch = if y < yl { Branch::Liquid(ts) } else { Branch::Vapour(ts) };
+    }
+    let pt = solve_r3(p, y, which, branch, t23)?;
+    Ok(single(&pt.props(), p))
+}
+
+/// 1-D refinement in T on a Gibbs region: Newton's method from the backward
+/// value `t0`, kept inside the bracket [lo, hi] by bisection.
+fn solve_gibbs(reg: Gibbs, p: f64, y: f64, which: Which, t0: f64, mut lo: f64, mut hi: f64) -> Result<Props> {
+    let tol = which.tol(y);
+    let mut t = if t0 > lo && t0 < hi { t0 } else { 0.5 * (lo + hi) };
+    for _ in 0..100 {
+        let pr = gibbs(reg, t, p);
+        let r = which.of(&pr) - y;
+        if r.abs() <= tol {
+            return Ok(pr);
+        }
+        if r < 0.0 {
+            lo = t;
+        } else {
+            hi = t;
+        }
+        let d = which.d_dt(&pr);
+        let newton = t - r / d;
+        let next = if d > 0.0 && newton >= lo && newton <= hi { newton } else { 0.5 * (lo + hi) };
+        if (next - t).abs() <= 1e-14 * t {
+            return Ok(gibbs(reg, next, p));
+        }
+        t = next;
+    }
+    Err(ThermoError::NoConvergence(format!(
+        "the temperature of {MODEL} at p = {} and {} = {} did not converge",
+        fmt_p(p),
+        which.name(),
+        which.fmt(y)
+    )))
+}
+
+/// Which part of region 3 a (p, h|s) state is in.
+#[derive(Clone, Copy, Debug, PartialEq)]
+enum Branch {
+    /// p >= p_c: no phase split.
+    Dense,
+    /// p < p_c, liquid side of the dome; the saturation temperature.
+    Liquid(f64),
+    /// p < p_c, vapour side of the dome; the saturation temperature.
+    Vapour(f64),
+}
+
+/// Region 3 from (p, h|s): 2-D Newton on (rho, T) from the SR3-03 backward
+/// values; if that fails or lands on the wrong branch, a bracketed 1-D
+/// iteration on T with the (T, p) density solve inside.
+fn solve_r3(p: f64, y: f64, which: Which, branch: Branch, t23: f64) -> Result<R3Point> {
+    if let Some(pt) = newton_r3(p, y, which) {
+        let ok = match branch {
+            Branch::Dense => true,
+            Branch::Liquid(ts) => pt.t <= ts + 1e-9 && pt.rho > RHO_CRIT,
+            Branch::Vapour(ts) => pt.t >= ts - 1e-9 && pt.rho < RHO_CRIT,
+        };
+        if ok {
+            return Ok(pt);
+        }
+    }
+    // Fallback: y(T) at constant p is increasing; bracket T.
+    let (lo, hi) = match branch {
+        Branch::Dense => (T13 - 1.0, t23 + 1.0),
+        Branch::Liquid(ts) => (T13 - 1.0, ts),
+        Branch::Vapour(ts) => (ts, t23 + 1.0),
+    };
+    nested_r3(p, y, which, lo, hi)
+}
+
+fn r3_y(pt: &R3Point, which: Which) -> (f64, f64, f64) {
+    match which {
+        Which::H => (pt.h(), pt.dh_drho(), pt.dh_dt()),
+        Which::S => (pt.s(), pt.ds_drho(), pt.ds_dt()),
+    }
+}
+
+fn newton_r3(p: f64, y: f64, which: Which) -> Option<R3Point> {
+    let (t0, v0) = match which {
+        Which::H => backward::tv3_ph(p, y),
+        Which::S => backward::tv3_ps(p, y),
+    };
+    if !(t0.is_finite() && v0.is_finite() && v0 > 0.0) {
+        return None;
+    }
+    let (mut rho, mut t) = (1.0 / v0, t0);
+    let ytol = which.tol(y);
+    let ptol = 1e-12 * p;
+    for _ in 0..60 {
+        let pt = R3Point::new(rho, t);
+        let f1 = pt.p() - p;
+        let (yy, y_rho, y_t) = r3_y(&pt, which);
+        let f2 = yy - y;
+        if f1.abs() <= ptol && f2.abs() <= ytol {
+            return Some(pt);
+        }
+        let (p_rho, p_t) = (pt.dp_drho(), pt.dp_dt());
+        let det = p_rho * y_t - p_t * y_rho;
+        if !(det.is_finite() && det != 0.0) {
+            return None;
+        }
+        let mut drho = -(f1 * y_t - p_t * f2) / det;
+        let mut dt = -(p_rho * f2 - y_rho * f1) / det;
+        // Damp long steps (the backward values are close).
+        let k = (drho.abs() / (0.2 * rho)).max(dt.abs() / 20.0);
+        if k > 1.0 {
+            drho /= k;
+            dt /= k;
+        }
+        rho += drho;
+        t += dt;
+        if !(rho > 0.0 && t > 0.0) {
+            return None;
+        }
+        if drho.abs() <= 1e-15 * rho && dt.abs() <= 1e-15 * t {
+            return Some(R3Point::new(rho, t));
+        }
+    }
+    None
+}
+
+fn nested_r3(p: f64, y: f64, which: Which, mut lo: f64, mut hi: f64) -> Result<R3Point> {
+    let fail = || {
+        ThermoError::NoConvergence(format!(
+            "the state of {MODEL} at p = {} and {} = {} did not converge",
+            fmt_p(p),
+            which.name(),
+            which.fmt(y)
+        ))
+    };
+    let eval = |t: f64| -> Result<(R3Point, f64)> {
+        let pt = r3_tp(t, p)?;
+        let v = r3_y(&pt, which).0 - y;
+        Ok((pt, v))
+    };
+    let (_, mut flo) = eval(lo)?;
+    let (_, mut fhi) = eval(hi)?;
+    if flo > 0.0 || fhi < 0.0 {
+        return Err(fail());
+    }
+    // Illinois false position.
+    let mut side = 0i32;
+    for _ in 0..200 {
+        let t = (lo * fhi - hi * flo) / (fhi - flo);
+        let t = if t > lo && t < hi { t } else { 0.5 * (lo + hi) };
+        let (pt, ft) = eval(t)?;
+        if ft.abs() <= which.tol(y) || hi - lo <= 1e-13 * t {
+            return Ok(pt);
+        }
+        if ft < 0.0 {
+            lo = t;
+            flo = ft;
+            if side == -1 {
+                fhi *= 0.5;
+            }
+            side = -1;
+        } else {
+            hi = t;
+            fhi = ft;
+            if side == 1 {
+                flo *= 0.5;
+            }
+            side = 1;
+        }
+    }
+    Err(fail())
+}
