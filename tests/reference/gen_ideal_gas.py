@@ -28,7 +28,9 @@ import os
 import cantera as ct
 
 HERE = os.path.dirname(os.path.abspath(__file__))
-P0 = 1.0e5  # standard pressure, Pa
+# cantera takes the polynomials' S as valid at its species reference pressure
+# (1 atm for these files unless declared); evaluating there returns the
+# polynomial's own S, i.e. the NASA standard-state S° at 1 bar.
 T_REF = 298.15
 
 GASES = ["N2", "O2", "Ar", "CO2", "H2O", "CH4", "H2", "He", "CO"]
@@ -45,8 +47,9 @@ def phase(species_file, names):
 
 
 def molar_row(gas, t):
-    """cp (J/mol K), H (J/mol), S (J/mol K) of the current composition at (t, 1 bar)."""
-    gas.TP = t, P0
+    """cp (J/mol K), H (J/mol), S (J/mol K) of the current composition at t and
+    the reference pressure of the species data (S = polynomial S°)."""
+    gas.TP = t, gas.reference_pressure
     return gas.cp_mole / 1000.0, gas.enthalpy_mole / 1000.0, gas.entropy_mole / 1000.0
 
 
@@ -75,7 +78,8 @@ def table():
         f.write("# nasa7_tm4513: cantera data file nasa_gas.yaml (McBride, Gordon & Reno, NASA TM-4513, 1993)\n")
         f.write("# nasa9_tp2002: cantera data file airNASA9.yaml (McBride, Zehe & Gordon, NASA/TP-2002-211556)\n")
         f.write("# air: mole fractions " + ", ".join(f"{k} {v:.9f}" for k, v in AIR.items()) + "\n")
-        f.write("# per mole; dh = H(T) - H(298.15 K); s0 = absolute S at 1 bar (mixture: with mixing term)\n")
+        f.write("# per mole; dh = H(T) - H(298.15 K); s0 = polynomial S° (NASA standard state 1 bar), evaluated at\n")
+        f.write("# cantera's species reference pressure so that cantera adds no pressure term; mixture: with mixing term\n")
         w = csv.writer(f)
         w.writerow(["source", "gas", "T_K", "M_kg_per_kmol", "cp_J_per_molK", "dh_J_per_mol", "s0_J_per_molK"])
         for r in rows:
