@@ -359,9 +359,10 @@ impl IdealGas {
             // drop its share, which the tests on air's molar mass catch.
             if let Some(sp) = find_species(name) {
                 m += x * sp.m;
-                for k in 0..7 {
-                    a[0][k] += x * sp.low[k];
-                    a[1][k] += x * sp.high[k];
+                for (mix, part) in a.iter_mut().zip([&sp.low, &sp.high]) {
+                    for (ak, pk) in mix.iter_mut().zip(part) {
+                        *ak += x * pk;
+                    }
                 }
                 // Ideal mixing entropy at the mixture's total pressure:
                 // S°_mix = sum x_i S°_i − R_u sum x_i ln x_i.
@@ -650,7 +651,7 @@ fn solve_increasing(f: impl Fn(f64) -> (f64, f64), target: f64, guess: f64) -> O
             lo = t;
         }
         let mut next = t - err / dy;
-        if !(next > lo && next < hi) || !next.is_finite() {
+        if !(next > lo && next < hi && next.is_finite()) {
             next = 0.5 * (lo + hi);
         }
         if (next - t).abs() <= 1e-11 * t || hi - lo <= 1e-11 * t {
