@@ -84,7 +84,7 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
             Block::Quantity(q) => Some(q),
             _ => None,
         })
-        .flat_map(|q| std::iter::once(q).chain(q.fields.iter()))
+        .filter(|q| q.value.is_some())
         .collect();
     let wn = rows
         .iter()
@@ -128,38 +128,48 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
                 } else {
                     pad(&q.name, wn)
                 };
-                let val = value_text(q, sig);
                 let desc = q.description.clone().unwrap_or_default();
-                let line = format!(
-                    "  {tag} {name}  {:>wv$}  {}  {}",
-                    if q.value.is_some() {
-                        val.clone()
-                    } else {
+                let line = if q.value.is_some() {
+                    format!(
+                        "  {tag} {name}  {:>wv$}  {}  {desc}",
+                        value_text(q, sig),
+                        pad(&q.unit, wu),
+                        wv = wv
+                    )
+                } else if let Some(p) = &q.problem {
+                    format!("  {tag} {name}  {}({p}){}  {desc}", st.fail, st.reset)
+                } else if !q.fields.is_empty()
+                    && q.text.as_deref().is_some_and(|t| t.starts_with("state"))
+                {
+                    format!(
+                        "  {tag} {name}  {}  {}{desc}{}",
+                        state_summary(q, sig),
+                        st.dim,
+                        st.reset
+                    )
+                } else {
+                    let extra = q
+                        .fields
+                        .iter()
+                        .map(|f| {
+                            format!("{} {} {}", short(&f.name), value_text(f, sig), f.unit)
+                                .trim_end()
+                                .to_string()
+                        })
+                        .collect::<Vec<_>>()
+                        .join(", ");
+                    let extra = if extra.is_empty() {
                         String::new()
-                    },
-                    pad(&q.unit, wu),
-                    desc,
-                    wv = wv
-                );
+                    } else {
+                        format!(" ({extra})")
+                    };
+                    format!(
+                        "  {tag} {name}  {}{extra}  {desc}",
+                        q.text.clone().unwrap_or_default()
+                    )
+                };
                 out.push_str(line.trim_end());
                 out.push('\n');
-                if q.value.is_none() && !val.is_empty() {
-                    out.push_str(&format!("     {}{}{}\n", st.dim, val, st.reset));
-                }
-                for f in &q.fields {
-                    let fl = format!(
-                        "     {}  {:>wv$}  {}  {}{}{}",
-                        pad(&f.name, wn),
-                        value_text(f, sig),
-                        pad(&f.unit, wu),
-                        st.dim,
-                        f.description.clone().unwrap_or_default(),
-                        st.reset,
-                        wv = wv
-                    );
-                    out.push_str(fl.trim_end());
-                    out.push('\n');
-                }
             }
             Block::Check(i) => {
                 out.push_str(&check_line(&report.checks[*i], st));
@@ -202,6 +212,30 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
     }
     out.push_str(&format!("{}{CAUTION}{}\n", st.dim, st.reset));
     out
+}
+
+/// Last segment of `name.field`.
+fn short(name: &str) -> &str {
+    name.rsplit('.').next().unwrap_or(name)
+}
+
+/// One-line state summary: the properties an engineer reads off a state
+/// point (all fields are in the json output).
+fn state_summary(q: &QuantityRow, sig: usize) -> String {
+    let parts: Vec<String> = q
+        .fields
+        .iter()
+        .filter(|f| matches!(short(&f.name), "T" | "p" | "h" | "s" | "x"))
+        .map(|f| {
+            let u = if f.unit.is_empty() {
+                String::new()
+            } else {
+                format!(" {}", f.unit)
+            };
+            format!("{} {}{u}", short(&f.name), value_text(f, sig))
+        })
+        .collect();
+    format!("[{}]", parts.join(" | "))
 }
 
 fn check_line(c: &CheckRow, st: &Style) -> String {

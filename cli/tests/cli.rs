@@ -59,7 +59,10 @@ fn check_exits_1_with_a_located_message_on_a_unit_error() {
     assert_eq!(o.status.code(), Some(1));
     let e = stderr(&o);
     assert!(e.contains("dimension_mismatch.sheaf:4:7"), "{e}");
-    assert!(e.contains("left is pressure (bar), right is temperature (K)"), "{e}");
+    assert!(
+        e.contains("left is pressure (bar), right is temperature (K)"),
+        "{e}"
+    );
 }
 
 #[test]
@@ -75,7 +78,10 @@ fn run_exit_status_3_when_a_check_fails_and_0_when_all_pass() {
     assert_eq!(o.status.code(), Some(3), "{}", stderr(&o));
     let out = stdout(&o);
     assert!(out.contains("PASS") && out.contains("FAIL"), "{out}");
-    assert!(out.contains("qualified engineer"), "the caution must be printed");
+    assert!(
+        out.contains("qualified engineer"),
+        "the caution must be printed"
+    );
     let o = sheaf(&["run", "worksheets/air_receiver.sheaf"]);
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
 }
@@ -90,13 +96,29 @@ fn run_json_keys_are_the_documented_ones() {
     let q = &v["quantities"][0];
     let mut qk: Vec<&str> = q.as_object().unwrap().keys().map(String::as_str).collect();
     qk.sort();
-    assert_eq!(qk, ["description", "kind", "name", "si_unit", "si_value", "unit", "value"]);
+    assert_eq!(
+        qk,
+        [
+            "description",
+            "kind",
+            "name",
+            "si_unit",
+            "si_value",
+            "unit",
+            "value"
+        ]
+    );
     let c = &v["checks"][0];
     let mut ck: Vec<&str> = c.as_object().unwrap().keys().map(String::as_str).collect();
     ck.sort();
     assert_eq!(ck, ["description", "line", "passed", "text"]);
     // T_start = 12 degC is 285.15 K in SI (degC offset 273.15 K, NIST SP 811 §4.2.1.1).
-    let t = v["quantities"].as_array().unwrap().iter().find(|q| q["name"] == "T_start").unwrap();
+    let t = v["quantities"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|q| q["name"] == "T_start")
+        .unwrap();
     assert_eq!(t["kind"], "input");
     assert_eq!(t["unit"], "degC");
     assert!((t["value"].as_f64().unwrap() - 12.0).abs() < 1e-12);
@@ -107,18 +129,40 @@ fn run_json_keys_are_the_documented_ones() {
 fn set_overrides_an_input_and_is_dimension_checked() {
     // Larger heater: heat-up time falls; dT check still fails (depends only on temperatures).
     let base = sheaf(&["run", "worksheets/tank_heatup.sheaf", "--format", "json"]);
-    let set = sheaf(&["run", "worksheets/tank_heatup.sheaf", "--format", "json", "--set", "P_heater=120 kW"]);
+    let set = sheaf(&[
+        "run",
+        "worksheets/tank_heatup.sheaf",
+        "--format",
+        "json",
+        "--set",
+        "P_heater=120 kW",
+    ]);
     let t = |o: &Output| {
         let v: serde_json::Value = serde_json::from_str(&stdout(o)).unwrap();
-        v["quantities"].as_array().unwrap().iter().find(|q| q["name"] == "t_heat").unwrap()["si_value"]
+        v["quantities"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|q| q["name"] == "t_heat")
+            .unwrap()["si_value"]
             .as_f64()
             .unwrap()
     };
     assert!(t(&set) < t(&base));
-    let bad = sheaf(&["run", "worksheets/tank_heatup.sheaf", "--set", "P_heater=120 kPa"]);
+    let bad = sheaf(&[
+        "run",
+        "worksheets/tank_heatup.sheaf",
+        "--set",
+        "P_heater=120 kPa",
+    ]);
     assert_eq!(bad.status.code(), Some(2));
     assert!(stderr(&bad).contains("power"), "{}", stderr(&bad));
-    let unknown = sheaf(&["run", "worksheets/tank_heatup.sheaf", "--set", "P_heatr=1 kW"]);
+    let unknown = sheaf(&[
+        "run",
+        "worksheets/tank_heatup.sheaf",
+        "--set",
+        "P_heatr=1 kW",
+    ]);
     assert_eq!(unknown.status.code(), Some(2));
 }
 
@@ -140,7 +184,12 @@ fn missing_file_is_a_usage_error() {
 
 #[test]
 fn help_shows_examples() {
-    for args in [vec!["--help"], vec!["run", "--help"], vec!["eval", "--help"], vec!["units", "--help"]] {
+    for args in [
+        vec!["--help"],
+        vec!["run", "--help"],
+        vec!["eval", "--help"],
+        vec!["units", "--help"],
+    ] {
         let o = sheaf(&args);
         assert_eq!(o.status.code(), Some(0));
         assert!(stdout(&o).contains("Example"), "{args:?}: {}", stdout(&o));

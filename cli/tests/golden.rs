@@ -21,7 +21,11 @@ fn rendered_diagnostics_match_golden_files() {
         .filter(|p| p.extension().is_some_and(|e| e == "sheaf"))
         .collect();
     cases.sort();
-    assert!(cases.len() >= 10, "expected the golden cases, found {}", cases.len());
+    assert!(
+        cases.len() >= 10,
+        "expected the golden cases, found {}",
+        cases.len()
+    );
     let update = std::env::var_os("UPDATE_GOLDEN").is_some();
     let mut failures = Vec::new();
     for case in &cases {

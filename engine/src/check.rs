@@ -292,7 +292,9 @@ fn cycle_diagnostic(cycle: &[usize], nodes: &[Node], refs_of: &[Vec<(usize, Span
             d = d.with_secondary(*span, format!("`{}` uses `{}`", name(i), name(next)));
         }
     }
-    d.with_note("help: a value cannot depend on itself; break the loop by making one of these an input")
+    d.with_note(
+        "help: a value cannot depend on itself; break the loop by making one of these an input",
+    )
 }
 
 struct Cx<'a> {

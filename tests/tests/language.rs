@@ -41,7 +41,10 @@ fn temperature_difference_of_two_celsius_values_is_kelvin() {
 #[test]
 fn adding_two_absolute_temperatures_is_an_error() {
     let e = errors("a = 20 degC\nb = a + 10 degC\n");
-    assert!(e[0].contains("cannot add two absolute values of temperature"), "{e:?}");
+    assert!(
+        e[0].contains("cannot add two absolute values of temperature"),
+        "{e:?}"
+    );
 }
 
 #[test]
@@ -56,7 +59,10 @@ fn a_delta_degc_difference_shown_in_kelvin_is_numerically_equal() {
 #[test]
 fn a_difference_shown_in_degc_is_an_error() {
     let e = errors("a = 80 degC\nb = 20 degC\nd : degC = a - b\n");
-    assert!(e[0].contains("difference cannot be shown in `degC`"), "{e:?}");
+    assert!(
+        e[0].contains("difference cannot be shown in `degC`"),
+        "{e:?}"
+    );
 }
 
 #[test]
@@ -79,7 +85,10 @@ fn gauge_pressure_is_offset_by_the_standard_atmosphere() {
     let m = run("a = 8.5 barg\nb = 5.5 barg\nd : kPa = a - b\n");
     assert!(close(m.number("d").unwrap(), 300_000.0, 1e-12));
     let e = errors("a = 8.5 barg\nb = 5.5 barg\nd : barg = a - b\n");
-    assert!(e[0].contains("pressure difference cannot be shown in `barg`"), "{e:?}");
+    assert!(
+        e[0].contains("pressure difference cannot be shown in `barg`"),
+        "{e:?}"
+    );
 }
 
 #[test]
@@ -134,18 +143,27 @@ fn changing_one_input_reevaluates_only_its_dependents() {
     m.set_input_text("y", "3 m").unwrap();
     assert_eq!(m.evaluate(), 4);
     assert_eq!(m.number("s"), Some(40.0 + 12.0));
-    assert!(m.set_input_text("y", "3 kg").unwrap_err().contains("length"));
+    assert!(
+        m.set_input_text("y", "3 kg")
+            .unwrap_err()
+            .contains("length")
+    );
     assert!(m.set_input("y2", 1.0).unwrap_err().contains("computed"));
 }
 
 #[test]
 fn runtime_errors_name_the_statement_and_skip_dependents() {
-    let mut m = Model::new("input a = 0 m\nb = 1 m / a\nc = b * 2\nd = sqrt(a^2 - 1 m^2)\ne = 5\n").unwrap();
+    let mut m = Model::new("input a = 0 m\nb = 1 m / a\nc = b * 2\nd = sqrt(a^2 - 1 m^2)\ne = 5\n")
+        .unwrap();
     m.evaluate();
     let e = m.runtime_errors();
     assert_eq!(e.len(), 2, "{e:#?}");
     assert!(e[0].message.contains("`b`") && e[0].message.contains("division by zero"));
-    assert!(e[1].message.contains("`d`") && e[1].message.contains("sqrt"), "{}", e[1].message);
+    assert!(
+        e[1].message.contains("`d`") && e[1].message.contains("sqrt"),
+        "{}",
+        e[1].message
+    );
     assert_eq!(m.status(m.node_index("c").unwrap()), &Status::Skipped);
     assert_eq!(m.number("e"), Some(5.0));
 }
@@ -174,7 +192,10 @@ fn powers_of_dimensioned_values_need_constant_rational_exponents() {
 fn unknown_names_units_and_functions_get_suggestions() {
     let src = "input mdot = 1 kg/s\nw = mdto * 2\nq = 3 kpa\nz = sqr(4)\n";
     let d = Model::new(src).unwrap_err();
-    let all: Vec<String> = d.iter().map(|d| format!("{} {}", d.message, d.notes.join(" "))).collect();
+    let all: Vec<String> = d
+        .iter()
+        .map(|d| format!("{} {}", d.message, d.notes.join(" ")))
+        .collect();
     assert_eq!(all.len(), 3, "{all:#?}");
     assert!(all[0].contains("`mdto`") && all[0].contains("`mdot`"));
     assert!(all[1].contains("`kpa`") && all[1].contains("`kPa`"));

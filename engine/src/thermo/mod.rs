@@ -282,16 +282,8 @@ impl fmt::Display for Substance {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
             Substance::IdealGas(g) => write!(f, "ideal gas {}", g.name()),
-            Substance::PerfectGas(g) => write!(
-                f,
-                "perfect gas (R = {} J/(kg K), cp = {} J/(kg K))",
-                g.r, g.cp
-            ),
-            Substance::Incompressible(m) => write!(
-                f,
-                "incompressible (c = {} J/(kg K), rho = {} kg/m^3)",
-                m.c, m.rho
-            ),
+            Substance::PerfectGas(_) => write!(f, "perfect gas (constant cp)"),
+            Substance::Incompressible(_) => write!(f, "incompressible substance"),
             Substance::Water => write!(f, "water/steam (IAPWS-IF97)"),
         }
     }

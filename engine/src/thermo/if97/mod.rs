@@ -185,12 +185,19 @@ pub fn region_tp(t: f64, p: f64) -> Result<Region> {
     finite("T", t)?;
     check_p(p)?;
     if !(T_MIN..=T_MAX5).contains(&t) || (t > T_MAX && p > P_MAX5) {
-        return Err(out_of_range(format!("T = {} at p = {}", fmt_t(t), fmt_p(p)), RANGE));
+        return Err(out_of_range(
+            format!("T = {} at p = {}", fmt_t(t), fmt_p(p)),
+            RANGE,
+        ));
     }
     Ok(if t > T_MAX {
         Region::R5
     } else if t <= T13 {
-        if p >= forward::psat(t) { Region::R1 } else { Region::R2 }
+        if p >= forward::psat(t) {
+            Region::R1
+        } else {
+            Region::R2
+        }
     } else if p > forward::b23_p(t) {
         Region::R3
     } else {
@@ -307,8 +314,18 @@ fn two_phase(t: f64, p: f64, l: &Props, v: &Props, x: f64) -> State {
 /// Solve `f(x) = 0` for `f` increasing on `[lo, hi]` with `f(lo) < 0 < f(hi)`:
 /// Newton's method, falling back to bisection whenever a step would leave
 /// the bracket. `f` returns (value, derivative).
-fn solve_bracketed(mut f: impl FnMut(f64) -> (f64, f64), mut lo: f64, mut hi: f64, x0: f64, ftol: f64) -> Option<f64> {
-    let mut x = if x0 > lo && x0 < hi { x0 } else { 0.5 * (lo + hi) };
+fn solve_bracketed(
+    mut f: impl FnMut(f64) -> (f64, f64),
+    mut lo: f64,
+    mut hi: f64,
+    x0: f64,
+    ftol: f64,
+) -> Option<f64> {
+    let mut x = if x0 > lo && x0 < hi {
+        x0
+    } else {
+        0.5 * (lo + hi)
+    };
     for _ in 0..300 {
         let (fx, dfx) = f(x);
         if !fx.is_finite() {
@@ -323,7 +340,11 @@ fn solve_bracketed(mut f: impl FnMut(f64) -> (f64, f64), mut lo: f64, mut hi: f6
             hi = x;
         }
         let newton = x - fx / dfx;
-        let next = if dfx > 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
+        let next = if dfx > 0.0 && newton > lo && newton < hi {
+            newton
+        } else {
+            0.5 * (lo + hi)
+        };
         if (next - x).abs() <= 1e-15 * x.abs() || hi - lo <= 1e-15 * hi.abs() {
             return Some(next);
         }
@@ -401,7 +422,12 @@ fn r3_tp(t: f64, p: f64) -> Result<R3Point> {
 }
 
 /// From `x0`, multiply by `factor` until `ok(f(x))`; at most 20 steps.
-fn far_end(f: &impl Fn(f64) -> (f64, f64), x0: f64, factor: f64, ok: impl Fn(f64) -> bool) -> Option<f64> {
+fn far_end(
+    f: &impl Fn(f64) -> (f64, f64),
+    x0: f64,
+    factor: f64,
+    ok: impl Fn(f64) -> bool,
+) -> Option<f64> {
     let mut x = x0;
     for _ in 0..20 {
         if ok(f(x).0) {
@@ -476,8 +502,16 @@ fn gibbs(reg: Gibbs, t: f64, p: f64) -> Props {
 /// Dispatch a (p, h) or (p, s) pair to its region and solve.
 fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
     // Lowest and highest value of h (s) at this pressure.
-    let low = if p >= P_SAT_MIN { region1(T_MIN, p) } else { region2(T_MIN, p) };
-    let top = if p <= P_MAX5 { region5(T_MAX5, p) } else { region2(T_MAX, p) };
+    let low = if p >= P_SAT_MIN {
+        region1(T_MIN, p)
+    } else {
+        region2(T_MIN, p)
+    };
+    let top = if p <= P_MAX5 {
+        region5(T_MAX5, p)
+    } else {
+        region2(T_MAX, p)
+    };
     let (ylow, ytop) = (which.of(&low), which.of(&top));
     if y < ylow || y > ytop {
         return Err(out_of_range(
@@ -487,7 +521,11 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
                 which.name(),
                 which.fmt(ylow),
                 which.fmt(ytop),
-                if p <= P_MAX5 { "2273.15 K" } else { "1073.15 K" }
+                if p <= P_MAX5 {
+                    "2273.15 K"
+                } else {
+                    "1073.15 K"
+                }
             ),
         ));
     }
@@ -555,7 +593,11 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
             let x = (y - yl) / (yv - yl);
             return Ok(two_phase(ts, p, &l, &v, x));
         }
-        branch = if y < yl { Branch::Liquid(ts) } else { Branch::Vapour(ts) };
+        branch = if y < yl {
+            Branch::Liquid(ts)
+        } else {
+            Branch::Vapour(ts)
+        };
     }
     let pt = solve_r3(p, y, which, branch, t23)?;
     Ok(single(&pt.props(), p))
@@ -563,9 +605,21 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
 
 /// 1-D refinement in T on a Gibbs region: Newton's method from the backward
 /// value `t0`, kept inside the bracket [lo, hi] by bisection.
-fn solve_gibbs(reg: Gibbs, p: f64, y: f64, which: Which, t0: f64, mut lo: f64, mut hi: f64) -> Result<Props> {
+fn solve_gibbs(
+    reg: Gibbs,
+    p: f64,
+    y: f64,
+    which: Which,
+    t0: f64,
+    mut lo: f64,
+    mut hi: f64,
+) -> Result<Props> {
     let tol = which.tol(y);
-    let mut t = if t0 > lo && t0 < hi { t0 } else { 0.5 * (lo + hi) };
+    let mut t = if t0 > lo && t0 < hi {
+        t0
+    } else {
+        0.5 * (lo + hi)
+    };
     for _ in 0..100 {
         let pr = gibbs(reg, t, p);
         let r = which.of(&pr) - y;
@@ -579,7 +633,11 @@ fn solve_gibbs(reg: Gibbs, p: f64, y: f64, which: Which, t0: f64, mut lo: f64, m
         }
         let d = which.d_dt(&pr);
         let newton = t - r / d;
-        let next = if d > 0.0 && newton >= lo && newton <= hi { newton } else { 0.5 * (lo + hi) };
+        let next = if d > 0.0 && newton >= lo && newton <= hi {
+            newton
+        } else {
+            0.5 * (lo + hi)
+        };
         if (next - t).abs() <= 1e-14 * t {
             return Ok(gibbs(reg, next, p));
         }

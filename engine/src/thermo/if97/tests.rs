@@ -35,7 +35,10 @@ fn check(what: &str, actual: f64, printed: &str) {
 
 fn rel(what: &str, actual: f64, expected: f64, tol: f64) {
     let err = ((actual - expected) / expected).abs();
-    assert!(err <= tol, "{what}: got {actual:.12e}, expected {expected:.12e}, relative error {err:.2e} > {tol:.1e}");
+    assert!(
+        err <= tol,
+        "{what}: got {actual:.12e}, expected {expected:.12e}, relative error {err:.2e} > {tol:.1e}"
+    );
 }
 
 const MPA: f64 = 1e6;
@@ -56,12 +59,49 @@ fn check_row(tag: &str, pr: &forward::Props, row: [&str; 6]) {
 fn if97_table5_region1() {
     // IF97 Table 5: v, h, u, s, cp, w at (T, p).
     let rows = [
-        (300.0, 3.0, ["0.100215168e-2", "0.115331273e3", "0.112324818e3", "0.392294792", "0.417301218e1", "0.150773921e4"]),
-        (300.0, 80.0, ["0.971180894e-3", "0.184142828e3", "0.106448356e3", "0.368563852", "0.401008987e1", "0.163469054e4"]),
-        (500.0, 3.0, ["0.120241800e-2", "0.975542239e3", "0.971934985e3", "0.258041912e1", "0.465580682e1", "0.124071337e4"]),
+        (
+            300.0,
+            3.0,
+            [
+                "0.100215168e-2",
+                "0.115331273e3",
+                "0.112324818e3",
+                "0.392294792",
+                "0.417301218e1",
+                "0.150773921e4",
+            ],
+        ),
+        (
+            300.0,
+            80.0,
+            [
+                "0.971180894e-3",
+                "0.184142828e3",
+                "0.106448356e3",
+                "0.368563852",
+                "0.401008987e1",
+                "0.163469054e4",
+            ],
+        ),
+        (
+            500.0,
+            3.0,
+            [
+                "0.120241800e-2",
+                "0.975542239e3",
+                "0.971934985e3",
+                "0.258041912e1",
+                "0.465580682e1",
+                "0.124071337e4",
+            ],
+        ),
     ];
     for (t, p, row) in rows {
-        check_row(&format!("IF97 Table 5, T = {t} K, p = {p} MPa"), &forward::region1(t, p * MPA), row);
+        check_row(
+            &format!("IF97 Table 5, T = {t} K, p = {p} MPa"),
+            &forward::region1(t, p * MPA),
+            row,
+        );
     }
 }
 
@@ -69,12 +109,49 @@ fn if97_table5_region1() {
 fn if97_table15_region2() {
     // IF97 Table 15.
     let rows = [
-        (300.0, 0.0035, ["0.394913866e2", "0.254991145e4", "0.241169160e4", "0.852238967e1", "0.191300162e1", "0.427920172e3"]),
-        (700.0, 0.0035, ["0.923015898e2", "0.333568375e4", "0.301262819e4", "0.101749996e2", "0.208141274e1", "0.644289068e3"]),
-        (700.0, 30.0, ["0.542946619e-2", "0.263149474e4", "0.246861076e4", "0.517540298e1", "0.103505092e2", "0.480386523e3"]),
+        (
+            300.0,
+            0.0035,
+            [
+                "0.394913866e2",
+                "0.254991145e4",
+                "0.241169160e4",
+                "0.852238967e1",
+                "0.191300162e1",
+                "0.427920172e3",
+            ],
+        ),
+        (
+            700.0,
+            0.0035,
+            [
+                "0.923015898e2",
+                "0.333568375e4",
+                "0.301262819e4",
+                "0.101749996e2",
+                "0.208141274e1",
+                "0.644289068e3",
+            ],
+        ),
+        (
+            700.0,
+            30.0,
+            [
+                "0.542946619e-2",
+                "0.263149474e4",
+                "0.246861076e4",
+                "0.517540298e1",
+                "0.103505092e2",
+                "0.480386523e3",
+            ],
+        ),
     ];
     for (t, p, row) in rows {
-        check_row(&format!("IF97 Table 15, T = {t} K, p = {p} MPa"), &forward::region2(t, p * MPA), row);
+        check_row(
+            &format!("IF97 Table 15, T = {t} K, p = {p} MPa"),
+            &forward::region2(t, p * MPA),
+            row,
+        );
     }
 }
 
@@ -82,9 +159,42 @@ fn if97_table15_region2() {
 fn if97_table33_region3() {
     // IF97 Table 33: p, h, u, s, cp, w at (rho, T).
     let rows = [
-        (500.0, 650.0, ["0.255837018e2", "0.186343019e4", "0.181226279e4", "0.405427273e1", "0.138935717e2", "0.502005554e3"]),
-        (200.0, 650.0, ["0.222930643e2", "0.237512401e4", "0.226365868e4", "0.485438792e1", "0.446579342e2", "0.383444594e3"]),
-        (500.0, 750.0, ["0.783095639e2", "0.225868845e4", "0.210206932e4", "0.446971906e1", "0.634165359e1", "0.760696041e3"]),
+        (
+            500.0,
+            650.0,
+            [
+                "0.255837018e2",
+                "0.186343019e4",
+                "0.181226279e4",
+                "0.405427273e1",
+                "0.138935717e2",
+                "0.502005554e3",
+            ],
+        ),
+        (
+            200.0,
+            650.0,
+            [
+                "0.222930643e2",
+                "0.237512401e4",
+                "0.226365868e4",
+                "0.485438792e1",
+                "0.446579342e2",
+                "0.383444594e3",
+            ],
+        ),
+        (
+            500.0,
+            750.0,
+            [
+                "0.783095639e2",
+                "0.225868845e4",
+                "0.210206932e4",
+                "0.446971906e1",
+                "0.634165359e1",
+                "0.760696041e3",
+            ],
+        ),
     ];
     for (rho, t, row) in rows {
         let tag = format!("IF97 Table 33, rho = {rho} kg/m3, T = {t} K");
@@ -102,24 +212,77 @@ fn if97_table33_region3() {
 fn if97_table42_region5() {
     // IF97 Table 42.
     let rows = [
-        (1500.0, 0.5, ["0.138455090e1", "0.521976855e4", "0.452749310e4", "0.965408875e1", "0.261609445e1", "0.917068690e3"]),
-        (1500.0, 30.0, ["0.230761299e-1", "0.516723514e4", "0.447495124e4", "0.772970133e1", "0.272724317e1", "0.928548002e3"]),
-        (2000.0, 30.0, ["0.311385219e-1", "0.657122604e4", "0.563707038e4", "0.853640523e1", "0.288569882e1", "0.106736948e4"]),
+        (
+            1500.0,
+            0.5,
+            [
+                "0.138455090e1",
+                "0.521976855e4",
+                "0.452749310e4",
+                "0.965408875e1",
+                "0.261609445e1",
+                "0.917068690e3",
+            ],
+        ),
+        (
+            1500.0,
+            30.0,
+            [
+                "0.230761299e-1",
+                "0.516723514e4",
+                "0.447495124e4",
+                "0.772970133e1",
+                "0.272724317e1",
+                "0.928548002e3",
+            ],
+        ),
+        (
+            2000.0,
+            30.0,
+            [
+                "0.311385219e-1",
+                "0.657122604e4",
+                "0.563707038e4",
+                "0.853640523e1",
+                "0.288569882e1",
+                "0.106736948e4",
+            ],
+        ),
     ];
     for (t, p, row) in rows {
-        check_row(&format!("IF97 Table 42, T = {t} K, p = {p} MPa"), &forward::region5(t, p * MPA), row);
+        check_row(
+            &format!("IF97 Table 42, T = {t} K, p = {p} MPa"),
+            &forward::region5(t, p * MPA),
+            row,
+        );
     }
 }
 
 #[test]
 fn if97_tables35_36_saturation() {
     // IF97 Table 35: p_sat(T), MPa.
-    for (t, p) in [(300.0, "0.353658941e-2"), (500.0, "0.263889776e1"), (600.0, "0.123443146e2")] {
-        check(&format!("IF97 Table 35, p_sat({t} K)"), p_sat(t).unwrap() / MPA, p);
+    for (t, p) in [
+        (300.0, "0.353658941e-2"),
+        (500.0, "0.263889776e1"),
+        (600.0, "0.123443146e2"),
+    ] {
+        check(
+            &format!("IF97 Table 35, p_sat({t} K)"),
+            p_sat(t).unwrap() / MPA,
+            p,
+        );
     }
     // IF97 Table 36: T_sat(p), K.
-    for (p, t) in [(0.1, "0.372755919e3"), (1.0, "0.453035632e3"), (10.0, "0.584149488e3")] {
-        check(&format!("IF97 Table 36, T_sat({p} MPa)"), t_sat(p * MPA).unwrap(), t);
+    for (p, t) in [
+        (0.1, "0.372755919e3"),
+        (1.0, "0.453035632e3"),
+        (10.0, "0.584149488e3"),
+    ] {
+        check(
+            &format!("IF97 Table 36, T_sat({p} MPa)"),
+            t_sat(p * MPA).unwrap(),
+            t,
+        );
     }
 }
 
@@ -127,12 +290,28 @@ fn if97_tables35_36_saturation() {
 fn if97_boundary_equations() {
     // IF97 Section 4 (B23, Eqs. (5), (6)): T = 0.623150000e3 K <->
     // p = 0.165291643e2 MPa.
-    check("IF97 B23 p(623.15 K)", forward::b23_p(623.15) / MPA, "0.165291643e2");
-    check("IF97 B23 T(16.5291643 MPa)", forward::b23_t(16.529_164_3 * MPA), "0.623150000e3");
+    check(
+        "IF97 B23 p(623.15 K)",
+        forward::b23_p(623.15) / MPA,
+        "0.165291643e2",
+    );
+    check(
+        "IF97 B23 T(16.5291643 MPa)",
+        forward::b23_t(16.529_164_3 * MPA),
+        "0.623150000e3",
+    );
     // IF97 Section 6.3.1 (B2bc, Eqs. (20), (21)): p = 0.100000000e3 MPa <->
     // h = 0.3516004323e4 kJ/kg.
-    check("IF97 B2bc p(3516.004323 kJ/kg)", forward::b2bc_p(3516.004_323 * KJ) / MPA, "0.100000000e3");
-    check("IF97 B2bc h(100 MPa)", forward::b2bc_h(100.0 * MPA) / KJ, "0.3516004323e4");
+    check(
+        "IF97 B2bc p(3516.004323 kJ/kg)",
+        forward::b2bc_p(3516.004_323 * KJ) / MPA,
+        "0.100000000e3",
+    );
+    check(
+        "IF97 B2bc h(100 MPa)",
+        forward::b2bc_h(100.0 * MPA) / KJ,
+        "0.3516004323e4",
+    );
     // The module constants are Eq. (30) at 273.15 K and 623.15 K.
     assert_eq!(forward::psat(T_MIN), P_SAT_MIN);
     assert_eq!(forward::psat(T13), P_S13);
@@ -142,12 +321,28 @@ fn if97_boundary_equations() {
 fn if97_tables7_9_backward_region1() {
     use super::backward::{t1_ph, t1_ps};
     // IF97 Table 7: T(p, h), region 1.
-    for (p, h, t) in [(3.0, 500.0, "0.391798509e3"), (80.0, 500.0, "0.378108626e3"), (80.0, 1500.0, "0.611041229e3")] {
-        check(&format!("IF97 Table 7, T({p} MPa, {h} kJ/kg)"), t1_ph(p * MPA, h * KJ), t);
+    for (p, h, t) in [
+        (3.0, 500.0, "0.391798509e3"),
+        (80.0, 500.0, "0.378108626e3"),
+        (80.0, 1500.0, "0.611041229e3"),
+    ] {
+        check(
+            &format!("IF97 Table 7, T({p} MPa, {h} kJ/kg)"),
+            t1_ph(p * MPA, h * KJ),
+            t,
+        );
     }
     // IF97 Table 9: T(p, s), region 1.
-    for (p, s, t) in [(3.0, 0.5, "0.307842258e3"), (80.0, 0.5, "0.309979785e3"), (80.0, 3.0, "0.565899909e3")] {
-        check(&format!("IF97 Table 9, T({p} MPa, {s} kJ/kgK)"), t1_ps(p * MPA, s * KJ), t);
+    for (p, s, t) in [
+        (3.0, 0.5, "0.307842258e3"),
+        (80.0, 0.5, "0.309979785e3"),
+        (80.0, 3.0, "0.565899909e3"),
+    ] {
+        check(
+            &format!("IF97 Table 9, T({p} MPa, {s} kJ/kgK)"),
+            t1_ps(p * MPA, s * KJ),
+            t,
+        );
     }
 }
 
@@ -167,7 +362,11 @@ fn if97_tables24_29_backward_region2() {
         (60.0, 3200.0, "0.882756860e3"),
     ];
     for (p, h, t) in t24 {
-        check(&format!("IF97 Table 24, T({p} MPa, {h} kJ/kg)"), t2_ph(p * MPA, h * KJ), t);
+        check(
+            &format!("IF97 Table 24, T({p} MPa, {h} kJ/kg)"),
+            t2_ph(p * MPA, h * KJ),
+            t,
+        );
     }
     // IF97 Table 29: T(p, s), sub-regions 2a, 2b, 2c.
     let t29 = [
@@ -182,7 +381,11 @@ fn if97_tables24_29_backward_region2() {
         (80.0, 5.75, "0.949017998e3"),
     ];
     for (p, s, t) in t29 {
-        check(&format!("IF97 Table 29, T({p} MPa, {s} kJ/kgK)"), t2_ps(p * MPA, s * KJ), t);
+        check(
+            &format!("IF97 Table 29, T({p} MPa, {s} kJ/kgK)"),
+            t2_ps(p * MPA, s * KJ),
+            t,
+        );
     }
 }
 
@@ -221,7 +424,6 @@ fn sr3_backward_region3() {
     }
 }
 
-
 // ------------------------------------------------------------ reference table
 
 struct RefRow {
@@ -237,11 +439,23 @@ struct RefRow {
 }
 
 fn reference_rows() -> Vec<RefRow> {
-    let text = include_str!(concat!(env!("CARGO_MANIFEST_DIR"), "/../tests/reference/if97_states.csv"));
+    let text = include_str!(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/../tests/reference/if97_states.csv"
+    ));
     let mut rows = Vec::new();
-    for line in text.lines().filter(|l| !l.starts_with('#') && !l.starts_with("kind") && !l.is_empty()) {
+    for line in text
+        .lines()
+        .filter(|l| !l.starts_with('#') && !l.starts_with("kind") && !l.is_empty())
+    {
         let f: Vec<&str> = line.split(',').collect();
-        let opt = |s: &str| if s.is_empty() { None } else { Some(s.parse::<f64>().unwrap()) };
+        let opt = |s: &str| {
+            if s.is_empty() {
+                None
+            } else {
+                Some(s.parse::<f64>().unwrap())
+            }
+        };
         rows.push(RefRow {
             kind: f[0].to_string(),
             region: f[1].parse().unwrap(),
@@ -276,7 +490,8 @@ fn iapws_reference_states() {
         let st = match r.kind.as_str() {
             "tp" => {
                 let reg = region_tp(r.t, r.p).unwrap();
-                let want = [Region::R1, Region::R2, Region::R3, Region::R4, Region::R5][r.region as usize - 1];
+                let want = [Region::R1, Region::R2, Region::R3, Region::R4, Region::R5]
+                    [r.region as usize - 1];
                 assert_eq!(reg, want, "{tag}: region");
                 state_tp(r.t, r.p).unwrap()
             }
@@ -306,7 +521,10 @@ fn iapws_reference_states_backwards() {
     // relative, i.e. T to about 1e-12 / (cp T / h) relative.
     for r in &reference_rows() {
         let tag = format!("iapws 1.5.5 row {} T = {} K p = {} Pa", r.kind, r.t, r.p);
-        for (name, st) in [("(p,h)", state_ph(r.p, r.h).unwrap()), ("(p,s)", state_ps(r.p, r.s).unwrap())] {
+        for (name, st) in [
+            ("(p,h)", state_ph(r.p, r.h).unwrap()),
+            ("(p,s)", state_ps(r.p, r.s).unwrap()),
+        ] {
             rel(&format!("{tag} {name} T"), st.t, r.t, 1e-9);
             match r.x {
                 Some(x) => {
@@ -334,14 +552,17 @@ fn sheaf_example_3mpa_400c() {
 /// Pressures of the round-trip grid, Pa: through regions 1, 2, 3 and 5,
 /// around p_sat(623.15 K) = 16.529 MPa, the critical pressure and 50 MPa.
 const GRID_P: [f64; 24] = [
-    700.0, 5e3, 0.1e6, 0.5e6, 1e6, 3e6, 7e6, 10e6, 15e6, 16.5e6, 16.6e6, 18e6, 20e6, 21e6, 22e6, 22.06e6,
-    22.064e6, 22.07e6, 23e6, 25e6, 35e6, 50e6, 75e6, 100e6,
+    700.0, 5e3, 0.1e6, 0.5e6, 1e6, 3e6, 7e6, 10e6, 15e6, 16.5e6, 16.6e6, 18e6, 20e6, 21e6, 22e6,
+    22.06e6, 22.064e6, 22.07e6, 23e6, 25e6, 35e6, 50e6, 75e6, 100e6,
 ];
 
 fn grid_temperatures() -> Vec<f64> {
     let mut ts: Vec<f64> = (0..=80).map(|i| 273.16 + 25.0 * i as f64).collect();
     // Dense near the critical temperature and the region 1/3 boundary.
-    ts.extend([600.0, 620.0, 623.0, 623.3, 630.0, 640.0, 645.0, 646.5, 647.0, 647.2, 648.0, 650.0, 655.0, 660.0, 700.0]);
+    ts.extend([
+        600.0, 620.0, 623.0, 623.3, 630.0, 640.0, 645.0, 646.5, 647.0, 647.2, 648.0, 650.0, 655.0,
+        660.0, 700.0,
+    ]);
     ts.retain(|&t| t <= 2273.15);
     ts
 }
@@ -367,15 +588,35 @@ fn round_trip_grid_ph_ps() {
             let st = state_tp(t, p).unwrap();
             let tag = format!("T = {t} K, p = {p} Pa ({reg:?})");
             let back_h = state_ph(p, st.h).unwrap();
-            assert!((back_h.h - st.h).abs() <= 1e-9 * st.h.abs().max(1e3), "{tag}: h {} -> {}", st.h, back_h.h);
+            assert!(
+                (back_h.h - st.h).abs() <= 1e-9 * st.h.abs().max(1e3),
+                "{tag}: h {} -> {}",
+                st.h,
+                back_h.h
+            );
             rel(&format!("{tag}: T from (p,h)"), back_h.t, t, 1e-7);
             let fresh = state_tp(back_h.t, p).unwrap();
-            assert!((fresh.h - st.h).abs() <= 1e-9 * st.h.abs().max(1e3), "{tag}: h(p, T(p,h)) {} vs {}", fresh.h, st.h);
+            assert!(
+                (fresh.h - st.h).abs() <= 1e-9 * st.h.abs().max(1e3),
+                "{tag}: h(p, T(p,h)) {} vs {}",
+                fresh.h,
+                st.h
+            );
             let back_s = state_ps(p, st.s).unwrap();
-            assert!((back_s.s - st.s).abs() <= 1e-9 * st.s.abs().max(1.0), "{tag}: s {} -> {}", st.s, back_s.s);
+            assert!(
+                (back_s.s - st.s).abs() <= 1e-9 * st.s.abs().max(1.0),
+                "{tag}: s {} -> {}",
+                st.s,
+                back_s.s
+            );
             rel(&format!("{tag}: T from (p,s)"), back_s.t, t, 1e-7);
             let fresh = state_tp(back_s.t, p).unwrap();
-            assert!((fresh.s - st.s).abs() <= 1e-9 * st.s.abs().max(1.0), "{tag}: s(p, T(p,s)) {} vs {}", fresh.s, st.s);
+            assert!(
+                (fresh.s - st.s).abs() <= 1e-9 * st.s.abs().max(1.0),
+                "{tag}: s(p, T(p,s)) {} vs {}",
+                fresh.s,
+                st.s
+            );
             assert_eq!(back_h.x, None);
             assert_eq!(back_s.x, None);
             count += 1;
@@ -391,18 +632,28 @@ fn round_trip_grid_ph_ps() {
 fn round_trip_two_phase() {
     // (p, x) -> h, s -> (p, h), (p, s) gives back x (to 1e-10 absolute) and
     // T_sat, including the region-3 part of the dome above 623.15 K.
-    for p in [P_SAT_MIN, 1e3, 0.1e6, 1e6, 10e6, 16.5e6, 16.6e6, 19e6, 21e6, 22e6, 22.06e6] {
+    for p in [
+        P_SAT_MIN, 1e3, 0.1e6, 1e6, 10e6, 16.5e6, 16.6e6, 19e6, 21e6, 22e6, 22.06e6,
+    ] {
         for x in [0.0, 0.001, 0.3, 0.5, 0.999, 1.0] {
             let st = state_px(p, x).unwrap();
             let tag = format!("p = {p} Pa, x = {x}");
             assert_eq!(st.x, Some(x), "{tag}");
-            for (name, back) in [("(p,h)", state_ph(p, st.h).unwrap()), ("(p,s)", state_ps(p, st.s).unwrap())] {
+            for (name, back) in [
+                ("(p,h)", state_ph(p, st.h).unwrap()),
+                ("(p,s)", state_ps(p, st.s).unwrap()),
+            ] {
                 // The dome includes its edges: x = 0 and x = 1 come back as
                 // saturated states with a quality.
-                let bx = back.x.unwrap_or_else(|| panic!("{tag} {name}: single phase"));
+                let bx = back
+                    .x
+                    .unwrap_or_else(|| panic!("{tag} {name}: single phase"));
                 assert!((bx - x).abs() <= 1e-10, "{tag} {name}: x = {bx}");
                 rel(&format!("{tag} {name} T"), back.t, st.t, 1e-9);
-                assert!((back.h - st.h).abs() <= 1e-9 * st.h.abs(), "{tag} {name}: h");
+                assert!(
+                    (back.h - st.h).abs() <= 1e-9 * st.h.abs(),
+                    "{tag} {name}: h"
+                );
             }
             // (T, x) at the same saturation temperature agrees with (p, x).
             let tx = state_tx(st.t, x).unwrap();
@@ -424,17 +675,34 @@ fn near_critical_phase_equilibrium() {
     // 1e-4 relative: the region-3 equation and Eq. (30) agree on the
     // saturation curve only to about that level (measured here: see the
     // assert), not to machine precision.
-    for p in [16.6e6, 18e6, 20e6, 21e6, 21.5e6, 22e6, 22.05e6, 22.06e6, 22.063e6] {
+    for p in [
+        16.6e6, 18e6, 20e6, 21e6, 21.5e6, 22e6, 22.05e6, 22.06e6, 22.063e6,
+    ] {
         let t = t_sat(p).unwrap();
         let c = sat::coexist3(t).unwrap();
         let (gl, gv) = (c.liq.g(), c.vap.g());
         let (pl, pv) = (c.liq.p(), c.vap.p());
         let tag = format!("p = {} MPa, T_sat = {t} K", p / 1e6);
         assert!((gl - gv).abs() <= 1e-6, "{tag}: g_l - g_v = {}", gl - gv);
-        assert!((pl - pv).abs() <= 1e-9 * p, "{tag}: p_l - p_v = {}", pl - pv);
-        assert!(((pl - p) / p).abs() <= 1e-4, "{tag}: equilibrium p {pl} vs region 4 {p}");
-        assert!(c.liq.rho > RHO_CRIT && c.vap.rho < RHO_CRIT, "{tag}: densities {} {}", c.liq.rho, c.vap.rho);
-        assert!(c.liq.dp_drho() > 0.0 && c.vap.dp_drho() > 0.0, "{tag}: unstable phase");
+        assert!(
+            (pl - pv).abs() <= 1e-9 * p,
+            "{tag}: p_l - p_v = {}",
+            pl - pv
+        );
+        assert!(
+            ((pl - p) / p).abs() <= 1e-4,
+            "{tag}: equilibrium p {pl} vs region 4 {p}"
+        );
+        assert!(
+            c.liq.rho > RHO_CRIT && c.vap.rho < RHO_CRIT,
+            "{tag}: densities {} {}",
+            c.liq.rho,
+            c.vap.rho
+        );
+        assert!(
+            c.liq.dp_drho() > 0.0 && c.vap.dp_drho() > 0.0,
+            "{tag}: unstable phase"
+        );
         // The saturated states of the public API are these phases.
         let l = state_px(p, 0.0).unwrap();
         let v = state_px(p, 1.0).unwrap();
@@ -468,16 +736,32 @@ fn region_selection_at_boundaries() {
         let ts = t_sat(p).unwrap();
         assert_eq!(region_tp(ts - 1e-7, p).unwrap(), Region::R1, "p = {p}");
         assert_eq!(region_tp(ts + 1e-7, p).unwrap(), Region::R2, "p = {p}");
-        let (l, v) = (state_tp(ts - 1e-7, p).unwrap(), state_tp(ts + 1e-7, p).unwrap());
-        assert!(v.v > 5.0 * l.v, "p = {p}: liquid v {} vapour v {}", l.v, v.v);
+        let (l, v) = (
+            state_tp(ts - 1e-7, p).unwrap(),
+            state_tp(ts + 1e-7, p).unwrap(),
+        );
+        assert!(
+            v.v > 5.0 * l.v,
+            "p = {p}: liquid v {} vapour v {}",
+            l.v,
+            v.v
+        );
     }
     // Above 623.15 K the saturated phases are in region 3.
     for p in [17e6, 20e6, 22e6] {
         let ts = t_sat(p).unwrap();
-        let (l, v) = (state_tp(ts - 1e-6, p).unwrap(), state_tp(ts + 1e-6, p).unwrap());
+        let (l, v) = (
+            state_tp(ts - 1e-6, p).unwrap(),
+            state_tp(ts + 1e-6, p).unwrap(),
+        );
         assert_eq!(region_tp(ts - 1e-6, p).unwrap(), Region::R3);
         assert_eq!(region_tp(ts + 1e-6, p).unwrap(), Region::R3);
-        assert!(1.0 / l.v > RHO_CRIT && 1.0 / v.v < RHO_CRIT, "p = {p}: {} {}", 1.0 / l.v, 1.0 / v.v);
+        assert!(
+            1.0 / l.v > RHO_CRIT && 1.0 / v.v < RHO_CRIT,
+            "p = {p}: {} {}",
+            1.0 / l.v,
+            1.0 / v.v
+        );
         // And they are the saturated phases (metastable overshoot at most
         // at the 1e-4 level of the region 3/4 mismatch).
         rel("liquid at T_sat-", l.v, state_px(p, 0.0).unwrap().v, 1e-3);
@@ -492,12 +776,28 @@ fn region_selection_at_boundaries() {
     // B23 boundary.
     for t in [650.0, 700.0, 800.0, 863.0] {
         let pb = forward::b23_p(t);
-        assert_eq!(region_tp(t, pb * (1.0 + 1e-9)).unwrap(), Region::R3, "T = {t}");
-        assert_eq!(region_tp(t, pb * (1.0 - 1e-9)).unwrap(), Region::R2, "T = {t}");
+        assert_eq!(
+            region_tp(t, pb * (1.0 + 1e-9)).unwrap(),
+            Region::R3,
+            "T = {t}"
+        );
+        assert_eq!(
+            region_tp(t, pb * (1.0 - 1e-9)).unwrap(),
+            Region::R2,
+            "T = {t}"
+        );
         // Region 2 and region 3 agree at the boundary (0.1 %, see above).
-        let (a, b) = (state_tp(t, pb * (1.0 + 1e-12)).unwrap(), state_tp(t, pb * (1.0 - 1e-12)).unwrap());
+        let (a, b) = (
+            state_tp(t, pb * (1.0 + 1e-12)).unwrap(),
+            state_tp(t, pb * (1.0 - 1e-12)).unwrap(),
+        );
         rel(&format!("B23 v at {t} K"), a.v, b.v, 1e-3);
-        assert!((a.h - b.h).abs() < 500.0, "B23 h at {t} K: {} vs {}", a.h, b.h);
+        assert!(
+            (a.h - b.h).abs() < 500.0,
+            "B23 h at {t} K: {} vs {}",
+            a.h,
+            b.h
+        );
     }
     // Region 2 / region 5 at 1073.15 K.
     assert_eq!(region_tp(T_MAX, 10e6).unwrap(), Region::R2);
