@@ -79,6 +79,7 @@ sheaf eval \"20 degC - 10 degC\"\n  \
 sheaf eval 'state(fluid(\"water\"), p: 3 MPa, T: 400 degC).h' --in kJ/kg")]
     Eval {
         /// The expression.
+        #[arg(allow_hyphen_values = true)]
         expr: String,
         /// Show the result in this unit.
         #[arg(long = "in", value_name = "UNIT")]

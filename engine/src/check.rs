@@ -321,19 +321,7 @@ impl Cx<'_> {
 
     fn expr(&mut self, e: &Expr) -> Typed {
         match &e.kind {
-            ExprKind::Number { value, unit, .. } => match unit {
-                None => (Ty::Num(QTy::DIMENSIONLESS), Code::Const(*value)),
-                Some(u) => match self.unit(u) {
-                    Some(unit) => (
-                        Ty::Num(QTy {
-                            dim: unit.dim,
-                            aff: unit.affinity,
-                        }),
-                        Code::Const(unit.to_si(*value)),
-                    ),
-                    None => ERR,
-                },
-            },
+            ExprKind::Number { value, unit, .. } => self.literal(*value, unit.as_ref()),
             ExprKind::Str(s) => (Ty::Str, Code::Str(Arc::from(s.as_str()))),
             ExprKind::Name(n) => {
                 if let Some(&i) = self.names.get(n) {
@@ -346,6 +334,10 @@ impl Cx<'_> {
             }
             ExprKind::Paren(a) => self.expr(a),
             ExprKind::Neg(a) => {
+                // `-40 degF`, `-10 degC`: a negative reading, not a negation.
+                if let ExprKind::Number { value, unit, .. } = &a.kind {
+                    return self.literal(-*value, unit.as_ref());
+                }
                 let (ty, code) = self.expr(a);
                 match ty {
                     Ty::Error => ERR,
@@ -366,6 +358,23 @@ impl Cx<'_> {
             ExprKind::Binary { op, left, right } => self.binary(*op, left, right, e.span),
             ExprKind::Call { func, args } => self.call(func, args, e.span),
             ExprKind::Field { base, field } => self.field(base, field),
+        }
+    }
+
+    /// A number literal with an optional unit, folded to SI.
+    fn literal(&mut self, value: f64, unit: Option<&UnitExpr>) -> Typed {
+        match unit {
+            None => (Ty::Num(QTy::DIMENSIONLESS), Code::Const(value)),
+            Some(u) => match self.unit(u) {
+                Some(unit) => (
+                    Ty::Num(QTy {
+                        dim: unit.dim,
+                        aff: unit.affinity,
+                    }),
+                    Code::Const(unit.to_si(value)),
+                ),
+                None => ERR,
+            },
         }
     }
 

@@ -222,3 +222,13 @@ fn checks_compare_in_consistent_units() {
     let e = errors("t = 95 min\ncheck t >= 1.5 m\n");
     assert!(e[0].contains("cannot compare"), "{e:?}");
 }
+
+#[test]
+fn negative_readings_on_offset_scales_are_literals() {
+    // -40 degF = -40 degC = 233.15 K (NIST SP 811 §B.8 conversion formulas).
+    let m = run("a = -40 degF\nb : degC = -40 degC\n");
+    assert!(close(m.number("a").unwrap(), 233.15, 1e-12));
+    assert!(close(m.number("b").unwrap(), 233.15, 1e-12));
+    let e = errors("a = 20 degC\nb = -a\n");
+    assert!(e[0].contains("cannot negate an absolute temperature"), "{e:?}");
+}
