@@ -155,6 +155,14 @@ fn comment_start(b: &[u8]) -> Option<usize> {
 // ------------------------------------------------------------------ entry points
 
 pub(crate) fn parse_lines(src: &str) -> Result<Vec<ParsedLine>, Vec<ParseError>> {
+    parse_lines_norm(src).map(|(_, lines)| lines)
+}
+
+/// Like [`parse_lines`], also returning the source with continuations
+/// blanked (same byte offsets), for the formatter.
+pub(crate) fn parse_lines_norm(
+    src: &str,
+) -> Result<(String, Vec<ParsedLine>), Vec<ParseError>> {
     let (norm, lines) = split_lines(src);
     let mut out = Vec::with_capacity(lines.len());
     let mut errors = Vec::new();
@@ -165,7 +173,7 @@ pub(crate) fn parse_lines(src: &str) -> Result<Vec<ParsedLine>, Vec<ParseError>>
         }
     }
     if errors.is_empty() {
-        Ok(out)
+        Ok((norm, out))
     } else {
         Err(errors)
     }
