@@ -6,7 +6,12 @@ fn main() {
         "u" => println!("{:#?}", sheaf_grammar::parse_unit(&src)),
         _ => match sheaf_grammar::parse(&src) {
             Ok(w) => println!("{:#?}", w),
-            Err(es) => for e in es { let (l,c)=sheaf_grammar::line_col(&src,e.span.start); println!("{l}:{c} {:?} {}", e.span, e.message) },
+            Err(es) => {
+                for e in es {
+                    let (l, c) = sheaf_grammar::line_col(&src, e.span.start);
+                    println!("{l}:{c} {:?} {}", e.span, e.message)
+                }
+            }
         },
     }
 }

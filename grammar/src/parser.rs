@@ -160,9 +160,7 @@ pub(crate) fn parse_lines(src: &str) -> Result<Vec<ParsedLine>, Vec<ParseError>>
 
 /// Like [`parse_lines`], also returning the source with continuations
 /// blanked (same byte offsets), for the formatter.
-pub(crate) fn parse_lines_norm(
-    src: &str,
-) -> Result<(String, Vec<ParsedLine>), Vec<ParseError>> {
+pub(crate) fn parse_lines_norm(src: &str) -> Result<(String, Vec<ParsedLine>), Vec<ParseError>> {
     let (norm, lines) = split_lines(src);
     let mut out = Vec::with_capacity(lines.len());
     let mut errors = Vec::new();
@@ -186,7 +184,8 @@ pub(crate) fn parse_expr(src: &str) -> Result<Expr, ParseError> {
 
 fn parse_expr_inner(src: &str) -> Result<Expr, ParseError> {
     let b = Builder { base: 0, src };
-    let pairs = WsParser::parse(Rule::expr_only, src).map_err(|e| b.pest_error(e, Ctx::Expr, src))?;
+    let pairs =
+        WsParser::parse(Rule::expr_only, src).map_err(|e| b.pest_error(e, Ctx::Expr, src))?;
     for p in pairs {
         if p.as_rule() == Rule::expr_only {
             for q in p.into_inner() {
@@ -206,7 +205,8 @@ pub(crate) fn parse_unit(src: &str) -> Result<UnitExpr, ParseError> {
 
 fn parse_unit_inner(src: &str) -> Result<UnitExpr, ParseError> {
     let b = Builder { base: 0, src };
-    let pairs = WsParser::parse(Rule::unit_only, src).map_err(|e| b.pest_error(e, Ctx::Unit, src))?;
+    let pairs =
+        WsParser::parse(Rule::unit_only, src).map_err(|e| b.pest_error(e, Ctx::Unit, src))?;
     for p in pairs {
         if p.as_rule() == Rule::unit_only {
             for q in p.into_inner() {
@@ -265,8 +265,9 @@ fn parse_line(src: &str, norm: &str, l: Logical) -> Result<ParsedLine, ParseErro
         if level > 3 {
             return Err(ParseError {
                 span: Span::new(span.start, span.start + level),
-                message: "a heading has at most three `#` (`#` title, `##` section, `###` subsection)"
-                    .into(),
+                message:
+                    "a heading has at most three `#` (`#` title, `##` section, `###` subsection)"
+                        .into(),
             });
         }
         return simple(StatementKind::Heading {
@@ -281,7 +282,9 @@ fn parse_line(src: &str, norm: &str, l: Logical) -> Result<ParsedLine, ParseErro
     }
 
     let depth = prescan(text, l.start, true)?;
-    with_stack(depth, span, || parse_statement(src, text, l.start, content, span))
+    with_stack(depth, span, || {
+        parse_statement(src, text, l.start, content, span)
+    })
 }
 
 fn parse_statement(
@@ -306,7 +309,10 @@ fn parse_statement(
     if ctx != Ctx::Define {
         let after = content[word_len..].trim_start();
         if (after.starts_with('=') && !after.starts_with("==")) || after.starts_with(':') {
-            return Err(keyword_error(word, Span::new(span.start, span.start + word_len)));
+            return Err(keyword_error(
+                word,
+                Span::new(span.start, span.start + word_len),
+            ));
         }
     }
     let rule = match ctx {
@@ -440,7 +446,10 @@ fn with_stack<T: Send>(
     }
     let size = (1 << 20) + depth * (64 << 10);
     std::thread::scope(|s| {
-        match std::thread::Builder::new().stack_size(size).spawn_scoped(s, f) {
+        match std::thread::Builder::new()
+            .stack_size(size)
+            .spawn_scoped(s, f)
+        {
             Ok(handle) => handle.join().unwrap_or_else(|_| Err(internal(span))),
             Err(_) => Err(ParseError {
                 span,
@@ -588,10 +597,7 @@ impl Builder<'_> {
 
     fn string(&self, p: Pair<'_, Rule>) -> Result<StringLit, ParseError> {
         let span = self.span(&p);
-        let raw = p
-            .into_inner()
-            .next()
-            .map_or("", |q| q.as_str());
+        let raw = p.into_inner().next().map_or("", |q| q.as_str());
         let mut value = String::with_capacity(raw.len());
         let mut it = raw.char_indices();
         while let Some((i, c)) = it.next() {
@@ -656,7 +662,10 @@ impl Builder<'_> {
                     break;
                 }
             }
-            ops.push(StackOp::Infix { op: binop, span: sp });
+            ops.push(StackOp::Infix {
+                op: binop,
+                span: sp,
+            });
         }
         while !ops.is_empty() {
             self.reduce(&mut out, &mut ops)?;
@@ -689,7 +698,13 @@ impl Builder<'_> {
                 } else {
                     // Unary plus has no node of its own; the operand's span
                     // grows to cover the `+`.
-                    out.push((Expr { kind: e.kind, span: full }, d));
+                    out.push((
+                        Expr {
+                            kind: e.kind,
+                            span: full,
+                        },
+                        d,
+                    ));
                 }
             }
             StackOp::Infix { op, span } => {
@@ -1143,7 +1158,8 @@ impl Builder<'_> {
                 ));
             }
         }
-        let expects_operand = has(Rule::number) || has(Rule::postfix) || has(Rule::neg) || has(Rule::expr);
+        let expects_operand =
+            has(Rule::number) || has(Rule::postfix) || has(Rule::neg) || has(Rule::expr);
         let expects_unit = has(Rule::unit_atom)
             || has(Rule::unit_factor)
             || has(Rule::unit_juxt)
@@ -1154,7 +1170,9 @@ impl Builder<'_> {
                 return err(format!("`{w}` is a keyword and cannot be a name"));
             }
             if (expects_operand || has(Rule::ident))
-                && w.chars().next().is_some_and(|c| !c.is_ascii() && c.is_alphabetic())
+                && w.chars()
+                    .next()
+                    .is_some_and(|c| !c.is_ascii() && c.is_alphabetic())
             {
                 return err(format!(
                     "`{w}` is not a valid name: names use ASCII letters, digits and `_`"
@@ -1224,7 +1242,9 @@ impl Builder<'_> {
                 }
             }
             if prev.as_ref().is_some_and(|p| p.ends_with('.')) {
-                return err(format!("expected a field name after `.`, found {found_desc}"));
+                return err(format!(
+                    "expected a field name after `.`, found {found_desc}"
+                ));
             }
             return err(match (ctx, &prev) {
                 (Ctx::Define, None) => format!(
@@ -1278,12 +1298,12 @@ impl Builder<'_> {
     /// written right after a number (`2 kJ/kg K`: true at `K`).
     fn prev_is_unit(&self, text: &str, pos: usize) -> bool {
         let before = text[..pos.min(text.len())].trim_end();
-        let chunk_start = before
-            .rfind([' ', '\t'])
-            .map_or(0, |i| i + 1);
+        let chunk_start = before.rfind([' ', '\t']).map_or(0, |i| i + 1);
         let chunk = &before[chunk_start..];
         if chunk.starts_with(|c: char| c.is_ascii_digit() || c == '.')
-            && chunk.chars().any(|c| c.is_alphabetic() && c != 'e' && c != 'E')
+            && chunk
+                .chars()
+                .any(|c| c.is_alphabetic() && c != 'e' && c != 'E')
         {
             return true;
         }

@@ -3,7 +3,8 @@
 
 use sheaf_grammar::{MAX_NESTING, parse, parse_expr, parse_unit};
 
-const MSG: &str = "expression nested too deeply (more than 256 levels); split it into named intermediate values";
+const MSG: &str =
+    "expression nested too deeply (more than 256 levels); split it into named intermediate values";
 
 fn one_nesting_error(src: &str) -> sheaf_grammar::ParseError {
     let errs = parse(src).unwrap_err();

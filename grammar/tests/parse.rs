@@ -78,11 +78,24 @@ fn headings_notes_comments_blank() {
     assert_eq!(
         k,
         vec![
-            StatementKind::Heading { level: 1, text: "C-2 compressor".into() },
-            StatementKind::Heading { level: 2, text: "Suction".into() },
-            StatementKind::Heading { level: 3, text: "Sub".into() },
-            StatementKind::Note { text: "a note".into() },
-            StatementKind::Comment { text: "a comment".into() },
+            StatementKind::Heading {
+                level: 1,
+                text: "C-2 compressor".into()
+            },
+            StatementKind::Heading {
+                level: 2,
+                text: "Suction".into()
+            },
+            StatementKind::Heading {
+                level: 3,
+                text: "Sub".into()
+            },
+            StatementKind::Note {
+                text: "a note".into()
+            },
+            StatementKind::Comment {
+                text: "a comment".into()
+            },
             StatementKind::Blank,
             StatementKind::Blank,
         ]
@@ -100,7 +113,9 @@ fn empty_source_has_no_statements() {
 #[test]
 fn meta_statement() {
     let src = "meta prepared = \"A. Person\"";
-    let StatementKind::Meta { key, value } = one(src).kind else { panic!() };
+    let StatementKind::Meta { key, value } = one(src).kind else {
+        panic!()
+    };
     assert_eq!(key.name, "prepared");
     assert_eq!(sp(key.span, src), "prepared");
     assert_eq!(value.value, "A. Person");
@@ -112,7 +127,14 @@ fn input_statement() {
     let src = "input T1 = 24 degC            \"suction temperature\"";
     let st = one(src);
     assert_eq!(sp(st.span, src), src);
-    let StatementKind::Input { name, value, description } = st.kind else { panic!() };
+    let StatementKind::Input {
+        name,
+        value,
+        description,
+    } = st.kind
+    else {
+        panic!()
+    };
     assert_eq!(name.name, "T1");
     assert_eq!(sx(&value), "24[degC]");
     assert_eq!(sp(value.span, src), "24 degC");
@@ -124,7 +146,15 @@ fn input_statement() {
 #[test]
 fn define_with_and_without_annotation() {
     let src = "T2 : degC = st2.T             \"discharge temperature\"";
-    let StatementKind::Define { name, unit, value, description } = one(src).kind else { panic!() };
+    let StatementKind::Define {
+        name,
+        unit,
+        value,
+        description,
+    } = one(src).kind
+    else {
+        panic!()
+    };
     assert_eq!(name.name, "T2");
     let unit = unit.unwrap();
     assert_eq!(ux(&unit), "degC");
@@ -134,21 +164,38 @@ fn define_with_and_without_annotation() {
     assert_eq!(description.unwrap().value, "discharge temperature");
 
     let src = "cp : kJ/kg K = 1.005 kJ/(kg K)";
-    let StatementKind::Define { unit, value, description, .. } = one(src).kind else { panic!() };
+    let StatementKind::Define {
+        unit,
+        value,
+        description,
+        ..
+    } = one(src).kind
+    else {
+        panic!()
+    };
     let unit = unit.unwrap();
     assert_eq!(ux(&unit), "(/ kJ (* kg K))");
     assert_eq!(sp(unit.span, src), "kJ/kg K");
     assert_eq!(sx(&value), "1.005[(/ kJ (* kg K))]");
     assert!(description.is_none());
 
-    let StatementKind::Define { unit, .. } = one("gas = ideal_gas(\"air\")").kind else { panic!() };
+    let StatementKind::Define { unit, .. } = one("gas = ideal_gas(\"air\")").kind else {
+        panic!()
+    };
     assert!(unit.is_none());
 }
 
 #[test]
 fn check_statement() {
     let src = "check T2 <= 220 degC          \"discharge temperature limit\"";
-    let StatementKind::Check { left, op, op_span, right, description } = one(src).kind else {
+    let StatementKind::Check {
+        left,
+        op,
+        op_span,
+        right,
+        description,
+    } = one(src).kind
+    else {
         panic!()
     };
     assert_eq!(sx(&left), "T2");
@@ -164,7 +211,9 @@ fn check_statement() {
         ("==", CompareOp::Eq),
         ("!=", CompareOp::Ne),
     ] {
-        let StatementKind::Check { op, .. } = one(&format!("check a {s} b")).kind else { panic!() };
+        let StatementKind::Check { op, .. } = one(&format!("check a {s} b")).kind else {
+            panic!()
+        };
         assert_eq!(op, want, "{s}");
         assert_eq!(op.symbol(), s);
     }
@@ -186,15 +235,23 @@ fn trailing_comment_is_ignored() {
     let src = "x = 1 kg // one kilogram";
     let st = one(src);
     assert_eq!(sp(st.span, src), "x = 1 kg");
-    let StatementKind::Define { value, .. } = st.kind else { panic!() };
+    let StatementKind::Define { value, .. } = st.kind else {
+        panic!()
+    };
     assert_eq!(sx(&value), "1[kg]");
     // `//` right after a unit or name is a comment, not two divisions.
-    let StatementKind::Define { value, .. } = one("x = a//b").kind else { panic!() };
+    let StatementKind::Define { value, .. } = one("x = a//b").kind else {
+        panic!()
+    };
     assert_eq!(sx(&value), "a");
-    let StatementKind::Define { value, .. } = one("x = 2 m/s// c").kind else { panic!() };
+    let StatementKind::Define { value, .. } = one("x = 2 m/s// c").kind else {
+        panic!()
+    };
     assert_eq!(sx(&value), "2[(/ m s)]");
     // `//` inside a string is text.
-    let StatementKind::Define { value, .. } = one("x = \"a//b\" // c").kind else { panic!() };
+    let StatementKind::Define { value, .. } = one("x = \"a//b\" // c").kind else {
+        panic!()
+    };
     assert_eq!(sx(&value), "\"a//b\"");
 }
 
@@ -204,8 +261,16 @@ fn continuation_lines_and_original_offsets() {
     let w = parse(src).unwrap();
     assert_eq!(w.statements.len(), 3);
     let st = &w.statements[1];
-    assert_eq!(sp(st.span, src), "W = mdot * \\\n    (h2 - h1) \\\r\n    \"power\"");
-    let StatementKind::Define { value, description, .. } = &st.kind else { panic!() };
+    assert_eq!(
+        sp(st.span, src),
+        "W = mdot * \\\n    (h2 - h1) \\\r\n    \"power\""
+    );
+    let StatementKind::Define {
+        value, description, ..
+    } = &st.kind
+    else {
+        panic!()
+    };
     assert_eq!(sx(value), "(* mdot (paren (- h2 h1)))");
     assert_eq!(sp(value.span, src), "mdot * \\\n    (h2 - h1)");
     let d = description.as_ref().unwrap();
@@ -225,7 +290,13 @@ fn crlf_and_bom() {
     let w = parse(src).unwrap();
     assert_eq!(w.statements.len(), 4);
     assert_eq!(sp(w.statements[1].span, src), "x = 1");
-    assert_eq!(w.statements[0].kind, StatementKind::Heading { level: 1, text: "T".into() });
+    assert_eq!(
+        w.statements[0].kind,
+        StatementKind::Heading {
+            level: 1,
+            text: "T".into()
+        }
+    );
 }
 
 #[test]
@@ -256,7 +327,10 @@ fn precedence_and_associativity() {
     assert_eq!(e("a*-b^c"), "(* a (neg (^ b c)))");
     assert_eq!(e("--a"), "(neg (neg a))");
     assert_eq!(e("(a + b) * c"), "(* (paren (+ a b)) c)");
-    assert_eq!(e("(T2/T1)^((k-1)/k)"), "(^ (paren (/ T2 T1)) (paren (/ (paren (- k 1)) k)))");
+    assert_eq!(
+        e("(T2/T1)^((k-1)/k)"),
+        "(^ (paren (/ T2 T1)) (paren (/ (paren (- k 1)) k)))"
+    );
 }
 
 #[test]
@@ -264,15 +338,26 @@ fn unary_plus_has_no_node() {
     let src = "+a * b";
     let x = parse_expr(src).unwrap();
     assert_eq!(sx(&x), "(* a b)");
-    let ExprKind::Binary { left, .. } = &x.kind else { panic!() };
+    let ExprKind::Binary { left, .. } = &x.kind else {
+        panic!()
+    };
     assert_eq!(sp(left.span, src), "+a");
 }
 
 #[test]
 fn numbers() {
-    for (s, v) in [("1", 1.0), ("1.5", 1.5), (".5", 0.5), ("2e5", 2e5), ("1.5E-3", 1.5e-3), ("3e+2", 300.0)] {
+    for (s, v) in [
+        ("1", 1.0),
+        ("1.5", 1.5),
+        (".5", 0.5),
+        ("2e5", 2e5),
+        ("1.5E-3", 1.5e-3),
+        ("3e+2", 300.0),
+    ] {
         let x = parse_expr(s).unwrap();
-        let ExprKind::Number { value, text, unit } = x.kind else { panic!() };
+        let ExprKind::Number { value, text, unit } = x.kind else {
+            panic!()
+        };
         assert_eq!(value, v, "{s}");
         assert_eq!(text, s);
         assert!(unit.is_none());
@@ -295,10 +380,15 @@ fn calls_fields_and_named_args() {
     assert_eq!(e("state(g, T: T1).h"), "(. (call state g T:T1) h)");
     assert_eq!(e("a.b.c"), "(. (. a b) c)");
     assert_eq!(e("(a).b"), "(. (paren a) b)");
-    assert_eq!(e("mdot * (st2.h - st1.h)"), "(* mdot (paren (- (. st2 h) (. st1 h))))");
+    assert_eq!(
+        e("mdot * (st2.h - st1.h)"),
+        "(* mdot (paren (- (. st2 h) (. st1 h))))"
+    );
     let src = "state(gas, T: T1 + 1)";
     let x = parse_expr(src).unwrap();
-    let ExprKind::Call { func, args } = &x.kind else { panic!() };
+    let ExprKind::Call { func, args } = &x.kind else {
+        panic!()
+    };
     assert_eq!(sp(func.span, src), "state");
     assert_eq!(sp(args[0].span, src), "gas");
     assert_eq!(sp(args[1].span, src), "T: T1 + 1");
@@ -312,12 +402,18 @@ fn spans_of_expression_nodes() {
     let src = "  a + 2 m * -x  ";
     let x = parse_expr(src).unwrap();
     assert_eq!(sp(x.span, src), "a + 2 m * -x");
-    let ExprKind::Binary { right, .. } = &x.kind else { panic!() };
+    let ExprKind::Binary { right, .. } = &x.kind else {
+        panic!()
+    };
     assert_eq!(sp(right.span, src), "2 m * -x");
-    let ExprKind::Binary { left, right, .. } = &right.kind else { panic!() };
+    let ExprKind::Binary { left, right, .. } = &right.kind else {
+        panic!()
+    };
     assert_eq!(sp(left.span, src), "2 m");
     assert_eq!(sp(right.span, src), "-x");
-    let ExprKind::Number { unit: Some(un), .. } = &left.kind else { panic!() };
+    let ExprKind::Number { unit: Some(un), .. } = &left.kind else {
+        panic!()
+    };
     assert_eq!(sp(un.span, src), "m");
 }
 
@@ -373,7 +469,9 @@ fn annotation_and_parse_unit_rules() {
     assert_eq!(u("(m/s)^2"), "(^ (/ m s) 2)");
     let src = "kJ/(kg K)";
     let x = parse_unit(src).unwrap();
-    let UnitKind::Div(_, den) = &x.kind else { panic!() };
+    let UnitKind::Div(_, den) = &x.kind else {
+        panic!()
+    };
     assert_eq!(sp(den.span, src), "(kg K)");
     assert_eq!(sp(x.span, src), src);
 }
@@ -389,17 +487,29 @@ fn error_expected_expression() {
     assert_eq!(msg("input x = 1 +"), "expected an expression after `+`");
     assert_eq!(msg("x = f(a, b: )"), "expected an expression after `:`");
     assert_eq!(msg("check a <"), "expected an expression after `<`");
-    assert_eq!(parse_expr("").unwrap_err().message, "expected an expression");
-    assert_eq!(parse_expr("   ").unwrap_err().message, "expected an expression");
+    assert_eq!(
+        parse_expr("").unwrap_err().message,
+        "expected an expression"
+    );
+    assert_eq!(
+        parse_expr("   ").unwrap_err().message,
+        "expected an expression"
+    );
 }
 
 #[test]
 fn error_unclosed_paren_names_its_line() {
     let src = "# t\n\nx = (a + \\\n  (b + c)\ny = 1";
     let err = err1(src);
-    assert_eq!(err.message, "expected `)` to close the `(` opened at line 3");
+    assert_eq!(
+        err.message,
+        "expected `)` to close the `(` opened at line 3"
+    );
     assert_eq!(line_col(src, err.span.start), (4, 10));
-    assert_eq!(msg("x = f(a,"), "expected `)` to close the `(` opened at line 1");
+    assert_eq!(
+        msg("x = f(a,"),
+        "expected `)` to close the `(` opened at line 1"
+    );
     assert_eq!(msg("x = (a b)"), "a unit can only follow a number or `:`");
     assert_eq!(msg("x = (a))"), "unexpected `)` without a matching `(`");
 }
@@ -410,7 +520,10 @@ fn error_unexpected_character() {
     assert_eq!(err.message, "unexpected `@`");
     assert_eq!(err.span, Span::new(6, 7));
     assert_eq!(msg("x = a;"), "unexpected `;`");
-    assert_eq!(msg("x = 1\u{a0}kg"), "unexpected a non-breaking space (U+00A0)");
+    assert_eq!(
+        msg("x = 1\u{a0}kg"),
+        "unexpected a non-breaking space (U+00A0)"
+    );
     // inside strings and comments anything goes
     assert!(parse("x = \"@;{}\" // @;{}").is_ok());
 }
@@ -420,7 +533,10 @@ fn error_unit_placement() {
     let err = err1("x = a kg");
     assert_eq!(err.message, "a unit can only follow a number or `:`");
     assert_eq!(err.span, Span::new(6, 8));
-    assert_eq!(msg("x = (1 + 2) kg"), "a unit can only follow a number or `:`");
+    assert_eq!(
+        msg("x = (1 + 2) kg"),
+        "a unit can only follow a number or `:`"
+    );
     let err = err1("x = 1.005 kJ/kg K");
     assert_eq!(
         err.message,
@@ -429,22 +545,37 @@ fn error_unit_placement() {
     assert_eq!(err.span, Span::new(16, 17));
     assert_eq!(msg("x : = 3"), "expected a unit after `:`");
     assert_eq!(parse_unit("").unwrap_err().message, "expected a unit");
-    assert_eq!(parse_unit("kg/").unwrap_err().message, "expected a unit after `/`");
+    assert_eq!(
+        parse_unit("kg/").unwrap_err().message,
+        "expected a unit after `/`"
+    );
 }
 
 #[test]
 fn error_keywords() {
     for kw in ["input", "check", "meta"] {
         let err = err1(&format!("{kw} = 3"));
-        assert_eq!(err.message, format!("`{kw}` is a keyword and cannot be a name"));
+        assert_eq!(
+            err.message,
+            format!("`{kw}` is a keyword and cannot be a name")
+        );
         assert_eq!(err.span, Span::new(0, kw.len()));
     }
     let err = err1("x = 2 * input");
     assert_eq!(err.message, "`input` is a keyword and cannot be a name");
     assert_eq!(err.span, Span::new(8, 13));
-    assert_eq!(msg("input check = 1"), "`check` is a keyword and cannot be a name");
-    assert_eq!(msg("x = f(meta: 1)"), "`meta` is a keyword and cannot be a name");
-    assert_eq!(msg("x : kg = check"), "`check` is a keyword and cannot be a name");
+    assert_eq!(
+        msg("input check = 1"),
+        "`check` is a keyword and cannot be a name"
+    );
+    assert_eq!(
+        msg("x = f(meta: 1)"),
+        "`meta` is a keyword and cannot be a name"
+    );
+    assert_eq!(
+        msg("x : kg = check"),
+        "`check` is a keyword and cannot be a name"
+    );
 }
 
 #[test]
@@ -453,7 +584,10 @@ fn error_comparisons() {
     let err = err1("check a");
     assert_eq!(err.message, c);
     assert_eq!(err.span, Span::new(7, 7));
-    assert_eq!(msg("check a = b"), format!("{c}; use `==` to test equality"));
+    assert_eq!(
+        msg("check a = b"),
+        format!("{c}; use `==` to test equality")
+    );
     assert_eq!(
         msg("x = a < b"),
         "a comparison (`<`, `<=`, `>`, `>=`, `==`, `!=`) can only be used in a `check`"
@@ -467,7 +601,10 @@ fn error_strings() {
     assert_eq!(err.message, "unterminated string");
     assert_eq!(err.span, Span::new(12, 19));
     let err = err1("x = \"a\\n\"");
-    assert_eq!(err.message, "unknown escape `\\n` in a string; only `\\\"` and `\\\\` are allowed");
+    assert_eq!(
+        err.message,
+        "unknown escape `\\n` in a string; only `\\\"` and `\\\\` are allowed"
+    );
     assert_eq!(err.span, Span::new(6, 8));
     assert_eq!(
         msg("meta by = 3"),
@@ -477,11 +614,23 @@ fn error_strings() {
 
 #[test]
 fn error_names_and_statements() {
-    assert_eq!(msg("x"), "expected `=` after `x`, found the end of the line");
+    assert_eq!(
+        msg("x"),
+        "expected `=` after `x`, found the end of the line"
+    );
     assert_eq!(msg("x 3"), "expected `=` after `x`, found `3`");
-    assert_eq!(msg("input"), "expected a name after `input`, found the end of the line");
-    assert_eq!(msg("3x = 1"), "`3x` is not a valid name: a name starts with a letter or `_`");
-    assert_eq!(msg("η = 1"), "`η` is not a valid name: names use ASCII letters, digits and `_`");
+    assert_eq!(
+        msg("input"),
+        "expected a name after `input`, found the end of the line"
+    );
+    assert_eq!(
+        msg("3x = 1"),
+        "`3x` is not a valid name: a name starts with a letter or `_`"
+    );
+    assert_eq!(
+        msg("η = 1"),
+        "`η` is not a valid name: names use ASCII letters, digits and `_`"
+    );
     assert_eq!(
         msg("= 3"),
         "expected a statement (a name, `input`, `check`, `meta`, `#` heading, `>` note or `//` comment), found `=`"
@@ -491,7 +640,10 @@ fn error_names_and_statements() {
         msg("x = 1 \"d\" y"),
         "expected the end of the statement after the description, found `y` (a comment starts with `//`)"
     );
-    assert_eq!(msg("x = st.f(2)"), "only a name can be called; `st.f` is a field access");
+    assert_eq!(
+        msg("x = st.f(2)"),
+        "only a name can be called; `st.f` is a field access"
+    );
     assert_eq!(
         msg("#### too deep"),
         "a heading has at most three `#` (`#` title, `##` section, `###` subsection)"
@@ -512,7 +664,10 @@ fn all_errors_one_per_statement() {
         vec![
             (2, "expected an expression after `=`"),
             (4, "unexpected `@`"),
-            (5, "expected a comparison (`<`, `<=`, `>`, `>=`, `==`, `!=`) in a check"),
+            (
+                5,
+                "expected a comparison (`<`, `<=`, `>`, `>=`, `==`, `!=`) in a check"
+            ),
             (6, "expected `)` to close the `(` opened at line 6"),
         ]
     );
@@ -521,16 +676,49 @@ fn all_errors_one_per_statement() {
 #[test]
 fn pest_rule_names_never_leak() {
     let bad = [
-        "x = ", "x", "input", "check", "meta", "meta x", "meta x =", "x : kg", "x = f(", "x = (", "x = a.",
-        "x = 1 kg/", "x = 2 kg^", "x = ,", "x = f(a:)", "x : kg/ = 1", "check a < b c", "x = a b",
-        "x = )", "x ==", "x = 1 \"d\" \"e\"", "x = -", "x = 2^", "x: (kg = 1", "x = 2 kg/(m",
+        "x = ",
+        "x",
+        "input",
+        "check",
+        "meta",
+        "meta x",
+        "meta x =",
+        "x : kg",
+        "x = f(",
+        "x = (",
+        "x = a.",
+        "x = 1 kg/",
+        "x = 2 kg^",
+        "x = ,",
+        "x = f(a:)",
+        "x : kg/ = 1",
+        "check a < b c",
+        "x = a b",
+        "x = )",
+        "x ==",
+        "x = 1 \"d\" \"e\"",
+        "x = -",
+        "x = 2^",
+        "x: (kg = 1",
+        "x = 2 kg/(m",
     ];
     for b in bad {
         let errs = parse(b).expect_err(b);
         for e in errs {
             for leak in [
-                "EOI", "Rule", "positives", "unit_", "_only", "stmt_", "num_lit", "cmp_op", "postfix",
-                "lparen", "rparen", "trailing_comment", "ident",
+                "EOI",
+                "Rule",
+                "positives",
+                "unit_",
+                "_only",
+                "stmt_",
+                "num_lit",
+                "cmp_op",
+                "postfix",
+                "lparen",
+                "rparen",
+                "trailing_comment",
+                "ident",
             ] {
                 assert!(!e.message.contains(leak), "{b:?}: {}", e.message);
             }
