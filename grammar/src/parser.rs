@@ -155,6 +155,12 @@ fn comment_start(b: &[u8]) -> Option<usize> {
 // ------------------------------------------------------------------ entry points
 
 pub(crate) fn parse_lines(src: &str) -> Result<Vec<ParsedLine>, Vec<ParseError>> {
+    parse_lines_norm(src).map(|(_, lines)| lines)
+}
+
+/// Like [`parse_lines`], also returning the source with continuations
+/// blanked (same byte offsets), for the formatter.
+pub(crate) fn parse_lines_norm(src: &str) -> Result<(String, Vec<ParsedLine>), Vec<ParseError>> {
     let (norm, lines) = split_lines(src);
     let mut out = Vec::with_capacity(lines.len());
     let mut errors = Vec::new();
@@ -165,7 +171,7 @@ pub(crate) fn parse_lines(src: &str) -> Result<Vec<ParsedLine>, Vec<ParseError>>
         }
     }
     if errors.is_empty() {
-        Ok(out)
+        Ok((norm, out))
     } else {
         Err(errors)
     }
@@ -1129,9 +1135,6 @@ impl Builder<'_> {
             ErrorVariant::ParsingError { positives, .. } => positives,
             ErrorVariant::CustomError { .. } => Vec::new(),
         };
-        if std::env::var_os("SHEAF_DEBUG_PEST").is_some() {
-            eprintln!("pest positives at {pos}: {positives:?}");
-        }
         let has = |r: Rule| positives.contains(&r);
         let (found, flen) = found_at(text, pos);
         let prev = prev_token(text, pos);
@@ -1144,13 +1147,14 @@ impl Builder<'_> {
         };
 
         // An unclosed parenthesis at the end of the statement.
-        if matches!(found, Found::End) && has(Rule::rparen) {
-            if let Some(open) = open_paren(text, pos) {
-                let (line, _) = line_col(self.src, self.base + open);
-                return err(format!(
-                    "expected `)` to close the `(` opened at line {line}"
-                ));
-            }
+        if matches!(found, Found::End)
+            && has(Rule::rparen)
+            && let Some(open) = open_paren(text, pos)
+        {
+            let (line, _) = line_col(self.src, self.base + open);
+            return err(format!(
+                "expected `)` to close the `(` opened at line {line}"
+            ));
         }
         let expects_operand =
             has(Rule::number) || has(Rule::postfix) || has(Rule::neg) || has(Rule::expr);
@@ -1179,61 +1183,60 @@ impl Builder<'_> {
                 _ => format!("expected an expression{}", after(&prev)),
             });
         }
-        if after_operand {
-            if let Found::Word(w) = &found {
-                if w.starts_with(|c: char| c.is_ascii_digit()) {
-                    return err(format!("expected an operator before `{w}`"));
-                }
-                if self.prev_is_unit(text, pos) {
-                    return err(format!(
-                        "unexpected `{w}`: a unit after a number cannot contain spaces except inside parentheses, e.g. `kJ/(kg K)`"
-                    ));
-                }
-                return err("a unit can only follow a number or `:`".into());
+        if after_operand && let Found::Word(w) = &found {
+            if w.starts_with(|c: char| c.is_ascii_digit()) {
+                return err(format!("expected an operator before `{w}`"));
             }
+            if self.prev_is_unit(text, pos) {
+                return err(format!(
+                    "unexpected `{w}`: a unit after a number cannot contain spaces except inside parentheses, e.g. `kJ/(kg K)`"
+                ));
+            }
+            return err("a unit can only follow a number or `:`".into());
         }
         if has(Rule::cmp_op) {
-            if let Found::Other(o) = &found {
-                if o == "=" {
-                    return err(format!(
-                        "expected a comparison {COMPARISONS} in a check; use `==` to test equality"
-                    ));
-                }
+            if let Found::Other(o) = &found
+                && o == "="
+            {
+                return err(format!(
+                    "expected a comparison {COMPARISONS} in a check; use `==` to test equality"
+                ));
             }
             return err(format!("expected a comparison {COMPARISONS} in a check"));
         }
-        if let Found::Other(o) = &found {
-            if matches!(o.as_str(), "<" | ">" | "<=" | ">=" | "==" | "!=") && after_operand {
-                return err(if ctx == Ctx::Check {
-                    "a check has exactly one comparison".into()
-                } else {
-                    format!("a comparison {COMPARISONS} can only be used in a `check`")
-                });
-            }
+        if let Found::Other(o) = &found
+            && matches!(o.as_str(), "<" | ">" | "<=" | ">=" | "==" | "!=")
+            && after_operand
+        {
+            return err(if ctx == Ctx::Check {
+                "a check has exactly one comparison".into()
+            } else {
+                format!("a comparison {COMPARISONS} can only be used in a `check`")
+            });
         }
-        if has(Rule::rparen) {
-            if let Some(open) = open_paren(text, pos) {
-                let (line, _) = line_col(self.src, self.base + open);
-                if has(Rule::comma) {
-                    return err(format!(
-                        "expected `,` or `)` to close the `(` opened at line {line}, found {found_desc}"
-                    ));
-                }
+        if has(Rule::rparen)
+            && let Some(open) = open_paren(text, pos)
+        {
+            let (line, _) = line_col(self.src, self.base + open);
+            if has(Rule::comma) {
                 return err(format!(
-                    "expected `)` to close the `(` opened at line {line}, found {found_desc}"
+                    "expected `,` or `)` to close the `(` opened at line {line}, found {found_desc}"
                 ));
             }
+            return err(format!(
+                "expected `)` to close the `(` opened at line {line}, found {found_desc}"
+            ));
         }
         if has(Rule::eq) {
             return err(format!("expected `=`{}, found {found_desc}", after(&prev)));
         }
         if has(Rule::ident) {
-            if let Found::Word(w) = &found {
-                if w.starts_with(|c: char| c.is_ascii_digit()) {
-                    return err(format!(
-                        "`{w}` is not a valid name: a name starts with a letter or `_`"
-                    ));
-                }
+            if let Found::Word(w) = &found
+                && w.starts_with(|c: char| c.is_ascii_digit())
+            {
+                return err(format!(
+                    "`{w}` is not a valid name: a name starts with a letter or `_`"
+                ));
             }
             if prev.as_ref().is_some_and(|p| p.ends_with('.')) {
                 return err(format!(
@@ -1259,19 +1262,20 @@ impl Builder<'_> {
                 _ => format!("expected a unit{}", after(&prev)),
             });
         }
-        if let Found::Other(o) = &found {
-            if o == ")" && open_paren(text, pos).is_none() {
-                return err("unexpected `)` without a matching `(`".into());
-            }
+        if let Found::Other(o) = &found
+            && o == ")"
+            && open_paren(text, pos).is_none()
+        {
+            return err("unexpected `)` without a matching `(`".into());
         }
-        if let Found::Other(o) = &found {
-            if o == "(" && has(Rule::field) {
-                if let Some(p) = prev.as_ref().filter(|p| p.contains('.')) {
-                    return err(format!(
-                        "only a name can be called; `{p}` is a field access"
-                    ));
-                }
-            }
+        if let Found::Other(o) = &found
+            && o == "("
+            && has(Rule::field)
+            && let Some(p) = prev.as_ref().filter(|p| p.contains('.'))
+        {
+            return err(format!(
+                "only a name can be called; `{p}` is a field access"
+            ));
         }
         if !positives.is_empty()
             && positives

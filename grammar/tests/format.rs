@@ -1,0 +1,513 @@
+//! Formatter: canonical layout, idempotence, AST preservation (proptests),
+//! and no panics on arbitrary input.
+
+use proptest::prelude::*;
+use sheaf_grammar::*;
+
+// ------------------------------------------------------------ helpers
+
+fn zs(s: &mut Span) {
+    *s = Span::default();
+}
+
+fn z_unit(u: &mut UnitExpr) {
+    zs(&mut u.span);
+    match &mut u.kind {
+        UnitKind::Mul(a, b) | UnitKind::Div(a, b) => {
+            z_unit(a);
+            z_unit(b);
+        }
+        UnitKind::Pow(a, _) => z_unit(a),
+        UnitKind::Atom(_) | UnitKind::One => {}
+    }
+}
+
+fn z_expr(e: &mut Expr) {
+    zs(&mut e.span);
+    match &mut e.kind {
+        ExprKind::Number { unit, .. } => {
+            if let Some(u) = unit {
+                z_unit(u);
+            }
+        }
+        ExprKind::Str(_) | ExprKind::Name(_) => {}
+        ExprKind::Neg(x) | ExprKind::Paren(x) => z_expr(x),
+        ExprKind::Binary { left, right, .. } => {
+            z_expr(left);
+            z_expr(right);
+        }
+        ExprKind::Call { func, args } => {
+            zs(&mut func.span);
+            for a in args {
+                zs(&mut a.span);
+                if let Some(n) = &mut a.name {
+                    zs(&mut n.span);
+                }
+                z_expr(&mut a.value);
+            }
+        }
+        ExprKind::Field { base, field } => {
+            z_expr(base);
+            zs(&mut field.span);
+        }
+    }
+}
+
+/// The worksheet without spans and without blank lines (the formatter
+/// collapses blank runs, which is its job).
+fn strip(mut w: Worksheet) -> Worksheet {
+    w.statements.retain(|s| s.kind != StatementKind::Blank);
+    for s in &mut w.statements {
+        zs(&mut s.span);
+        match &mut s.kind {
+            StatementKind::Meta { key, value } => {
+                zs(&mut key.span);
+                zs(&mut value.span);
+            }
+            StatementKind::Input {
+                name,
+                value,
+                description,
+            } => {
+                zs(&mut name.span);
+                z_expr(value);
+                if let Some(d) = description {
+                    zs(&mut d.span);
+                }
+            }
+            StatementKind::Define {
+                name,
+                unit,
+                value,
+                description,
+            } => {
+                zs(&mut name.span);
+                if let Some(u) = unit {
+                    z_unit(u);
+                }
+                z_expr(value);
+                if let Some(d) = description {
+                    zs(&mut d.span);
+                }
+            }
+            StatementKind::Check {
+                left,
+                op_span,
+                right,
+                description,
+                ..
+            } => {
+                z_expr(left);
+                zs(op_span);
+                z_expr(right);
+                if let Some(d) = description {
+                    zs(&mut d.span);
+                }
+            }
+            _ => {}
+        }
+    }
+    w
+}
+
+fn fmt(src: &str) -> String {
+    format(src).unwrap_or_else(|e| panic!("{src:?}: {e:?}"))
+}
+
+// ------------------------------------------------------------ layout
+
+#[test]
+fn canonical_layout() {
+    let src = "\n\n# T  \n  x : kJ/kg   K=1.005 kJ/(kg  K)+ -a*f(b,c:d,) // hi  \n\n\n\n>  note  \n\
+               y=(a)^-2 \\\n  \"desc \\\" q\"\ncheck a<=+b\nmeta by=\"A\"\ninput  z=2e5  Pa\"p\"\n\n";
+    let want = "# T\n\
+                x: kJ/kg K = 1.005 kJ/(kg K) + -a * f(b, c: d) // hi\n\
+                \n\
+                >  note\n\
+                y = (a) ^ -2 \"desc \\\" q\"\n\
+                check a <= b\n\
+                meta by = \"A\"\n\
+                input z = 2e5 Pa \"p\"\n";
+    assert_eq!(fmt(src), want);
+    assert_eq!(fmt(want), want);
+}
+
+#[test]
+fn empty_and_blank_only() {
+    assert_eq!(fmt(""), "");
+    assert_eq!(fmt("\n\n  \n"), "");
+    assert_eq!(fmt("x = 1"), "x = 1\n");
+}
+
+#[test]
+fn comments_and_notes_verbatim() {
+    assert_eq!(fmt("  //no space  \n>no space"), "//no space\n>no space\n");
+    assert_eq!(fmt("##   Section   A"), "## Section   A\n");
+}
+
+#[test]
+fn units_keep_their_meaning() {
+    // the space before `*` makes it an operator; the formatter keeps that
+    assert_eq!(
+        fmt("x = 2 m*x + 2 m * x + 2 m^2 + 2 m ^ 2"),
+        "x = 2 m*x + 2 m * x + 2 m^2 + 2 m ^ 2\n"
+    );
+    assert_eq!(fmt("x = 2kg"), "x = 2 kg\n");
+}
+
+#[test]
+fn format_reports_parse_errors() {
+    let errs = format("x = \ny = 1 +").unwrap_err();
+    assert_eq!(errs.len(), 2);
+}
+
+#[test]
+fn design_example_round_trip() {
+    let src = include_str!("data/design_example.sheaf");
+    let out = fmt(src);
+    assert_eq!(strip(parse(&out).unwrap()), strip(parse(src).unwrap()));
+    assert_eq!(fmt(&out), out);
+    assert!(out.contains("T2: degC = st2.T \"discharge temperature\"\n"));
+}
+
+// ------------------------------------------------------------ generators
+
+fn ident() -> BoxedStrategy<String> {
+    prop_oneof![
+        Just("a".to_string()),
+        Just("T1".to_string()),
+        Just("st1".to_string()),
+        Just("m".to_string()),
+        Just("s".to_string()),
+        Just("h".to_string()),
+        Just("_x2".to_string()),
+        Just("inputs".to_string()),
+        "[a-z][a-z0-9_]{0,5}".prop_filter("keyword", |s| !KEYWORDS.contains(&s.as_str())),
+    ]
+    .boxed()
+}
+
+fn number() -> BoxedStrategy<String> {
+    prop_oneof![
+        Just("1".to_string()),
+        Just("1.5".to_string()),
+        Just(".5".to_string()),
+        Just("2e5".to_string()),
+        Just("1.5E-3".to_string()),
+        "[0-9]{1,4}(\\.[0-9]{1,3})?",
+    ]
+    .boxed()
+}
+
+fn unit_atom() -> BoxedStrategy<String> {
+    prop_oneof![
+        Just("kg".to_string()),
+        Just("m".to_string()),
+        Just("s".to_string()),
+        Just("K".to_string()),
+        Just("kJ".to_string()),
+        Just("degC".to_string()),
+        Just("°C".to_string()),
+        Just("µm".to_string()),
+        Just("%".to_string()),
+        Just("barg".to_string()),
+    ]
+    .boxed()
+}
+
+/// A unit written with the in-parentheses rules (spaces allowed).
+fn unit_loose() -> BoxedStrategy<String> {
+    let leaf = (unit_atom(), prop::option::of(-3i32..4)).prop_map(|(a, p)| match p {
+        Some(p) => format!("{a}^{p}"),
+        None => a,
+    });
+    leaf.prop_recursive(3, 12, 3, |inner| {
+        prop_oneof![
+            (inner.clone(), inner.clone())
+                .prop_map(|(a, b)| format!("{a} {b}"))
+                .boxed(),
+            (
+                inner.clone(),
+                inner.clone(),
+                prop_oneof![Just("*"), Just("/"), Just(" / "), Just(" * ")]
+            )
+                .prop_map(|(a, b, op)| format!("{a}{op}{b}"))
+                .boxed(),
+            inner.prop_map(|a| format!("({a})")).boxed(),
+        ]
+    })
+    .boxed()
+}
+
+/// A unit written right after a number (no top-level spaces).
+fn unit_tight() -> BoxedStrategy<String> {
+    let factor = prop_oneof![
+        3 => (unit_atom(), prop::option::of(-3i32..4)).prop_map(|(a, p)| match p {
+            Some(p) => format!("{a}^{p}"),
+            None => a,
+        }),
+        1 => unit_loose().prop_map(|u| format!("({u})")),
+    ];
+    (
+        unit_atom(),
+        prop::collection::vec((prop_oneof![Just("*"), Just("/")], factor), 0..3),
+    )
+        .prop_map(|(first, rest)| {
+            let mut s = first;
+            for (op, f) in rest {
+                s += op;
+                s += &f;
+            }
+            s
+        })
+        .boxed()
+}
+
+fn string_lit() -> BoxedStrategy<String> {
+    "[a-z \\\\\"/@;]{0,8}"
+        .prop_map(|v| {
+            let mut s = String::from("\"");
+            for c in v.chars() {
+                if c == '"' || c == '\\' {
+                    s.push('\\');
+                }
+                s.push(c);
+            }
+            s.push('"');
+            s
+        })
+        .boxed()
+}
+
+fn ws() -> BoxedStrategy<&'static str> {
+    prop_oneof![Just(""), Just(" "), Just("  "), Just("\t")].boxed()
+}
+
+fn expr() -> BoxedStrategy<String> {
+    let leaf = prop_oneof![
+        ident(),
+        number(),
+        (number(), ws(), unit_tight()).prop_map(|(n, w, u)| {
+            // a unit needs a separating blank unless the number cannot run into it
+            let w = if w.is_empty() { " " } else { w };
+            format!("{n}{w}{u}")
+        }),
+        string_lit(),
+    ];
+    leaf.prop_recursive(4, 24, 4, |inner| {
+        prop_oneof![
+            (
+                inner.clone(),
+                prop_oneof![Just("+"), Just("-"), Just("*"), Just("/"), Just("^")],
+                inner.clone(),
+                ws()
+            )
+                .prop_map(|(a, op, b, w)| format!("{a} {op}{w}{b}"))
+                .boxed(),
+            (prop_oneof![Just("-"), Just("+"), Just("- ")], inner.clone())
+                .prop_map(|(op, a)| format!("{op}{a}"))
+                .boxed(),
+            (inner.clone(), ws())
+                .prop_map(|(a, w)| format!("({w}{a}{w})"))
+                .boxed(),
+            (
+                ident(),
+                prop::collection::vec((prop::option::of(ident()), inner.clone()), 0..3),
+                any::<bool>()
+            )
+                .prop_map(|(f, args, trailing)| {
+                    let args: Vec<String> = args
+                        .into_iter()
+                        .map(|(n, v)| match n {
+                            Some(n) => format!("{n}:{v}"),
+                            None => v,
+                        })
+                        .collect();
+                    let comma = if trailing && !args.is_empty() {
+                        ","
+                    } else {
+                        ""
+                    };
+                    format!("{f}({}{comma})", args.join(","))
+                })
+                .boxed(),
+            (inner, ident())
+                .prop_map(|(a, f)| format!("({a}).{f}"))
+                .boxed(),
+            (ident(), ident())
+                .prop_map(|(a, f)| format!("{a}.{f}"))
+                .boxed(),
+        ]
+    })
+    .boxed()
+}
+
+fn description() -> BoxedStrategy<String> {
+    prop::option::of(string_lit())
+        .prop_map(|d| d.map(|d| format!(" {d}")).unwrap_or_default())
+        .boxed()
+}
+
+fn comment() -> BoxedStrategy<String> {
+    prop::option::of("[a-z @;]{0,6}")
+        .prop_map(|c| c.map(|c| format!(" // {c}")).unwrap_or_default())
+        .boxed()
+}
+
+fn statement() -> BoxedStrategy<String> {
+    prop_oneof![
+        (1usize..4, "[A-Za-z0-9 :-]{0,10}").prop_map(|(l, t)| format!("{} {t}", "#".repeat(l))),
+        "[a-z @;]{0,10}".prop_map(|t| format!("> {t}")),
+        "[a-z @;]{0,10}".prop_map(|t| format!("// {t}")),
+        Just(String::new()),
+        Just("   ".to_string()),
+        (ident(), string_lit(), comment()).prop_map(|(k, v, c)| format!("meta {k} = {v}{c}")),
+        (ident(), expr(), description(), comment())
+            .prop_map(|(n, e, d, c)| format!("input {n} = {e}{d}{c}")),
+        (
+            ident(),
+            prop::option::of(unit_loose()),
+            expr(),
+            description(),
+            comment()
+        )
+            .prop_map(|(n, u, e, d, c)| match u {
+                Some(u) => format!("{n} : {u} = {e}{d}{c}"),
+                None => format!("{n}={e}{d}{c}"),
+            }),
+        (
+            expr(),
+            prop_oneof![
+                Just("<"),
+                Just("<="),
+                Just(">"),
+                Just(">="),
+                Just("=="),
+                Just("!=")
+            ],
+            expr(),
+            description()
+        )
+            .prop_map(|(a, op, b, d)| format!("check {a} {op} {b}{d}")),
+    ]
+    .boxed()
+}
+
+fn worksheet() -> impl Strategy<Value = String> {
+    prop::collection::vec(statement(), 0..8).prop_map(|v| v.join("\n"))
+}
+
+/// Strings made of the language's tokens, valid or not.
+fn token_soup() -> impl Strategy<Value = String> {
+    let tok = prop_oneof![
+        Just("input "),
+        Just("check "),
+        Just("meta "),
+        Just("x"),
+        Just("T1"),
+        Just("="),
+        Just(":"),
+        Just("("),
+        Just(")"),
+        Just(","),
+        Just("."),
+        Just("+"),
+        Just("-"),
+        Just("*"),
+        Just("/"),
+        Just("^"),
+        Just("<="),
+        Just("<"),
+        Just("=="),
+        Just("!="),
+        Just("\""),
+        Just("\\"),
+        Just("\\\n"),
+        Just("\n"),
+        Just("\r\n"),
+        Just(" "),
+        Just("1.5"),
+        Just("2e5"),
+        Just(".5"),
+        Just("kg"),
+        Just("°C"),
+        Just("%"),
+        Just("//"),
+        Just("#"),
+        Just(">"),
+        Just("@"),
+        Just("1e999"),
+        Just("η"),
+        Just("\u{feff}"),
+        Just("\t"),
+    ];
+    prop::collection::vec(tok, 0..40).prop_map(|v| v.concat())
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 256, ..ProptestConfig::default() })]
+
+    #[test]
+    fn never_panics_on_arbitrary_strings(s in "\\PC*") {
+        let _ = parse(&s);
+        let _ = parse_expr(&s);
+        let _ = parse_unit(&s);
+        let _ = format(&s);
+    }
+
+    #[test]
+    fn never_panics_on_token_soup(s in token_soup()) {
+        let _ = parse(&s);
+        let _ = parse_expr(&s);
+        let _ = parse_unit(&s);
+        if let Ok(out) = format(&s) {
+            // whatever parses formats to something that parses the same
+            prop_assert_eq!(strip(parse(&out).unwrap()), strip(parse(&s).unwrap()));
+            prop_assert_eq!(format(&out).unwrap(), out);
+        }
+    }
+
+    #[test]
+    fn errors_have_spans_inside_the_source(s in token_soup()) {
+        if let Err(errs) = parse(&s) {
+            for e in errs {
+                prop_assert!(e.span.start <= e.span.end && e.span.end <= s.len(), "{:?}", e);
+                prop_assert!(s.is_char_boundary(e.span.start) && s.is_char_boundary(e.span.end));
+                prop_assert!(!e.message.is_empty());
+            }
+        }
+    }
+
+    #[test]
+    fn format_is_idempotent_and_preserves_the_ast(src in worksheet()) {
+        let w = parse(&src).map_err(|e| TestCaseError::fail(format!("{src:?}: {e:?}")))?;
+        let out = format(&src).map_err(|e| TestCaseError::fail(format!("{e:?}")))?;
+        let w2 = parse(&out).map_err(|e| TestCaseError::fail(format!("{out:?}: {e:?}")))?;
+        prop_assert_eq!(strip(w2), strip(w));
+        prop_assert_eq!(format(&out).unwrap(), out.clone());
+        prop_assert!(out.is_empty() || (out.ends_with('\n') && !out.ends_with("\n\n")));
+        prop_assert!(!out.lines().any(|l| l != l.trim_end()));
+    }
+
+    #[test]
+    fn parse_expr_agrees_with_statements(e in expr()) {
+        let a = parse_expr(&e).map_err(|err| TestCaseError::fail(format!("{e:?}: {err:?}")))?;
+        let src = format!("x = {e}");
+        let w = parse(&src).map_err(|err| TestCaseError::fail(format!("{src:?}: {err:?}")))?;
+        let StatementKind::Define { value, .. } = &w.statements[0].kind else {
+            return Err(TestCaseError::fail("not a define"));
+        };
+        let (mut a, mut b) = (a, value.clone());
+        z_expr(&mut a);
+        z_expr(&mut b);
+        prop_assert_eq!(a, b);
+        // spans of the statement form are the expression's shifted by 4
+        let v = parse_expr(&e).unwrap();
+        prop_assert_eq!(value.span, Span::new(v.span.start + 4, v.span.end + 4));
+    }
+
+    #[test]
+    fn parse_unit_accepts_generated_units(u in unit_loose()) {
+        parse_unit(&u).map_err(|err| TestCaseError::fail(format!("{u:?}: {err:?}")))?;
+    }
+}
