@@ -230,5 +230,8 @@ fn negative_readings_on_offset_scales_are_literals() {
     assert!(close(m.number("a").unwrap(), 233.15, 1e-12));
     assert!(close(m.number("b").unwrap(), 233.15, 1e-12));
     let e = errors("a = 20 degC\nb = -a\n");
-    assert!(e[0].contains("cannot negate an absolute temperature"), "{e:?}");
+    assert!(
+        e[0].contains("cannot negate an absolute temperature"),
+        "{e:?}"
+    );
 }
