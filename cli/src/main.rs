@@ -373,10 +373,7 @@ fn cmd_units(word: Option<&str>) -> u8 {
         eprintln!("no unit matches `{}`{hint}", word.unwrap_or(""));
         return EXIT_USAGE;
     }
-    println!(
-        "{:<12} {:<34} {:<28} {}",
-        "symbol", "name", "quantity", "in SI"
-    );
+    println!("{:<12} {:<34} {:<28} in SI", "symbol", "name", "quantity");
     for u in list {
         let si = units::si_unit(units::lookup(u.symbol).map_or(units::Dim::NONE, |x| x.dim));
         let conv = if u.offset != 0.0 {

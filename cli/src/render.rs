@@ -81,7 +81,7 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
         .blocks
         .iter()
         .filter_map(|b| match b {
-            Block::Quantity(q) => Some(q),
+            Block::Quantity(q) => Some(q.as_ref()),
             _ => None,
         })
         .filter(|q| q.value.is_some())
@@ -269,7 +269,7 @@ pub fn json(report: &Report) -> Json {
         .blocks
         .iter()
         .filter_map(|b| match b {
-            Block::Quantity(q) => Some(q),
+            Block::Quantity(q) => Some(q.as_ref()),
             _ => None,
         })
         .flat_map(|q| q.flatten())
@@ -355,10 +355,10 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
                     in_table = true;
                 }
                 let tag = if q.kind == "input" { "input" } else { "" };
-                for r in std::iter::once(q).chain(q.fields.iter()) {
+                for r in std::iter::once(q.as_ref()).chain(q.fields.iter()) {
                     out.push_str(&format!(
                         "| {} | `{}` | {} | {} | {} |\n",
-                        if std::ptr::eq(r, q) { tag } else { "" },
+                        if std::ptr::eq(r, q.as_ref()) { tag } else { "" },
                         r.name,
                         md_escape(&value_text(r, sig)),
                         md_escape(&r.unit),

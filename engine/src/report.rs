@@ -39,7 +39,7 @@ pub enum Block {
         text: String,
     },
     Note(String),
-    Quantity(QuantityRow),
+    Quantity(Box<QuantityRow>),
     /// Index into `Report::checks`.
     Check(usize),
 }
@@ -183,7 +183,8 @@ impl Model {
                 }
                 StatementKind::Input { .. } | StatementKind::Define { .. } => {
                     let Some(i) = node_of_stmt[si] else { continue };
-                    r.blocks.push(Block::Quantity(self.quantity_row(i, line)));
+                    r.blocks
+                        .push(Block::Quantity(Box::new(self.quantity_row(i, line))));
                 }
                 StatementKind::Check { .. } => {
                     let Some(i) = node_of_stmt[si] else { continue };
