@@ -22,9 +22,10 @@
 //!   get different masks, and names that differ otherwise differ after the
 //!   first `_`: the mapping is one-to-one under case-insensitive comparison.
 //! - The kind letter, optional hex digits and the `_` that always follows
-//!   make every name contain an underscore after a letter and a digit or
-//!   letter, so no name can be an A1 or R1C1 reference, and no Excel
-//!   function name has that form.
+//!   make every name contain an underscore, so no name is an A1 or R1C1
+//!   reference. Spreadsheets also refuse names that merely *start* like an
+//!   R1C1 reference (`R1x`, `C2x`, `RC3x`): no kind letter is `r` or `c`.
+//!   No spreadsheet function name has the form letter-hex-underscore.
 //! - Field names (`T p h u s v rho cp cv k x R`) are distinct ignoring
 //!   case, and the field is the text after the last `_`.
 //!
@@ -54,7 +55,7 @@ impl NameKind {
             NameKind::Quantity => 'q',
             NameKind::Field => 'f',
             NameKind::Input => 'i',
-            NameKind::Recorded => 'r',
+            NameKind::Recorded => 'u',
             NameKind::Differs => 'd',
         }
     }
@@ -64,7 +65,7 @@ impl NameKind {
             'q' => NameKind::Quantity,
             'f' => NameKind::Field,
             'i' => NameKind::Input,
-            'r' => NameKind::Recorded,
+            'u' => NameKind::Recorded,
             'd' => NameKind::Differs,
             _ => return None,
         })
@@ -170,6 +171,15 @@ pub fn looks_like_cell_ref(s: &str) -> bool {
     {
         return true;
     }
+    // Names that start like an R1C1 reference (R1..., C1..., RC1...) are
+    // refused by spreadsheets too.
+    for p in ["RC", "R", "C"] {
+        if let Some(rest) = u.strip_prefix(p)
+            && rest.starts_with(|c: char| c.is_ascii_digit() && c != '0')
+        {
+            return true;
+        }
+    }
     // R1C1: R[digits]C[digits], or R[digits], or C[digits].
     let r1c1 = |t: &str| -> bool {
         let t = match t.strip_prefix('R') {
@@ -228,8 +238,25 @@ mod tests {
         assert!(looks_like_cell_ref("rc"));
         assert!(looks_like_cell_ref("R"));
         assert!(looks_like_cell_ref("XFD7"));
+        assert!(looks_like_cell_ref("r1_x"));
+        assert!(looks_like_cell_ref("c12abc"));
         assert!(!looks_like_cell_ref("T_in"));
-        for n in ["T1", "R2C3", "C", "R", "A1", "XFD1048576", "p2", "rc1", "x"] {
+        let masks = [
+            "x",
+            "X",
+            "aX",
+            "abcdefghijklmnopqrstuvwxyZ",
+            "ABCDEFGH",
+            "T1",
+            "R2C3",
+            "C",
+            "R",
+            "A1",
+            "XFD1048576",
+            "p2",
+            "rc1",
+        ];
+        for n in masks {
             for kind in [
                 NameKind::Quantity,
                 NameKind::Field,
