@@ -76,12 +76,11 @@ fn libreoffice_reproduces_the_engine() {
             .nodes()
             .iter()
             .filter_map(|n| n.name.as_ref().map(|x| x.name.clone()))
-            .filter(|n| {
+            .rfind(|n| {
                 book.names
                     .iter()
                     .any(|(d, _)| *d == names::name_of(NameKind::Input, n))
             })
-            .last()
             .expect("an input");
         let ipos = book.pos(&names::name_of(NameKind::Input, &input)).clone();
         let old = book.number(&ipos).unwrap();

@@ -715,8 +715,8 @@ fn package_bytes(model: &Model, info: &PackageInfo) -> Result<Vec<u8>, rust_xlsx
             let coef = g.coefficients();
             for (hi, label) in [(false, "200-1000 K"), (true, "1000-6000 K")] {
                 data.write_string(r, 0, format!("{} {label}", g.name()))?;
-                for k in 0..7 {
-                    data.write_number(r, 1 + k as u16, coef[usize::from(hi)][k])?;
+                for (k, a) in coef[usize::from(hi)].iter().enumerate() {
+                    data.write_number(r, 1 + k as u16, *a)?;
                     defined.push((
                         formula::gas_coef_name(g.name(), hi, k + 1),
                         abs_ref(DATA, r, 1 + k as u16),
