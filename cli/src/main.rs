@@ -2,6 +2,7 @@
 //! engine, prints what it returns.
 
 mod diagnostics;
+mod package;
 mod render;
 
 use std::io::IsTerminal;
@@ -105,6 +106,33 @@ sheaf eval 'state(fluid(\"water\"), p: 3 MPa, T: 400 degC).h' --in kJ/kg")]
         #[arg(long)]
         write: bool,
     },
+    /// Write the xlsx calculation package (live formulas) of a worksheet.
+    #[command(after_help = package::XLSX_HELP)]
+    Xlsx {
+        /// The worksheet (.sheaf).
+        file: PathBuf,
+        /// Output workbook (default: FILE with .xlsx beside it).
+        #[arg(short = 'o', long = "out", value_name = "OUT.xlsx")]
+        out: Option<PathBuf>,
+        /// Override an input: NAME=VALUE with a unit. Repeatable.
+        #[arg(long = "set", value_name = "NAME=VALUE")]
+        set: Vec<String>,
+    },
+    /// Read inputs a reviewer changed in a package back into the worksheet.
+    #[command(after_help = package::PULL_HELP)]
+    Pull {
+        /// The worksheet (.sheaf).
+        file: PathBuf,
+        /// The reviewed package.
+        #[arg(long, value_name = "REVIEWED.xlsx")]
+        from: PathBuf,
+        /// Rewrite the changed numbers in the worksheet (atomically).
+        #[arg(long)]
+        write: bool,
+        /// Pull even from a workbook of another worksheet version.
+        #[arg(long)]
+        force: bool,
+    },
 }
 
 fn main() -> ExitCode {
@@ -126,6 +154,13 @@ fn main() -> ExitCode {
         Command::Units { word } => cmd_units(word.as_deref()),
         Command::Functions => cmd_functions(),
         Command::Fmt { file, write } => cmd_fmt(&file, write),
+        Command::Xlsx { file, out, set } => package::cmd_xlsx(&file, out.as_deref(), &set),
+        Command::Pull {
+            file,
+            from,
+            write,
+            force,
+        } => package::cmd_pull(&file, &from, write, force),
     };
     ExitCode::from(code)
 }

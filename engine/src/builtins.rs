@@ -94,6 +94,8 @@ pub enum Builtin {
     FlowExergy,
     ClosedExergy,
     HeatExergy,
+    /// A number read from a workbook cell or defined name.
+    Cell,
 }
 
 /// One parameter of a built-in.
@@ -365,6 +367,13 @@ pub const SIGNATURES: &[Signature] = &[
         "heat_exergy(Q, T_b, T0)",
         "exergy of heat Q crossing a boundary at T_b: Q (1 - T0/T_b)"
     ),
+    sig!(
+        Cell,
+        "cell",
+        &[p("book"), p("ref")],
+        "cell(\"basis.xlsx\", \"Site!C7\") * 1 kPa  or  cell(\"basis.xlsx\", \"p_site\") * 1 kPa",
+        "number from a workbook cell (Sheet!C7) or defined name; dimensionless, multiply by a unit; the path is relative to the worksheet"
+    ),
 ];
 
 pub fn signature(name: &str) -> Option<&'static Signature> {
@@ -599,6 +608,11 @@ pub fn type_call(sig: &Signature, args: &[Option<TArg>]) -> Result<Ty, TypeErr> 
                     ),
                 );
             }
+            Ty::Num(QTy::DIMENSIONLESS)
+        }
+        B::Cell => {
+            string_literal(sig, args, 0)?;
+            string_literal(sig, args, 1)?;
             Ty::Num(QTy::DIMENSIONLESS)
         }
         B::IdealGas => {
@@ -1026,5 +1040,9 @@ pub fn call(b: Builtin, args: &[Value], warnings: &mut Warnings) -> Result<Value
             }))
         }
         B::HeatExergy => Ok(Value::Num(th(exergy::heat_exergy(n(0)?, n(1)?, n(2)?))?)),
+        B::Cell => Ok(Value::Num(crate::xlsx::read_cell(
+            std::path::Path::new(text(&args[0])?),
+            text(&args[1])?,
+        )?)),
     }
 }

@@ -17,6 +17,7 @@ pub mod report;
 pub mod thermo;
 pub mod types;
 pub mod units;
+pub mod xlsx;
 
 pub use diag::{Diagnostic, Label, Severity};
 pub use model::{Model, Status};

@@ -57,6 +57,20 @@ impl Model {
         })
     }
 
+    /// Parse and check a worksheet whose `cell("book.xlsx", ...)` paths are
+    /// relative to `dir` (the worksheet's folder). [`Model::new`] resolves
+    /// them against the current directory.
+    pub fn with_base_dir(
+        source: impl Into<String>,
+        dir: &std::path::Path,
+    ) -> Result<Model, Vec<Diagnostic>> {
+        let mut m = Model::new(source)?;
+        for node in &mut m.checked.nodes {
+            resolve_cell_paths(&mut node.code, dir);
+        }
+        Ok(m)
+    }
+
     pub fn source(&self) -> &str {
         &self.source
     }
@@ -230,6 +244,33 @@ impl Model {
     /// The display unit chosen for a node.
     pub fn display(&self, node: usize) -> &DisplayUnit {
         &self.checked.nodes[node].display
+    }
+}
+
+/// Make the workbook paths of `cell` calls relative to `dir`.
+fn resolve_cell_paths(code: &mut Code, dir: &std::path::Path) {
+    match code {
+        Code::Call(b, args, _) => {
+            if *b == crate::builtins::Builtin::Cell
+                && let Some(Code::Str(p)) = args.first_mut()
+                && std::path::Path::new(&**p).is_relative()
+            {
+                *p = std::sync::Arc::from(dir.join(&**p).to_string_lossy().as_ref());
+            }
+            for a in args {
+                resolve_cell_paths(a, dir);
+            }
+        }
+        Code::Neg(a) | Code::Field(a, _, _) => resolve_cell_paths(a, dir),
+        Code::Add(a, b) | Code::Sub(a, b) | Code::Mul(a, b) | Code::Cmp(_, a, b) => {
+            resolve_cell_paths(a, dir);
+            resolve_cell_paths(b, dir);
+        }
+        Code::Div(a, b, _) | Code::Pow(a, b, _) => {
+            resolve_cell_paths(a, dir);
+            resolve_cell_paths(b, dir);
+        }
+        Code::Const(_) | Code::Str(_) | Code::Absent | Code::Slot(_) => {}
     }
 }
 

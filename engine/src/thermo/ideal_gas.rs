@@ -429,6 +429,18 @@ impl IdealGas {
         (self.tc, self.pc)
     }
 
+    /// NASA a1..a7 (molar, dimensionless) of the 200-1000 K range `[0]`
+    /// and the 1000-6000 K range `[1]` (for the xlsx package's formulas).
+    pub fn coefficients(&self) -> &[[f64; 7]; 2] {
+        &self.a
+    }
+
+    /// R H°(298.15 K)/R_u per kg, J/kg: subtracted to give the sensible
+    /// enthalpy (for the xlsx package's formulas).
+    pub fn h_offset(&self) -> f64 {
+        self.h_off
+    }
+
     #[inline]
     fn coeffs(&self, t: f64) -> &[f64; 7] {
         if t < T_MID { &self.a[0] } else { &self.a[1] }

@@ -1,0 +1,342 @@
+//! The xlsx calculation package: writer (rust_xlsxwriter), formula
+//! compiler, reader (calamine) for `cell()` and `pull`, and the rewriting
+//! of input literals for `pull --write`.
+//!
+//! Layout, name scheme and what is live are described in DEVELOPERS.md
+//! ("xlsx package") and in [`names`].
+
+pub mod formula;
+pub mod names;
+pub mod reader;
+mod writer;
+
+use std::path::Path;
+
+use sha2::{Digest, Sha256};
+use sheaf_grammar::{Expr, ExprKind, Span, StatementKind};
+
+use crate::check::{DisplayUnit, NodeKind};
+use crate::model::Model;
+use crate::types::Ty;
+
+pub use reader::{Reviewed, ReviewedInput, read_inputs};
+pub use writer::write_package;
+
+/// Defined names of the package information cells (data sheet).
+pub const NAME_SHA: &str = "sheaf_source_sha256";
+pub const NAME_SOURCE: &str = "sheaf_source_name";
+pub const NAME_VERSION: &str = "sheaf_version";
+
+/// Errors of writing or reading workbooks, worded for the user.
+#[derive(Debug, thiserror::Error)]
+pub enum XlsxError {
+    #[error("cannot write {path}: {message}")]
+    Write { path: String, message: String },
+    #[error("cannot read workbook {path}: {message}")]
+    Read { path: String, message: String },
+    #[error("workbook {book}, cell {cell}: {message}")]
+    Cell {
+        book: String,
+        cell: String,
+        message: String,
+    },
+}
+
+impl From<XlsxError> for String {
+    fn from(e: XlsxError) -> String {
+        e.to_string()
+    }
+}
+
+pub use reader::read_cell as read_cell_checked;
+
+/// The number in a workbook cell, for the `cell` built-in (error as text).
+pub fn read_cell(path: &Path, reference: &str) -> Result<f64, String> {
+    reader::read_cell(path, reference).map_err(|e| e.to_string())
+}
+
+/// What the cover and data sheet say about the package.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PackageInfo {
+    /// The worksheet's file name as given.
+    pub source_name: String,
+    /// sha256 of the worksheet text, lowercase hex ([`sha256_hex`]).
+    pub source_sha256: String,
+    pub tool_version: String,
+    /// Date of writing, e.g. "2026-12-01".
+    pub date: String,
+}
+
+/// sha256 of bytes, lowercase hex.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    let d = Sha256::digest(bytes);
+    d.iter().map(|b| format!("{b:02x}")).collect()
+}
+
+/// How a number is shown: `shown = (si - offset) / factor`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Shown {
+    pub value: f64,
+    pub factor: f64,
+    pub offset: f64,
+    pub unit: String,
+}
+
+/// Shown value of an SI number under a display unit (automatic units: the
+/// engineering prefix chosen for this value).
+pub fn shown(display: &DisplayUnit, dim: crate::units::Dim, si: f64) -> Shown {
+    match display {
+        DisplayUnit::Fixed { unit, text } => Shown {
+            value: unit.from_si(si),
+            factor: unit.factor,
+            offset: unit.offset,
+            unit: text.clone(),
+        },
+        DisplayUnit::Auto => {
+            let (v, u) = crate::units::auto_display(dim, si);
+            let factor = if v != 0.0 && si != 0.0 && v.is_finite() {
+                10f64.powi((si / v).log10().round() as i32)
+            } else {
+                1.0
+            };
+            Shown {
+                value: v,
+                factor,
+                offset: 0.0,
+                unit: u,
+            }
+        }
+    }
+}
+
+/// The literal of an input written as a plain number (possibly negated or
+/// in parentheses): (span to replace, value as written incl. sign, unit
+/// text).
+fn input_literal<'a>(
+    e: &'a Expr,
+    src: &str,
+) -> Option<(Span, f64, Option<&'a sheaf_grammar::UnitExpr>)> {
+    match &e.kind {
+        ExprKind::Paren(a) => input_literal(a, src),
+        ExprKind::Number { value, text, unit } => {
+            let span = Span::new(e.span.start, e.span.start + text.len());
+            (span.slice(src) == text).then_some((span, *value, unit.as_ref()))
+        }
+        ExprKind::Neg(a) => match &a.kind {
+            ExprKind::Number { value, text, unit } => {
+                let end = a.span.start + text.len();
+                (Span::new(a.span.start, end).slice(src) == text).then_some((
+                    Span::new(e.span.start, end),
+                    -value,
+                    unit.as_ref(),
+                ))
+            }
+            _ => None,
+        },
+        _ => None,
+    }
+}
+
+/// An input as shown in the package: its value in its display unit and
+/// the conversion, and the literal span when the input is a plain literal
+/// in that unit (the value then is the literal as written).
+pub fn input_shown(model: &Model, node: usize) -> Option<(Shown, Option<Span>)> {
+    let n = model.nodes().get(node)?;
+    let Ty::Num(q) = n.ty else { return None };
+    if n.kind != NodeKind::Input {
+        return None;
+    }
+    let si = model.value(node).as_num()?;
+    let mut sh = shown(&n.display, q.dim, si);
+    let stmt = model.worksheet().statements.get(n.stmt)?;
+    let StatementKind::Input { value, .. } = &stmt.kind else {
+        return Some((sh, None));
+    };
+    let src = model.source();
+    let lit = input_literal(value, src).and_then(|(span, v, unit)| {
+        let same_unit = match (&n.display, unit) {
+            (DisplayUnit::Fixed { text, .. }, Some(u)) => {
+                crate::check::normalise_unit_text(u.span.slice(src)) == *text
+            }
+            (DisplayUnit::Auto, None) => sh.factor == 1.0 && sh.offset == 0.0,
+            _ => false,
+        };
+        same_unit.then_some((span, v))
+    });
+    match lit {
+        Some((span, v)) => {
+            sh.value = v;
+            Some((sh, Some(span)))
+        }
+        None => Some((sh, None)),
+    }
+}
+
+/// An input whose value a reviewer changed.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Change {
+    pub name: String,
+    /// Old and new value in the display unit.
+    pub old: f64,
+    pub new: f64,
+    pub unit: String,
+    /// New value in SI.
+    pub new_si: f64,
+    /// Where the reviewer changed it (`Calculation!C8`).
+    pub cell: String,
+    /// The literal to rewrite; `None` when the input is not a plain
+    /// literal (then it cannot be written back).
+    pub literal: Option<Span>,
+}
+
+/// Inputs whose reviewed value differs from the model's (inputs unknown
+/// to the model are ignored; the CLI lists them from `reviewed`).
+pub fn pull_changes(model: &Model, reviewed: &Reviewed) -> Vec<Change> {
+    let mut out = Vec::new();
+    for r in &reviewed.inputs {
+        let Some(i) = model.node_index(&r.name) else {
+            continue;
+        };
+        let Some((sh, literal)) = input_shown(model, i) else {
+            continue;
+        };
+        if r.value == sh.value {
+            continue;
+        }
+        out.push(Change {
+            name: r.name.clone(),
+            old: sh.value,
+            new: r.value,
+            unit: sh.unit.clone(),
+            new_si: r.value * sh.factor + sh.offset,
+            cell: r.cell.clone(),
+            literal,
+        });
+    }
+    out
+}
+
+/// Number text for a worksheet literal: the shortest text that reads back
+/// as the same number; scientific notation outside 1e-4..1e15.
+pub fn literal_text(x: f64) -> String {
+    let a = x.abs();
+    if a == 0.0 || (1e-4..1e15).contains(&a) {
+        format!("{x}")
+    } else {
+        format!("{x:e}")
+    }
+}
+
+/// The worksheet text with the literals of the changed inputs replaced;
+/// every other byte is kept. Changes without a literal are skipped.
+pub fn rewrite_inputs(source: &str, changes: &[Change]) -> String {
+    let mut spans: Vec<(Span, String)> = changes
+        .iter()
+        .filter_map(|c| c.literal.map(|s| (s, literal_text(c.new))))
+        .collect();
+    spans.sort_by_key(|(s, _)| s.start);
+    let mut out = String::with_capacity(source.len() + 16);
+    let mut pos = 0;
+    for (s, text) in spans {
+        if s.start < pos || s.end > source.len() {
+            continue;
+        }
+        out.push_str(&source[pos..s.start]);
+        out.push_str(&text);
+        pos = s.end;
+    }
+    out.push_str(&source[pos..]);
+    out
+}
+
+/// Write bytes to `path` through a temporary file in the same folder and a
+/// rename: an error leaves any previous file untouched.
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => std::path::PathBuf::from("."),
+    };
+    let name = path
+        .file_name()
+        .map_or("out".into(), |n| n.to_string_lossy().into_owned());
+    let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
+    let result = std::fs::write(&tmp, bytes).and_then(|()| std::fs::rename(&tmp, path));
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rewrite_keeps_every_other_byte() {
+        let src = "# t\n// keep   this\ninput p = 8.5 barg   \"x\"\ninput  q=(2 m) // c\ninput n = -3 K\ny = p * 2\n";
+        let mut m = Model::new(src).unwrap();
+        m.evaluate();
+        let reviewed = Reviewed {
+            source_name: None,
+            source_sha256: None,
+            tool_version: None,
+            inputs: vec![
+                ReviewedInput {
+                    name: "p".into(),
+                    value: 9.25,
+                    cell: "C1".into(),
+                },
+                ReviewedInput {
+                    name: "q".into(),
+                    value: 2.0,
+                    cell: "C2".into(),
+                },
+                ReviewedInput {
+                    name: "n".into(),
+                    value: 4.0,
+                    cell: "C3".into(),
+                },
+            ],
+        };
+        let ch = pull_changes(&m, &reviewed);
+        assert_eq!(ch.len(), 2, "{ch:?}");
+        assert_eq!(ch[0].old, 8.5);
+        assert_eq!(ch[0].unit, "barg");
+        let out = rewrite_inputs(src, &ch);
+        assert_eq!(
+            out,
+            "# t\n// keep   this\ninput p = 9.25 barg   \"x\"\ninput  q=(2 m) // c\ninput n = 4 K\ny = p * 2\n"
+        );
+        // Gauge: new SI value 9.25 bar + 1 atm.
+        assert!((ch[0].new_si - (9.25e5 + 101_325.0)).abs() < 1e-6);
+    }
+
+    #[test]
+    fn inputs_that_are_not_literals_are_not_rewritten() {
+        let src = "input a = 2 * 3 m\n";
+        let mut m = Model::new(src).unwrap();
+        m.evaluate();
+        let (sh, lit) = input_shown(&m, 0).unwrap();
+        assert_eq!(lit, None);
+        assert_eq!(sh.value, 6.0);
+        let ch = Change {
+            name: "a".into(),
+            old: 6.0,
+            new: 7.0,
+            unit: "m".into(),
+            new_si: 7.0,
+            cell: "C1".into(),
+            literal: None,
+        };
+        assert_eq!(rewrite_inputs(src, &[ch]), src);
+    }
+
+    #[test]
+    fn sha256_known_value() {
+        // FIPS 180-2 example: sha256("abc").
+        assert_eq!(
+            sha256_hex(b"abc"),
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
+    }
+}

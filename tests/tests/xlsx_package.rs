@@ -1,0 +1,217 @@
+//! The xlsx package through the engine API: cached values equal the
+//! engine's, the pull round trip equals editing the text, `cell()` reads
+//! workbooks with located errors.
+
+mod xlsx_common;
+
+use sheaf_engine::Model;
+use sheaf_engine::xlsx::names::{self, NameKind};
+use sheaf_engine::xlsx::{pull_changes, read_inputs, rewrite_inputs};
+use xlsx_common::*;
+
+#[test]
+fn cached_values_equal_engine_values() {
+    let dir = tmp_dir("xlsx-cached");
+    let sheets = worksheets();
+    assert!(sheets.len() >= 3, "{sheets:?}");
+    for ws in sheets {
+        let (src, m) = load(&ws);
+        let out = dir.join("p.xlsx");
+        write(&ws, &src, &m, &out);
+        let book = Book::read(&out);
+        let mut n = 0;
+        for (name, pos) in &book.names {
+            let Some(engine) = engine_value(&m, name) else {
+                continue;
+            };
+            let cached = book
+                .number(pos)
+                .unwrap_or_else(|| panic!("{}: {name} has no number", ws.display()));
+            // The cached value is the engine's f64 written in shortest
+            // round-trip form: exact.
+            assert_eq!(cached, engine, "{}: {name}", ws.display());
+            n += 1;
+        }
+        // Every numeric node and field has its SI cell.
+        let numbers = m
+            .nodes()
+            .iter()
+            .filter(|x| x.name.is_some() && m.number(&x.name.as_ref().unwrap().name).is_some())
+            .count();
+        assert!(
+            n >= numbers,
+            "{}: {n} named values, {numbers} numbers",
+            ws.display()
+        );
+        // Package information and the caution are present.
+        let sha = book.pos(sheaf_engine::xlsx::NAME_SHA);
+        assert_eq!(
+            book.text(sha).unwrap(),
+            sheaf_engine::xlsx::sha256_hex(src.as_bytes())
+        );
+        assert!(
+            book.values
+                .values()
+                .any(|v| matches!(v, calamine::Data::String(s) if s == sheaf_engine::CAUTION))
+        );
+    }
+}
+
+#[test]
+fn thermo_rows_are_live_where_a_closed_form_exists() {
+    let ws = root().join("tests/data/xlsx_thermo.sheaf");
+    let (src, m) = load(&ws);
+    let dir = tmp_dir("xlsx-live");
+    let out = dir.join("t.xlsx");
+    write(&ws, &src, &m, &out);
+    let book = Book::read(&out);
+    let basis = |name: &str| -> String {
+        let p = book.pos(name);
+        book.text(&Book::at(p, 2)).unwrap_or_default()
+    };
+    // Perfect gas and incompressible devices are closed forms.
+    for n in [
+        "f_st2_T",
+        "f_st2_h",
+        "f_st2s_T",
+        "f_st3_s",
+        "f_w2_T",
+        "q1_W_dot",
+        "f_cold_k",
+        "q_ex_flow",
+        "q_ds_w",
+        "q1_V_jet",
+    ] {
+        assert_eq!(basis(n), "formula", "{n}");
+    }
+    // Ideal gas at (T, p): the polynomial on the data sheet.
+    assert_eq!(basis("f_g1_h"), "formula");
+    assert!(
+        book.formula(book.pos("f_g1_h"))
+            .unwrap()
+            .contains("ng_air_lo_a1")
+    );
+    assert_eq!(basis("q_ds_air"), "formula");
+    // Ideal-gas compressor outlet: an inversion, engine-only with a flag.
+    assert_eq!(basis("f_g2_T"), "engine");
+    let flag = Book::at(book.pos("f_g2_T"), 3);
+    let f = book.formula(&flag).unwrap();
+    assert!(f.contains("d1_T_g") && f.contains("d_p_g"), "{f}");
+    // A live row computed from an engine value is flagged too.
+    assert!(
+        book.formula(&Book::at(book.pos("q_dh_g"), 3))
+            .unwrap()
+            .contains("d1_T_g")
+    );
+    // T1 and t1 get distinct names.
+    assert_ne!(book.pos("q1_T1"), book.pos("q_t1"));
+}
+
+/// Edit an input in the package, pull it, rewrite the text: the results
+/// equal those of editing the text directly.
+#[test]
+fn pull_round_trip_equals_editing_the_text() {
+    let dir = tmp_dir("xlsx-pull");
+    for (ws, input, new_display, text_edit) in [
+        (
+            "worksheets/tank_heatup.sheaf",
+            "T_target",
+            60.0,
+            ("input T_target = 55 degC", "input T_target = 60 degC"),
+        ),
+        (
+            "worksheets/air_receiver.sheaf",
+            "p_high",
+            9.25,
+            ("input p_high = 8.5 barg", "input p_high = 9.25 barg"),
+        ),
+        (
+            "tests/data/xlsx_thermo.sheaf",
+            "eta_c",
+            0.75,
+            ("input eta_c = 0.80", "input eta_c = 0.75"),
+        ),
+    ] {
+        let path = root().join(ws);
+        let (src, m) = load(&path);
+        let out = dir.join("pkg.xlsx");
+        write(&path, &src, &m, &out);
+        let book = Book::read(&out);
+        let ipos = book.pos(&names::name_of(NameKind::Input, input)).clone();
+        let cell = format!(
+            "{}{}",
+            sheaf_engine::xlsx::reader::col_letters(ipos.col),
+            ipos.row + 1
+        );
+        let edited = dir.join("reviewed.xlsx");
+        // Sheets: Cover (1), Calculation (2), Data (3).
+        edit_number(&out, &edited, 1, &cell, new_display);
+        let reviewed = read_inputs(&edited).unwrap();
+        assert_eq!(
+            reviewed.source_sha256.as_deref(),
+            Some(sheaf_engine::xlsx::sha256_hex(src.as_bytes()).as_str())
+        );
+        let changes = pull_changes(&m, &reviewed);
+        assert_eq!(changes.len(), 1, "{ws}: {changes:?}");
+        assert_eq!(changes[0].name, input);
+        assert_eq!(changes[0].new, new_display);
+        let pulled = rewrite_inputs(&src, &changes);
+        let direct = src.replacen(text_edit.0, text_edit.1, 1);
+        assert_ne!(direct, src, "{ws}: the text edit must apply");
+        assert_eq!(pulled, direct, "{ws}");
+        let mut a = Model::new(pulled).unwrap();
+        a.evaluate();
+        let mut b = Model::new(direct).unwrap();
+        b.evaluate();
+        assert_eq!(a.values(), b.values());
+    }
+}
+
+#[test]
+fn cell_builtin_reads_workbooks() {
+    let dir = tmp_dir("xlsx-cell");
+    let mut wb = rust_xlsxwriter::Workbook::new();
+    let s = wb.add_worksheet();
+    s.set_name("Site").unwrap();
+    s.write_number(6, 2, 96.5).unwrap();
+    s.write_string(7, 2, "n/a").unwrap();
+    wb.define_name("site_p", "=Site!$C$7").unwrap();
+    wb.save(dir.join("basis.xlsx")).unwrap();
+    std::fs::write(dir.join("bad.xlsx"), b"this is not a zip").unwrap();
+
+    let src = "input p_site = cell(\"basis.xlsx\", \"Site!C7\") * 1 kPa\ninput p_n = cell(\"basis.xlsx\", \"site_p\") * 1 kPa\n";
+    let mut m = Model::with_base_dir(src, &dir).unwrap();
+    m.evaluate();
+    assert_eq!(m.number("p_site"), Some(96_500.0));
+    assert_eq!(m.number("p_n"), Some(96_500.0));
+    // Display unit from the literal unit.
+    let r = m.report();
+    let q = r.blocks.iter().find_map(|b| match b {
+        sheaf_engine::report::Block::Quantity(q) if q.name == "p_site" => Some(q.clone()),
+        _ => None,
+    });
+    assert_eq!(q.unwrap().unit, "kPa");
+
+    for (reference, book, want) in [
+        ("Site!C8", "basis.xlsx", "holds text"),
+        ("Site!C9", "basis.xlsx", "is empty"),
+        ("Plant!C7", "basis.xlsx", "no sheet `Plant`"),
+        ("nothing", "basis.xlsx", "no defined name"),
+        ("Site!C7", "missing.xlsx", "no such file"),
+        ("Site!C7", "bad.xlsx", "not a readable xlsx"),
+    ] {
+        let src = format!("input x = cell(\"{book}\", \"{reference}\") * 1 kPa\n");
+        let mut m = Model::with_base_dir(src, &dir).unwrap();
+        m.evaluate();
+        let errs = m.runtime_errors();
+        assert_eq!(errs.len(), 1, "{reference}");
+        let msg = &errs[0].message;
+        assert!(
+            msg.contains(want) && msg.contains(book),
+            "{reference}: {msg}"
+        );
+        assert!(errs[0].span().is_some());
+    }
+    // Typing: the arguments must be string literals.
+    assert!(Model::new("input y = cell(2, \"A1\")\n").is_err());
+}

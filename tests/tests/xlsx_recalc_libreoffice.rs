@@ -1,0 +1,179 @@
+//! The independent recalculation check: LibreOffice Calc recalculates the
+//! packages of every worksheet and must reproduce the engine's numbers.
+//! Needs LibreOffice (`soffice`); run it with `scripts/recalc-check`.
+//! Without soffice the test fails loudly, it never passes silently.
+
+mod xlsx_common;
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+use sheaf_engine::xlsx::names::{self, NameKind};
+use xlsx_common::*;
+
+/// Relative tolerance. LibreOffice keeps full doubles in formulas but the
+/// polynomial and logarithm evaluations of two libm implementations may
+/// differ in the last bits; 1e-9 is far above that and far below any
+/// engineering significance.
+const REL: f64 = 1e-9;
+
+fn recalc(files: &[PathBuf], outdir: &Path) {
+    let prof = outdir.join("profile");
+    std::fs::create_dir_all(prof.join("user")).unwrap();
+    std::fs::write(
+        prof.join("user/registrymodifications.xcu"),
+        r#"<?xml version="1.0" encoding="UTF-8"?>
+<oor:items xmlns:oor="http://openoffice.org/2001/registry" xmlns:xs="http://www.w3.org/2001/XMLSchema" xmlns:xsi="http://www.w3.org/2001/XMLSchema-instance">
+<item oor:path="/org.openoffice.Office.Calc/Formula/Load"><prop oor:name="OOXMLRecalcMode" oor:op="fuse"><value>0</value></prop></item>
+</oor:items>
+"#,
+    )
+    .unwrap();
+    let recalc_dir = outdir.join("recalc");
+    let out = Command::new("soffice")
+        .arg(format!("-env:UserInstallation=file://{}", prof.display()))
+        .args([
+            "--headless",
+            "--norestore",
+            "--convert-to",
+            "xlsx",
+            "--outdir",
+        ])
+        .arg(&recalc_dir)
+        .args(files)
+        .output()
+        .unwrap_or_else(|e| {
+            panic!("LibreOffice (soffice) is needed for this check and could not be run: {e}")
+        });
+    assert!(
+        out.status.success(),
+        "soffice failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+}
+
+/// Which rows are live formulas and which are flagged (by defined name).
+fn basis(book: &Book, name: &str) -> String {
+    book.text(&Book::at(book.pos(name), 2)).unwrap_or_default()
+}
+
+#[test]
+#[ignore = "needs LibreOffice: run scripts/recalc-check"]
+fn libreoffice_reproduces_the_engine() {
+    let dir = tmp_dir("xlsx-recalc");
+    let sheets = worksheets();
+    // Packages as written, and one edited copy per worksheet (its last
+    // number input raised by 10 % plus 0.5).
+    let mut files = Vec::new();
+    let mut edits = Vec::new();
+    for (k, ws) in sheets.iter().enumerate() {
+        let (src, m) = load(ws);
+        let out = dir.join(format!("p{k}.xlsx"));
+        write(ws, &src, &m, &out);
+        files.push(out.clone());
+        let book = Book::read(&out);
+        let input = m
+            .nodes()
+            .iter()
+            .filter_map(|n| n.name.as_ref().map(|x| x.name.clone()))
+            .rfind(|n| {
+                book.names
+                    .iter()
+                    .any(|(d, _)| *d == names::name_of(NameKind::Input, n))
+            })
+            .expect("an input");
+        let ipos = book.pos(&names::name_of(NameKind::Input, &input)).clone();
+        let old = book.number(&ipos).unwrap();
+        let new = old * 1.1 + 0.5;
+        let cell = format!(
+            "{}{}",
+            sheaf_engine::xlsx::reader::col_letters(ipos.col),
+            ipos.row + 1
+        );
+        let edited = dir.join(format!("e{k}.xlsx"));
+        edit_number(&out, &edited, 1, &cell, new);
+        files.push(edited);
+        edits.push((input, new));
+    }
+    recalc(&files, &dir);
+
+    let mut compared = 0;
+    let mut flagged = 0;
+    for (k, ws) in sheets.iter().enumerate() {
+        let (_, m) = load(ws);
+        // 1. As written: every live formula equals the engine's value.
+        let book = Book::read(&dir.join(format!("recalc/p{k}.xlsx")));
+        for (name, pos) in &book.names {
+            let Some(engine) = engine_value(&m, name) else {
+                continue;
+            };
+            let got = book.number(pos).unwrap_or_else(|| {
+                panic!(
+                    "{}: {name} = {:?} after recalculation",
+                    ws.display(),
+                    book.value(pos)
+                )
+            });
+            assert!(
+                close(got, engine, REL),
+                "{}: {name}: LibreOffice {got}, engine {engine}",
+                ws.display()
+            );
+            compared += 1;
+        }
+        // 2. Edited input: closed forms follow the engine; engine-only rows
+        // (and rows using them) are flagged stale.
+        let (input, new_display) = &edits[k];
+        let mut m2 = load(ws).1;
+        let i = m2.node_index(input).unwrap();
+        let (sh, _) = sheaf_engine::xlsx::input_shown(&m2, i).unwrap();
+        m2.set_input(input, new_display * sh.factor + sh.offset)
+            .unwrap();
+        m2.evaluate();
+        let book = Book::read(&dir.join(format!("recalc/e{k}.xlsx")));
+        let mut changed = 0;
+        for (name, pos) in &book.names {
+            let Some(engine) = engine_value(&m2, name) else {
+                continue;
+            };
+            let Some(before) = engine_value(&m, name) else {
+                continue;
+            };
+            let flag = book.text(&Book::at(pos, 3)).unwrap_or_default();
+            let depends = before != engine;
+            match basis(&book, name).as_str() {
+                "engine" if depends => {
+                    assert!(
+                        flag.starts_with("stale"),
+                        "{}: {name} must be flagged stale",
+                        ws.display()
+                    );
+                    flagged += 1;
+                }
+                _ if flag.starts_with("stale") => flagged += 1,
+                _ => {
+                    let got = book.number(pos).unwrap();
+                    assert!(
+                        close(got, engine, REL),
+                        "{}: after editing {input}: {name}: LibreOffice {got}, engine {engine}",
+                        ws.display()
+                    );
+                    if depends {
+                        changed += 1;
+                    }
+                }
+            }
+        }
+        assert!(
+            changed > 0,
+            "{}: editing {input} changed no closed-form result",
+            ws.display()
+        );
+        // The data sheet records the edit.
+        let d = book.pos(&names::name_of(NameKind::Differs, input));
+        assert_eq!(book.number(d), Some(1.0), "{}", ws.display());
+    }
+    assert!(compared > 50, "{compared}");
+    assert!(flagged > 0, "no stale flag was exercised");
+    eprintln!("recalc-check: {compared} values compared, {flagged} stale flags");
+}
