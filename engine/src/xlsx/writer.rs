@@ -83,6 +83,7 @@ struct Styles {
     check: Format,
     label: Format,
     small: Format,
+    unit: Format,
 }
 
 fn styles() -> Styles {
@@ -126,11 +127,31 @@ fn styles() -> Styles {
             .set_border_color(border),
         wrap: Format::new().set_text_wrap().set_align(FormatAlign::Top),
         flag: Format::new()
+            .set_num_format(";;;@")
             .set_bold()
             .set_font_color(Color::RGB(0xB0_00_20)),
         check: Format::new().set_bold().set_align(FormatAlign::Center),
         label: Format::new().set_bold(),
         small: Format::new().set_font_color(Color::RGB(0x4A_55_60)),
+        unit: Format::new().set_indent(1),
+    }
+}
+
+/// Number format showing about four significant figures of `v` (the
+/// shown value of a computed row; the SI cell keeps full precision).
+fn sig_format(v: f64) -> String {
+    let a = v.abs();
+    if a == 0.0 {
+        return "0".into();
+    }
+    if !(1e-3..1e6).contains(&a) {
+        return "0.000E+00".into();
+    }
+    let decimals = (3 - a.log10().floor() as i32).clamp(0, 6) as usize;
+    if decimals == 0 {
+        "0".into()
+    } else {
+        format!("0.{}", "0".repeat(decimals))
     }
 }
 
@@ -859,7 +880,7 @@ fn write_row(
     calc.write_string_with_format(row, C_SYM, &r.symbol, &st.label)?;
     calc.write_string_with_format(row, C_DESC, &r.description, &st.wrap)?;
     calc.write_string(row, C_EXPR, &r.expr)?;
-    calc.write_string(row, C_SIU, crate::units::si_unit(r.dim))?;
+    calc.write_string_with_format(row, C_SIU, crate::units::si_unit(r.dim), &st.unit)?;
     defined.push((r.si_name.clone(), abs_ref(CALC, row, C_SI)));
     let Some(si) = r.si else {
         calc.write_string_with_format(row, C_VAL, "not evaluated", &st.flag)?;
@@ -872,7 +893,7 @@ fn write_row(
             };
             let iname = names::name_of(NameKind::Input, &r.symbol);
             calc.write_number_with_format(row, C_VAL, sh.value, &st.input)?;
-            calc.write_string(row, C_UNIT, &sh.unit)?;
+            calc.write_string_with_format(row, C_UNIT, &sh.unit, &st.unit)?;
             let mut f = iname.clone();
             if sh.factor != 1.0 {
                 f = format!("{f}*{}", formula::number_text(sh.factor));
@@ -911,9 +932,9 @@ fn write_row(
                 row,
                 C_VAL,
                 Formula::new(df).set_result(num_result(dv)),
-                fmt,
+                &fmt.clone().set_num_format(sig_format(dv)),
             )?;
-            calc.write_string(row, C_UNIT, &unit)?;
+            calc.write_string_with_format(row, C_UNIT, &unit, &st.unit)?;
             calc.write_string(row, C_BASIS, basis)?;
             let text = if basis == "engine" {
                 "stale: re-run sheaf"
