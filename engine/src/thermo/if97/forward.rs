@@ -27,16 +27,44 @@ pub(super) struct Props {
     pub w: f64,
 }
 
-/// `x^min, x^(min+1), ..., x^(min+N-1)` by successive multiplication.
+/// `x^min, x^(min+1), ..., x^(min+N-1)`, by four interleaved chains of
+/// multiplications (short dependency chains for speed).
 #[inline(always)]
 fn powers<const N: usize>(x: f64, min: i32) -> [f64; N] {
     let mut out = [0.0; N];
-    let mut acc = x.powi(min);
-    for o in out.iter_mut() {
-        *o = acc;
-        acc *= x;
+    let x2 = x * x;
+    let x4 = x2 * x2;
+    let base = x.powi(min);
+    let seed = [base, base * x, base * x2, base * x2 * x];
+    for k in 0..N {
+        out[k] = if k < 4 { seed[k] } else { out[k - 4] * x4 };
     }
     out
+}
+
+/// Sums of a term table and its first and second exponent-weighted
+/// moments: sum t, sum I t, sum I(I-1) t, sum J t, sum J(J-1) t, sum I J t.
+/// Two interleaved accumulators halve the addition dependency chains.
+#[inline(always)]
+fn moments(terms: impl Iterator<Item = (f64, f64, f64)>) -> Gibbs {
+    let mut a = [[0.0f64; 6]; 2];
+    for (k, (fi, fj, t)) in terms.enumerate() {
+        let acc = &mut a[k & 1];
+        acc[0] += t;
+        acc[1] += fi * t;
+        acc[2] += fi * (fi - 1.0) * t;
+        acc[3] += fj * t;
+        acc[4] += fj * (fj - 1.0) * t;
+        acc[5] += fi * fj * t;
+    }
+    Gibbs {
+        g: a[0][0] + a[1][0],
+        gp: a[0][1] + a[1][1],
+        gpp: a[0][2] + a[1][2],
+        gt: a[0][3] + a[1][3],
+        gtt: a[0][4] + a[1][4],
+        gpt: a[0][5] + a[1][5],
+    }
 }
 
 /// A dimensionless Gibbs free energy and its derivatives with respect to the
@@ -64,18 +92,11 @@ pub(super) fn gamma1(pi: f64, tau: f64) -> Gibbs {
     // Exponents in Table 2: I in 0..=32, J in -41..=17.
     let pa: [f64; 33] = powers(a, 0);
     let pb: [f64; 59] = powers(b, -41);
-    let mut r = Gibbs::default();
-    for &(i, j, n) in coef::R1_GIBBS.iter() {
-        let term = n * pa[i as usize] * pb[(j + 41) as usize];
-        let fi = i as f64;
-        let fj = j as f64;
-        r.g += term;
-        r.gp += fi * term;
-        r.gpp += fi * (fi - 1.0) * term;
-        r.gt += fj * term;
-        r.gtt += fj * (fj - 1.0) * term;
-        r.gpt += fi * fj * term;
-    }
+    let mut r = moments(
+        coef::R1_GIBBS
+            .iter()
+            .map(|&(i, j, n)| (i as f64, j as f64, n * pa[i as usize] * pb[(j + 41) as usize])),
+    );
     r.gp = -r.gp / a;
     r.gpp /= a * a;
     r.gt /= b;
@@ -134,18 +155,11 @@ fn gamma2_res(pi: f64, tau: f64) -> Gibbs {
     // I in 1..=24, J in 0..=58.
     let pa: [f64; 24] = powers(pi, 1);
     let pb: [f64; 59] = powers(b, 0);
-    let mut r = Gibbs::default();
-    for &(i, j, n) in coef::R2_RES.iter() {
-        let term = n * pa[(i - 1) as usize] * pb[j as usize];
-        let fi = i as f64;
-        let fj = j as f64;
-        r.g += term;
-        r.gp += fi * term;
-        r.gpp += fi * (fi - 1.0) * term;
-        r.gt += fj * term;
-        r.gtt += fj * (fj - 1.0) * term;
-        r.gpt += fi * fj * term;
-    }
+    let mut r = moments(
+        coef::R2_RES
+            .iter()
+            .map(|&(i, j, n)| (i as f64, j as f64, n * pa[(i - 1) as usize] * pb[j as usize])),
+    );
     r.gp /= pi;
     r.gpp /= pi * pi;
     r.gt /= b;
@@ -207,18 +221,13 @@ pub(super) fn region5(t: f64, p: f64) -> Props {
     g0.gt /= tau;
     g0.gtt /= tau * tau;
     // Residual part: I in 1..=3, J in 1..=9.
-    let mut gr = Gibbs::default();
-    for &(i, j, n) in coef::R5_RES.iter() {
-        let term = n * pi.powi(i) * tau.powi(j);
-        let fi = i as f64;
-        let fj = j as f64;
-        gr.g += term;
-        gr.gp += fi * term;
-        gr.gpp += fi * (fi - 1.0) * term;
-        gr.gt += fj * term;
-        gr.gtt += fj * (fj - 1.0) * term;
-        gr.gpt += fi * fj * term;
-    }
+    let pp: [f64; 3] = powers(pi, 1);
+    let ptr: [f64; 9] = powers(tau, 1);
+    let mut gr = moments(
+        coef::R5_RES
+            .iter()
+            .map(|&(i, j, n)| (i as f64, j as f64, n * pp[(i - 1) as usize] * ptr[(j - 1) as usize])),
+    );
     gr.gp /= pi;
     gr.gpp /= pi * pi;
     gr.gt /= tau;
@@ -249,18 +258,19 @@ pub(super) fn phi3(delta: f64, tau: f64) -> Helm {
     // I in 0..=11, J in 0..=26.
     let pd: [f64; 12] = powers(delta, 0);
     let pt: [f64; 27] = powers(tau, 0);
-    let mut r = Helm::default();
-    for &(i, j, n) in coef::R3_HELM.iter() {
-        let term = n * pd[i as usize] * pt[j as usize];
-        let fi = i as f64;
-        let fj = j as f64;
-        r.f += term;
-        r.d += fi * term;
-        r.dd += fi * (fi - 1.0) * term;
-        r.t += fj * term;
-        r.tt += fj * (fj - 1.0) * term;
-        r.dt += fi * fj * term;
-    }
+    let m = moments(
+        coef::R3_HELM
+            .iter()
+            .map(|&(i, j, n)| (i as f64, j as f64, n * pd[i as usize] * pt[j as usize])),
+    );
+    let mut r = Helm {
+        f: m.g,
+        d: m.gp,
+        dd: m.gpp,
+        t: m.gt,
+        tt: m.gtt,
+        dt: m.gpt,
+    };
     r.f += R3_N1 * delta.ln();
     r.d = (r.d + R3_N1) / delta;
     r.dd = (r.dd - R3_N1) / (delta * delta);

@@ -102,7 +102,7 @@ fn num(x: f64) -> String {
 }
 
 fn fmt_p(p: f64) -> String {
-    if p.abs() >= 1e5 {
+    if p.abs() >= 1e6 {
         format!("{} MPa", num(p / 1e6))
     } else if p.abs() >= 1e3 {
         format!("{} kPa", num(p / 1e3))
