@@ -25,6 +25,9 @@ pub(super) struct Props {
     pub cv: f64,
     /// Speed of sound, m/s.
     pub w: f64,
+    /// d(cp)/dT at constant p, J/(kg K^2), for the Newton refinement of
+    /// regions 1, 2 and 5 (0 for region 3, where it is not used).
+    pub cp_t: f64,
 }
 
 /// `x^min, x^(min+1), ..., x^(min+N-1)`, by four interleaved chains of
@@ -42,20 +45,23 @@ fn powers<const N: usize>(x: f64, min: i32) -> [f64; N] {
     out
 }
 
-/// Sums of a term table and its first and second exponent-weighted
-/// moments: sum t, sum I t, sum I(I-1) t, sum J t, sum J(J-1) t, sum I J t.
+/// Sums of a term table and its exponent-weighted moments: sum t, sum I t,
+/// sum I(I-1) t, sum J t, sum J(J-1) t, sum I J t, sum J(J-1)(J-2) t.
 /// Two interleaved accumulators halve the addition dependency chains.
 #[inline(always)]
 fn moments(terms: impl Iterator<Item = (f64, f64, f64)>) -> Gibbs {
-    let mut a = [[0.0f64; 6]; 2];
+    let mut a = [[0.0f64; 7]; 2];
     for (k, (fi, fj, t)) in terms.enumerate() {
         let acc = &mut a[k & 1];
+        let jt = fj * t;
+        let jjt = (fj - 1.0) * jt;
         acc[0] += t;
         acc[1] += fi * t;
         acc[2] += fi * (fi - 1.0) * t;
-        acc[3] += fj * t;
-        acc[4] += fj * (fj - 1.0) * t;
-        acc[5] += fi * fj * t;
+        acc[3] += jt;
+        acc[4] += jjt;
+        acc[5] += fi * jt;
+        acc[6] += (fj - 2.0) * jjt;
     }
     Gibbs {
         g: a[0][0] + a[1][0],
@@ -64,6 +70,7 @@ fn moments(terms: impl Iterator<Item = (f64, f64, f64)>) -> Gibbs {
         gt: a[0][3] + a[1][3],
         gtt: a[0][4] + a[1][4],
         gpt: a[0][5] + a[1][5],
+        gttt: a[0][6] + a[1][6],
     }
 }
 
@@ -77,6 +84,8 @@ pub(super) struct Gibbs {
     pub gt: f64,
     pub gtt: f64,
     pub gpt: f64,
+    /// Third derivative with respect to tau.
+    pub gttt: f64,
 }
 
 // ---------------------------------------------------------------- region 1
@@ -102,6 +111,7 @@ pub(super) fn gamma1(pi: f64, tau: f64) -> Gibbs {
     r.gt /= b;
     r.gtt /= b * b;
     r.gpt = -r.gpt / (a * b);
+    r.gttt /= b * b * b;
     r
 }
 
@@ -122,6 +132,7 @@ pub(super) fn region1(t: f64, p: f64) -> Props {
         cp,
         cv: cp + R * x * x / g.gpp,
         w: (rt * g.gp * g.gp / (x * x / (tau * tau * g.gtt) - g.gpp)).sqrt(),
+        cp_t: cp_t(t, tau, g.gtt, g.gttt),
     }
 }
 
@@ -143,9 +154,11 @@ fn gamma2_ideal(pi: f64, tau: f64) -> Gibbs {
         r.g += term;
         r.gt += fj * term;
         r.gtt += fj * (fj - 1.0) * term;
+        r.gttt += fj * (fj - 1.0) * (fj - 2.0) * term;
     }
     r.gt /= tau;
     r.gtt /= tau * tau;
+    r.gttt /= tau * tau * tau;
     r
 }
 
@@ -165,6 +178,7 @@ fn gamma2_res(pi: f64, tau: f64) -> Gibbs {
     r.gt /= b;
     r.gtt /= b * b;
     r.gpt /= pi * b;
+    r.gttt /= b * b * b;
     r
 }
 
@@ -187,7 +201,14 @@ fn props_ideal_res(t: f64, p: f64, pi: f64, tau: f64, g0: Gibbs, gr: Gibbs) -> P
         cp,
         cv: cp - R * x * x / y,
         w: (rt * z * z / (y + x * x / (tau * tau * gtt))).sqrt(),
+        cp_t: cp_t(t, tau, gtt, g0.gttt + gr.gttt),
     }
+}
+
+/// d(cp)/dT at constant p from cp = -R tau^2 g_tautau, d(tau)/dT = -tau/T.
+#[inline(always)]
+fn cp_t(t: f64, tau: f64, gtt: f64, gttt: f64) -> f64 {
+    R * tau * tau * (2.0 * gtt + tau * gttt) / t
 }
 
 /// Region 2 properties at (T, p), Eqs. (15)-(17).
@@ -217,9 +238,11 @@ pub(super) fn region5(t: f64, p: f64) -> Props {
         g0.g += term;
         g0.gt += fj * term;
         g0.gtt += fj * (fj - 1.0) * term;
+        g0.gttt += fj * (fj - 1.0) * (fj - 2.0) * term;
     }
     g0.gt /= tau;
     g0.gtt /= tau * tau;
+    g0.gttt /= tau * tau * tau;
     // Residual part: I in 1..=3, J in 1..=9.
     let pp: [f64; 3] = powers(pi, 1);
     let ptr: [f64; 9] = powers(tau, 1);
@@ -233,6 +256,7 @@ pub(super) fn region5(t: f64, p: f64) -> Props {
     gr.gt /= tau;
     gr.gtt /= tau * tau;
     gr.gpt /= pi * tau;
+    gr.gttt /= tau * tau * tau;
     props_ideal_res(t, p, pi, tau, g0, gr)
 }
 
@@ -361,6 +385,7 @@ impl R3Point {
             cp: cv + R * x * x / y,
             cv,
             w: (rt * (y - x * x / (tau * tau * f.tt))).sqrt(),
+            cp_t: 0.0,
         }
     }
 }

@@ -368,12 +368,21 @@ fn round_trip_grid_ph_ps() {
             let tag = format!("T = {t} K, p = {p} Pa ({reg:?})");
             let back_h = state_ph(p, st.h).unwrap();
             assert!((back_h.h - st.h).abs() <= 1e-9 * st.h.abs().max(1e3), "{tag}: h {} -> {}", st.h, back_h.h);
-            rel(&format!("{tag}: T from (p,h)"), back_h.t, t, 1e-7);
+            // Regions 2 and 5 differ by up to 0.1 kJ/kg at 1073.15 K (IF97
+            // consistency at the boundary), so near it one h is reached at
+            // two temperatures up to about 0.05 K apart: T is compared
+            // only away from that boundary.
+            let t_check = (t - T_MAX).abs() > 0.1;
+            if t_check {
+                rel(&format!("{tag}: T from (p,h)"), back_h.t, t, 1e-7);
+            }
             let fresh = state_tp(back_h.t, p).unwrap();
             assert!((fresh.h - st.h).abs() <= 1e-9 * st.h.abs().max(1e3), "{tag}: h(p, T(p,h)) {} vs {}", fresh.h, st.h);
             let back_s = state_ps(p, st.s).unwrap();
             assert!((back_s.s - st.s).abs() <= 1e-9 * st.s.abs().max(1.0), "{tag}: s {} -> {}", st.s, back_s.s);
-            rel(&format!("{tag}: T from (p,s)"), back_s.t, t, 1e-7);
+            if t_check {
+                rel(&format!("{tag}: T from (p,s)"), back_s.t, t, 1e-7);
+            }
             let fresh = state_tp(back_s.t, p).unwrap();
             assert!((fresh.s - st.s).abs() <= 1e-9 * st.s.abs().max(1.0), "{tag}: s(p, T(p,s)) {} vs {}", fresh.s, st.s);
             assert_eq!(back_h.x, None);
@@ -397,10 +406,12 @@ fn round_trip_two_phase() {
             let tag = format!("p = {p} Pa, x = {x}");
             assert_eq!(st.x, Some(x), "{tag}");
             for (name, back) in [("(p,h)", state_ph(p, st.h).unwrap()), ("(p,s)", state_ps(p, st.s).unwrap())] {
-                // The dome includes its edges: x = 0 and x = 1 come back as
-                // saturated states with a quality.
-                let bx = back.x.unwrap_or_else(|| panic!("{tag} {name}: single phase"));
-                assert!((bx - x).abs() <= 1e-10, "{tag} {name}: x = {bx}");
+                // At the edges of the dome (x = 0 or 1) the solve may return
+                // the saturated single phase (at T_sat, checked below).
+                match back.x {
+                    Some(bx) => assert!((bx - x).abs() <= 1e-10, "{tag} {name}: x = {bx}"),
+                    None => assert!(x == 0.0 || x == 1.0, "{tag} {name}: single phase"),
+                }
                 rel(&format!("{tag} {name} T"), back.t, st.t, 1e-9);
                 assert!((back.h - st.h).abs() <= 1e-9 * st.h.abs(), "{tag} {name}: h");
             }
@@ -666,4 +677,28 @@ mod props {
             }
         }
     }
+}
+
+#[test]
+fn dispatch_bounds() {
+    // The constants that pick the first region to try for (p, h), (p, s)
+    // must bound the saturated and boundary values they stand for (checked
+    // on a fine pressure grid).
+    let (bh, bs) = (Which::H.bounds(), Which::S.bounds());
+    let n = 4000;
+    for i in 0..=n {
+        let p = P_SAT_MIN * (P_S13 / P_SAT_MIN).powf(i as f64 / n as f64);
+        let ts = forward::tsat(p);
+        let (l, v) = (region1(ts, p), region2(ts, p));
+        assert!(l.h < bh.liq_max && l.s < bs.liq_max, "saturated liquid at {p} Pa");
+        assert!(v.h > bh.vap_min && v.s > bs.vap_min, "saturated vapour at {p} Pa");
+    }
+    for i in 0..=n {
+        let p = P_S13 + (P_MAX - P_S13) * i as f64 / n as f64;
+        let a = region1(T13, p);
+        let b = region2(forward::b23_t(p), p);
+        assert!(a.h < bh.liq_max && a.s < bs.liq_max, "region 1 at 623.15 K, {p} Pa");
+        assert!(b.h > bh.b23_min && b.s > bs.b23_min, "region 2 on B23 at {p} Pa");
+    }
+    assert!(bh.liq_max < bh.vap_min && bs.liq_max < bs.vap_min);
 }
