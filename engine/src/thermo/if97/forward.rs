@@ -33,7 +33,7 @@ pub(super) struct Props {
 /// `x^min, x^(min+1), ..., x^(min+N-1)`, by four interleaved chains of
 /// multiplications (short dependency chains for speed).
 #[inline(always)]
-fn powers<const N: usize>(x: f64, min: i32) -> [f64; N] {
+pub(super) fn powers<const N: usize>(x: f64, min: i32) -> [f64; N] {
     let mut out = [0.0; N];
     let x2 = x * x;
     let x4 = x2 * x2;
@@ -45,32 +45,113 @@ fn powers<const N: usize>(x: f64, min: i32) -> [f64; N] {
     out
 }
 
-/// Sums of a term table and its exponent-weighted moments: sum t, sum I t,
-/// sum I(I-1) t, sum J t, sum J(J-1) t, sum I J t, sum J(J-1)(J-2) t.
-/// Two interleaved accumulators halve the addition dependency chains.
-#[inline(always)]
-fn moments(terms: impl Iterator<Item = (f64, f64, f64)>) -> Gibbs {
-    let mut a = [[0.0f64; 7]; 2];
-    for (k, (fi, fj, t)) in terms.enumerate() {
-        let acc = &mut a[k & 1];
-        let jt = fj * t;
-        let jjt = (fj - 1.0) * jt;
-        acc[0] += t;
-        acc[1] += fi * t;
-        acc[2] += fi * (fi - 1.0) * t;
-        acc[3] += jt;
-        acc[4] += jjt;
-        acc[5] += fi * jt;
-        acc[6] += (fj - 2.0) * jjt;
+/// A term `n a^I b^J` of a forward equation, prepared at compile time: the
+/// indices of a^I and b^J in the power tables and the coefficient times the
+/// exponent factors of the derivatives: n, n J, n J(J-1), n J(J-1)(J-2),
+/// n I, n I(I-1), n I J (and a zero pad for even vector lanes). The first
+/// four lanes are all the T-derivatives the Newton refinement needs.
+#[derive(Clone, Copy)]
+struct Term {
+    a: usize,
+    b: usize,
+    c: [f64; 8],
+}
+
+const fn prepare<const N: usize>(tab: &[(i32, i32, f64); N], imin: i32, jmin: i32) -> [Term; N] {
+    let mut out = [Term { a: 0, b: 0, c: [0.0; 8] }; N];
+    let mut k = 0;
+    while k < N {
+        let (i, j, n) = tab[k];
+        let (fi, fj) = (i as f64, j as f64);
+        out[k] = Term {
+            a: (i - imin) as usize,
+            b: (j - jmin) as usize,
+            c: [
+                n,
+                n * fj,
+                n * fj * (fj - 1.0),
+                n * fj * (fj - 1.0) * (fj - 2.0),
+                n * fi,
+                n * fi * (fi - 1.0),
+                n * fi * fj,
+                0.0,
+            ],
+        };
+        k += 1;
     }
+    out
+}
+
+static R1_TERMS: [Term; 34] = prepare(&coef::R1_GIBBS, 0, -41);
+static R2_TERMS: [Term; 43] = prepare(&coef::R2_RES, 1, 0);
+static R3_TERMS: [Term; 39] = prepare(&coef::R3_HELM, 0, 0);
+static R5_TERMS: [Term; 6] = prepare(&coef::R5_RES, 1, 1);
+
+/// Lanes of [`moments`]: all derivatives (forward properties) or only the
+/// T-derivatives (h, s, cp and d(cp)/dT for the Newton refinement).
+const ALL: usize = 8;
+const T_ONLY: usize = 4;
+
+/// Sums over the terms of the term values weighted by the exponent factors
+/// (see [`Term`]), for the first `L` lanes: sum t, sum J t, sum J(J-1) t,
+/// sum J(J-1)(J-2) t, sum I t, sum I(I-1) t, sum I J t; lanes not computed
+/// are zero. Terms are taken in pairs with separate accumulators (shorter
+/// addition dependency chains).
+#[inline(always)]
+fn moments<const L: usize>(terms: &[Term], pa: &[f64], pb: &[f64]) -> Gibbs {
+    let mut a0 = [0.0f64; L];
+    for t in terms {
+        let x = pa[t.a] * pb[t.b];
+        for m in 0..L {
+            a0[m] += t.c[m] * x;
+        }
+    }
+    let s = |m: usize| if m < L { a0[m] } else { 0.0 };
     Gibbs {
-        g: a[0][0] + a[1][0],
-        gp: a[0][1] + a[1][1],
-        gpp: a[0][2] + a[1][2],
-        gt: a[0][3] + a[1][3],
-        gtt: a[0][4] + a[1][4],
-        gpt: a[0][5] + a[1][5],
-        gttt: a[0][6] + a[1][6],
+        // Lane 7 is a zero pad (added so that all lanes stay in use).
+        g: s(0) + s(7),
+        gt: s(1),
+        gtt: s(2),
+        gttt: s(3),
+        gp: s(4),
+        gpp: s(5),
+        gpt: s(6),
+    }
+}
+
+/// The temperature-derivative properties of a Gibbs region, for the Newton
+/// refinement of (p, h) and (p, s).
+#[derive(Clone, Copy, Debug)]
+pub(super) struct Thermal {
+    pub t: f64,
+    pub h: f64,
+    pub s: f64,
+    pub cp: f64,
+    /// d(cp)/dT at constant p.
+    pub cp_t: f64,
+}
+
+impl Thermal {
+    fn from_gamma(t: f64, tau: f64, g: &Gibbs) -> Thermal {
+        Thermal {
+            t,
+            h: tau * g.gt * R * t,
+            s: (tau * g.gt - g.g) * R,
+            cp: -R * tau * tau * g.gtt,
+            cp_t: cp_t(t, tau, g.gtt, g.gttt),
+        }
+    }
+}
+
+impl Props {
+    pub fn thermal(&self) -> Thermal {
+        Thermal {
+            t: self.t,
+            h: self.h,
+            s: self.s,
+            cp: self.cp,
+            cp_t: self.cp_t,
+        }
     }
 }
 
@@ -88,6 +169,20 @@ pub(super) struct Gibbs {
     pub gttt: f64,
 }
 
+impl Gibbs {
+    fn plus(&self, o: &Gibbs) -> Gibbs {
+        Gibbs {
+            g: self.g + o.g,
+            gp: self.gp + o.gp,
+            gpp: self.gpp + o.gpp,
+            gt: self.gt + o.gt,
+            gtt: self.gtt + o.gtt,
+            gpt: self.gpt + o.gpt,
+            gttt: self.gttt + o.gttt,
+        }
+    }
+}
+
 // ---------------------------------------------------------------- region 1
 
 const R1_PSTAR: f64 = 16.53e6;
@@ -95,17 +190,13 @@ const R1_TSTAR: f64 = 1386.0;
 
 /// Dimensionless Gibbs free energy of region 1, Eq. (7), and its derivatives
 /// (Table 4), for pi = p/16.53 MPa and tau = 1386 K/T.
-pub(super) fn gamma1(pi: f64, tau: f64) -> Gibbs {
+pub(super) fn gamma1<const L: usize>(pi: f64, tau: f64) -> Gibbs {
     let a = 7.1 - pi;
     let b = tau - 1.222;
     // Exponents in Table 2: I in 0..=32, J in -41..=17.
     let pa: [f64; 33] = powers(a, 0);
     let pb: [f64; 59] = powers(b, -41);
-    let mut r = moments(
-        coef::R1_GIBBS
-            .iter()
-            .map(|&(i, j, n)| (i as f64, j as f64, n * pa[i as usize] * pb[(j + 41) as usize])),
-    );
+    let mut r = moments::<L>(&R1_TERMS, &pa, &pb);
     r.gp = -r.gp / a;
     r.gpp /= a * a;
     r.gt /= b;
@@ -119,7 +210,7 @@ pub(super) fn gamma1(pi: f64, tau: f64) -> Gibbs {
 pub(super) fn region1(t: f64, p: f64) -> Props {
     let pi = p / R1_PSTAR;
     let tau = R1_TSTAR / t;
-    let g = gamma1(pi, tau);
+    let g = gamma1::<ALL>(pi, tau);
     let rt = R * t;
     let cp = -R * tau * tau * g.gtt;
     let x = g.gp - tau * g.gpt;
@@ -163,16 +254,12 @@ fn gamma2_ideal(pi: f64, tau: f64) -> Gibbs {
 }
 
 /// Residual part of region 2, Eq. (17), Table 11.
-fn gamma2_res(pi: f64, tau: f64) -> Gibbs {
+fn gamma2_res<const L: usize>(pi: f64, tau: f64) -> Gibbs {
     let b = tau - 0.5;
     // I in 1..=24, J in 0..=58.
     let pa: [f64; 24] = powers(pi, 1);
     let pb: [f64; 59] = powers(b, 0);
-    let mut r = moments(
-        coef::R2_RES
-            .iter()
-            .map(|&(i, j, n)| (i as f64, j as f64, n * pa[(i - 1) as usize] * pb[j as usize])),
-    );
+    let mut r = moments::<L>(&R2_TERMS, &pa, &pb);
     r.gp /= pi;
     r.gpp /= pi * pi;
     r.gt /= b;
@@ -215,7 +302,22 @@ fn cp_t(t: f64, tau: f64, gtt: f64, gttt: f64) -> f64 {
 pub(super) fn region2(t: f64, p: f64) -> Props {
     let pi = p / 1e6;
     let tau = 540.0 / t;
-    props_ideal_res(t, p, pi, tau, gamma2_ideal(pi, tau), gamma2_res(pi, tau))
+    props_ideal_res(t, p, pi, tau, gamma2_ideal(pi, tau), gamma2_res::<ALL>(pi, tau))
+}
+
+/// Region 1 h, s, cp, d(cp)/dT at (T, p).
+pub(super) fn region1_thermal(t: f64, p: f64) -> Thermal {
+    let tau = R1_TSTAR / t;
+    Thermal::from_gamma(t, tau, &gamma1::<T_ONLY>(p / R1_PSTAR, tau))
+}
+
+/// Region 2 h, s, cp, d(cp)/dT at (T, p).
+pub(super) fn region2_thermal(t: f64, p: f64) -> Thermal {
+    let pi = p / 1e6;
+    let tau = 540.0 / t;
+    let g0 = gamma2_ideal(pi, tau);
+    let gr = gamma2_res::<T_ONLY>(pi, tau);
+    Thermal::from_gamma(t, tau, &g0.plus(&gr))
 }
 
 // ---------------------------------------------------------------- region 5
@@ -246,11 +348,7 @@ pub(super) fn region5(t: f64, p: f64) -> Props {
     // Residual part: I in 1..=3, J in 1..=9.
     let pp: [f64; 3] = powers(pi, 1);
     let ptr: [f64; 9] = powers(tau, 1);
-    let mut gr = moments(
-        coef::R5_RES
-            .iter()
-            .map(|&(i, j, n)| (i as f64, j as f64, n * pp[(i - 1) as usize] * ptr[(j - 1) as usize])),
-    );
+    let mut gr = moments::<ALL>(&R5_TERMS, &pp, &ptr);
     gr.gp /= pi;
     gr.gpp /= pi * pi;
     gr.gt /= tau;
@@ -282,11 +380,7 @@ pub(super) fn phi3(delta: f64, tau: f64) -> Helm {
     // I in 0..=11, J in 0..=26.
     let pd: [f64; 12] = powers(delta, 0);
     let pt: [f64; 27] = powers(tau, 0);
-    let m = moments(
-        coef::R3_HELM
-            .iter()
-            .map(|&(i, j, n)| (i as f64, j as f64, n * pd[i as usize] * pt[j as usize])),
-    );
+    let m = moments::<ALL>(&R3_TERMS, &pd, &pt);
     let mut r = Helm {
         f: m.g,
         d: m.gp,

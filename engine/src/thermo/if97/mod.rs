@@ -30,7 +30,7 @@ mod sat;
 mod tests;
 
 use super::{Result, Spec, State, ThermoError};
-use forward::{Props, R3Point, region1, region2, region5};
+use forward::{Props, R3Point, Thermal, region1, region2, region5};
 
 /// Critical temperature, K (IAPWS R7-97(2012), Eq. (3)).
 pub const T_CRIT: f64 = 647.096;
@@ -427,9 +427,15 @@ impl Which {
             Which::S => pr.s,
         }
     }
+    fn of_t(self, pr: &Thermal) -> f64 {
+        match self {
+            Which::H => pr.h,
+            Which::S => pr.s,
+        }
+    }
     /// First and second derivative of h (s) with respect to T at
     /// constant p: dh/dT = cp, ds/dT = cp/T.
-    fn d_dt(self, pr: &Props) -> (f64, f64) {
+    fn d_dt(self, pr: &Thermal) -> (f64, f64) {
         match self {
             Which::H => (pr.cp, pr.cp_t),
             Which::S => (pr.cp / pr.t, (pr.cp_t - pr.cp / pr.t) / pr.t),
@@ -472,6 +478,15 @@ fn gibbs(reg: Gibbs, t: f64, p: f64) -> Props {
         Gibbs::R1 => region1(t, p),
         Gibbs::R2 => region2(t, p),
         Gibbs::R5 => region5(t, p),
+    }
+}
+
+/// h, s and their T-derivatives only (cheaper than all properties).
+fn gibbs_thermal(reg: Gibbs, t: f64, p: f64) -> Thermal {
+    match reg {
+        Gibbs::R1 => forward::region1_thermal(t, p),
+        Gibbs::R2 => forward::region2_thermal(t, p),
+        Gibbs::R5 => region5(t, p).thermal(),
     }
 }
 
@@ -661,6 +676,12 @@ fn region3(p: f64, y: f64, which: Which) -> Result<State> {
 /// value, kept inside the bracket by bisection. The bracket ends are only
 /// evaluated when a step needs them; if the target lies beyond an end, the
 /// state at that end is returned as `Below` or `Above`.
+///
+/// Iterations far from the solution evaluate only h, s, cp and d(cp)/dT;
+/// once a step is small (within 0.1 K; from the backward value that is
+/// usually the first), the next point is evaluated in full and, when it
+/// meets the tolerance, returned as it is: the result is always the forward
+/// equation at the returned temperature.
 fn solve_gibbs(reg: Gibbs, p: f64, y: f64, which: Which, lo0: f64, hi0: f64) -> Result<Found> {
     let tol = which.tol(y);
     let (mut lo, mut hi) = (lo0, hi0);
@@ -670,26 +691,33 @@ fn solve_gibbs(reg: Gibbs, p: f64, y: f64, which: Which, lo0: f64, hi0: f64) -> 
     if !t.is_finite() {
         t = 0.5 * (lo + hi);
     }
+    let mut full = false;
     for _ in 0..100 {
-        let pr = gibbs(reg, t, p);
-        let r = which.of(&pr) - y;
+        let (th, pr) = if full {
+            let pr = gibbs(reg, t, p);
+            (pr.thermal(), Some(pr))
+        } else {
+            (gibbs_thermal(reg, t, p), None)
+        };
+        let r = which.of_t(&th) - y;
+        let end = |pr: Option<Props>| pr.unwrap_or_else(|| gibbs(reg, t, p));
         if r.abs() <= tol {
-            return Ok(Found::At(pr));
+            return Ok(Found::At(end(pr)));
         }
         if r < 0.0 {
             if t >= hi0 {
-                return Ok(Found::Above(pr));
+                return Ok(Found::Above(end(pr)));
             }
             lo = t;
             lo_known = true;
         } else {
             if t <= lo0 {
-                return Ok(Found::Below(pr));
+                return Ok(Found::Below(end(pr)));
             }
             hi = t;
             hi_known = true;
         }
-        let (d1, d2) = which.d_dt(&pr);
+        let (d1, d2) = which.d_dt(&th);
         let newton = -r / d1;
         let den = d1 + 0.5 * d2 * newton;
         let step = if den > 0.0 && (den / d1 - 1.0).abs() < 0.5 { -r / den } else { newton };
@@ -706,6 +734,7 @@ fn solve_gibbs(reg: Gibbs, p: f64, y: f64, which: Which, lo0: f64, hi0: f64) -> 
         if (next - t).abs() <= 1e-14 * t {
             return Ok(Found::At(gibbs(reg, next, p)));
         }
+        full = (next - t).abs() <= 0.1;
         t = next;
     }
     Err(ThermoError::NoConvergence(format!(
