@@ -39,13 +39,16 @@ const fn exp_range(tab: &[(i32, i32, f64)]) -> (i32, i32, i32, i32) {
 macro_rules! poly {
     ($tab:path, $a:expr, $b:expr) => {{
         const RANGE: (i32, i32, i32, i32) = exp_range(&$tab);
-        const NI: usize = (RANGE.1 - RANGE.0 + 1) as usize;
-        const NJ: usize = (RANGE.3 - RANGE.2 + 1) as usize;
+        // Power-of-two table lengths: masked indices need no bounds checks.
+        const NI: usize = ((RANGE.1 - RANGE.0 + 1) as usize).next_power_of_two();
+        const NJ: usize = ((RANGE.3 - RANGE.2 + 1) as usize).next_power_of_two();
         let pa: [f64; NI] = powers($a, RANGE.0);
         let pb: [f64; NJ] = powers($b, RANGE.2);
         let mut acc = [0.0f64; 2];
-        for (k, &(i, j, n)) in $tab.iter().enumerate() {
-            acc[k & 1] += n * pa[(i - RANGE.0) as usize] * pb[(j - RANGE.2) as usize];
+        for pair in $tab.chunks(2) {
+            for (k, &(i, j, n)) in pair.iter().enumerate() {
+                acc[k] += n * pa[(i - RANGE.0) as usize & (NI - 1)] * pb[(j - RANGE.2) as usize & (NJ - 1)];
+            }
         }
         acc[0] + acc[1]
     }};

@@ -97,11 +97,16 @@ const T_ONLY: usize = 4;
 /// sum J(J-1)(J-2) t, sum I t, sum I(I-1) t, sum I J t; lanes not computed
 /// are zero. Terms are taken in pairs with separate accumulators (shorter
 /// addition dependency chains).
+///
+/// The power tables have power-of-two lengths so that masked indices need
+/// no bounds checks (the term indices are below the lengths by
+/// construction; the extra entries are unused).
 #[inline(always)]
-fn moments<const L: usize>(terms: &[Term], pa: &[f64], pb: &[f64]) -> Gibbs {
+fn moments<const L: usize, const NA: usize, const NB: usize>(terms: &[Term], pa: &[f64; NA], pb: &[f64; NB]) -> Gibbs {
+    const { assert!(NA.is_power_of_two() && NB.is_power_of_two()) };
     let mut a0 = [0.0f64; L];
     for t in terms {
-        let x = pa[t.a] * pb[t.b];
+        let x = pa[t.a & (NA - 1)] * pb[t.b & (NB - 1)];
         for m in 0..L {
             a0[m] += t.c[m] * x;
         }
@@ -194,9 +199,9 @@ pub(super) fn gamma1<const L: usize>(pi: f64, tau: f64) -> Gibbs {
     let a = 7.1 - pi;
     let b = tau - 1.222;
     // Exponents in Table 2: I in 0..=32, J in -41..=17.
-    let pa: [f64; 33] = powers(a, 0);
-    let pb: [f64; 59] = powers(b, -41);
-    let mut r = moments::<L>(&R1_TERMS, &pa, &pb);
+    let pa: [f64; 64] = powers(a, 0);
+    let pb: [f64; 64] = powers(b, -41);
+    let mut r = moments::<L, _, _>(&R1_TERMS, &pa, &pb);
     r.gp = -r.gp / a;
     r.gpp /= a * a;
     r.gt /= b;
@@ -257,9 +262,9 @@ fn gamma2_ideal(pi: f64, tau: f64) -> Gibbs {
 fn gamma2_res<const L: usize>(pi: f64, tau: f64) -> Gibbs {
     let b = tau - 0.5;
     // I in 1..=24, J in 0..=58.
-    let pa: [f64; 24] = powers(pi, 1);
-    let pb: [f64; 59] = powers(b, 0);
-    let mut r = moments::<L>(&R2_TERMS, &pa, &pb);
+    let pa: [f64; 32] = powers(pi, 1);
+    let pb: [f64; 64] = powers(b, 0);
+    let mut r = moments::<L, _, _>(&R2_TERMS, &pa, &pb);
     r.gp /= pi;
     r.gpp /= pi * pi;
     r.gt /= b;
@@ -346,9 +351,9 @@ pub(super) fn region5(t: f64, p: f64) -> Props {
     g0.gtt /= tau * tau;
     g0.gttt /= tau * tau * tau;
     // Residual part: I in 1..=3, J in 1..=9.
-    let pp: [f64; 3] = powers(pi, 1);
-    let ptr: [f64; 9] = powers(tau, 1);
-    let mut gr = moments::<ALL>(&R5_TERMS, &pp, &ptr);
+    let pp: [f64; 4] = powers(pi, 1);
+    let ptr: [f64; 16] = powers(tau, 1);
+    let mut gr = moments::<ALL, _, _>(&R5_TERMS, &pp, &ptr);
     gr.gp /= pi;
     gr.gpp /= pi * pi;
     gr.gt /= tau;
@@ -378,9 +383,9 @@ pub(super) struct Helm {
 /// Eq. (28) with its derivatives.
 pub(super) fn phi3(delta: f64, tau: f64) -> Helm {
     // I in 0..=11, J in 0..=26.
-    let pd: [f64; 12] = powers(delta, 0);
-    let pt: [f64; 27] = powers(tau, 0);
-    let m = moments::<ALL>(&R3_TERMS, &pd, &pt);
+    let pd: [f64; 16] = powers(delta, 0);
+    let pt: [f64; 32] = powers(tau, 0);
+    let m = moments::<ALL, _, _>(&R3_TERMS, &pd, &pt);
     let mut r = Helm {
         f: m.g,
         d: m.gp,

@@ -502,6 +502,9 @@ struct Bounds {
     /// Below the region-2 value on the B23 boundary for every p up to
     /// 100 MPa.
     b23_min: f64,
+    /// Above the region-2 value at 1073.15 K for every p (none for s,
+    /// which grows without bound as p goes to zero).
+    r2_top: f64,
 }
 
 impl Which {
@@ -511,11 +514,13 @@ impl Which {
                 liq_max: 1.671e6,
                 vap_min: 2.500e6,
                 b23_min: 2.563e6,
+                r2_top: 4.161e6,
             },
             Which::S => Bounds {
                 liq_max: 3.779e3,
                 vap_min: 5.210e3,
                 b23_min: 5.048e3,
+                r2_top: f64::INFINITY,
             },
         }
     }
@@ -525,9 +530,10 @@ impl Which {
             (Which::S, Gibbs::R1) => backward::t1_ps(p, y),
             (Which::H, Gibbs::R2) => backward::t2_ph(p, y),
             (Which::S, Gibbs::R2) => backward::t2_ps(p, y),
-            // Region 5: start from the middle; Newton converges in a few
-            // steps on its smooth, nearly ideal-gas isobars.
-            (_, Gibbs::R5) => 0.5 * (T_MAX + T_MAX5),
+            // Region 5: start at its lower end (where the solve evaluates
+            // anyway); Halley steps converge in a few iterations on its
+            // smooth, nearly ideal-gas isobars.
+            (_, Gibbs::R5) => T_MAX,
         }
     }
 }
@@ -536,10 +542,10 @@ impl Which {
 enum Found {
     /// The state with h (s) equal to the target.
     At(Props),
-    /// The target is below the value at the lower end (given).
-    Below(Props),
-    /// The target is above the value at the upper end (given).
-    Above(Props),
+    /// The target is below the value at the lower end.
+    Below,
+    /// The target is above the value at the upper end.
+    Above,
 }
 
 /// The out-of-range error for a (p, h|s) pair.
@@ -560,6 +566,10 @@ fn y_out_of_range(p: f64, y: f64, which: Which) -> ThermoError {
 /// Dispatch a (p, h) or (p, s) pair to its region and solve.
 fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
     let b = which.bounds();
+    if y > b.r2_top {
+        // Above region 2 at every pressure: region 5 (or out of range).
+        return vapour5(p, y, which);
+    }
     if p < P_SAT_MIN {
         // No liquid at this pressure: region 2, then region 5.
         return vapour(p, y, which, T_MIN);
@@ -570,24 +580,24 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
             // Superheated vapour, or wet.
             return match solve_gibbs(Gibbs::R2, p, y, which, ts, T_MAX)? {
                 Found::At(pr) => Ok(single(&pr, p)),
-                Found::Below(v) => {
-                    let l = region1(ts, p);
+                Found::Below => {
+                    let (l, v) = (region1(ts, p), region2(ts, p));
                     if y >= which.of(&l) {
                         Ok(two_phase(ts, p, &l, &v, (y - which.of(&l)) / (which.of(&v) - which.of(&l))))
                     } else {
                         liquid(p, y, which, ts)
                     }
                 }
-                Found::Above(_) => vapour5(p, y, which),
+                Found::Above => vapour5(p, y, which),
             };
         }
         if y <= b.liq_max {
             // Compressed liquid, or wet.
             return match solve_gibbs(Gibbs::R1, p, y, which, T_MIN, ts)? {
                 Found::At(pr) => Ok(single(&pr, p)),
-                Found::Below(_) => Err(y_out_of_range(p, y, which)),
-                Found::Above(l) => {
-                    let v = region2(ts, p);
+                Found::Below => Err(y_out_of_range(p, y, which)),
+                Found::Above => {
+                    let (l, v) = (region1(ts, p), region2(ts, p));
                     if y <= which.of(&v) {
                         Ok(two_phase(ts, p, &l, &v, (y - which.of(&l)) / (which.of(&v) - which.of(&l))))
                     } else {
@@ -606,14 +616,14 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
     if y <= b.liq_max {
         match solve_gibbs(Gibbs::R1, p, y, which, T_MIN, T13)? {
             Found::At(pr) => return Ok(single(&pr, p)),
-            Found::Below(_) => return Err(y_out_of_range(p, y, which)),
-            Found::Above(_) => {}
+            Found::Below => return Err(y_out_of_range(p, y, which)),
+            Found::Above => {}
         }
     } else if y >= b.b23_min {
         match solve_gibbs(Gibbs::R2, p, y, which, forward::b23_t(p), T_MAX)? {
             Found::At(pr) => return Ok(single(&pr, p)),
-            Found::Below(_) => {}
-            Found::Above(_) => return vapour5(p, y, which),
+            Found::Below => {}
+            Found::Above => return vapour5(p, y, which),
         }
     }
     region3(p, y, which)
@@ -631,8 +641,8 @@ fn liquid(p: f64, y: f64, which: Which, t_hi: f64) -> Result<State> {
 fn vapour(p: f64, y: f64, which: Which, t_lo: f64) -> Result<State> {
     match solve_gibbs(Gibbs::R2, p, y, which, t_lo, T_MAX)? {
         Found::At(pr) => Ok(single(&pr, p)),
-        Found::Below(_) => Err(y_out_of_range(p, y, which)),
-        Found::Above(_) => vapour5(p, y, which),
+        Found::Below => Err(y_out_of_range(p, y, which)),
+        Found::Above => vapour5(p, y, which),
     }
 }
 
@@ -643,11 +653,11 @@ fn vapour5(p: f64, y: f64, which: Which) -> Result<State> {
     }
     match solve_gibbs(Gibbs::R5, p, y, which, T_MAX, T_MAX5)? {
         Found::At(pr) => Ok(single(&pr, p)),
-        Found::Above(_) => Err(y_out_of_range(p, y, which)),
+        Found::Above => Err(y_out_of_range(p, y, which)),
         // In the small gap between region 2 and region 5 at 1073.15 K
         // (the two equations differ there by up to about 0.1 kJ/kg),
         // extend region 5 by a fraction of a kelvin.
-        Found::Below(_) => match solve_gibbs(Gibbs::R5, p, y, which, T_MAX - 1.0, T_MAX)? {
+        Found::Below => match solve_gibbs(Gibbs::R5, p, y, which, T_MAX - 1.0, T_MAX)? {
             Found::At(pr) => Ok(single(&pr, p)),
             _ => Err(y_out_of_range(p, y, which)),
         },
@@ -700,19 +710,18 @@ fn solve_gibbs(reg: Gibbs, p: f64, y: f64, which: Which, lo0: f64, hi0: f64) -> 
             (gibbs_thermal(reg, t, p), None)
         };
         let r = which.of_t(&th) - y;
-        let end = |pr: Option<Props>| pr.unwrap_or_else(|| gibbs(reg, t, p));
         if r.abs() <= tol {
-            return Ok(Found::At(end(pr)));
+            return Ok(Found::At(pr.unwrap_or_else(|| gibbs(reg, t, p))));
         }
         if r < 0.0 {
             if t >= hi0 {
-                return Ok(Found::Above(end(pr)));
+                return Ok(Found::Above);
             }
             lo = t;
             lo_known = true;
         } else {
             if t <= lo0 {
-                return Ok(Found::Below(end(pr)));
+                return Ok(Found::Below);
             }
             hi = t;
             hi_known = true;

@@ -701,4 +701,9 @@ fn dispatch_bounds() {
         assert!(b.h > bh.b23_min && b.s > bs.b23_min, "region 2 on B23 at {p} Pa");
     }
     assert!(bh.liq_max < bh.vap_min && bs.liq_max < bs.vap_min);
+    // Region 2 at 1073.15 K: h is largest at low pressure.
+    for i in 0..=n {
+        let p = 10f64.powf(-3.0 + 11.0 * i as f64 / n as f64);
+        assert!(region2(T_MAX, p).h < bh.r2_top, "region 2 at 1073.15 K, {p} Pa");
+    }
 }
