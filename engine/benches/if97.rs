@@ -22,7 +22,9 @@ const POINTS: [(&str, f64, f64); 5] = [
 fn forward(c: &mut Criterion) {
     let mut g = c.benchmark_group("tp_to_h");
     for (label, t, p) in POINTS {
-        g.bench_function(label, |b| b.iter(|| if97::state_tp(black_box(t), black_box(p)).map(|s| s.h)));
+        g.bench_function(label, |b| {
+            b.iter(|| if97::state_tp(black_box(t), black_box(p)).map(|s| s.h))
+        });
     }
     g.finish();
 }
@@ -30,25 +32,37 @@ fn forward(c: &mut Criterion) {
 fn backward(c: &mut Criterion) {
     let mut g = c.benchmark_group("ph_to_t");
     for (label, t, p) in POINTS {
-        let Ok(st) = if97::state_tp(t, p) else { continue };
-        g.bench_function(label, |b| b.iter(|| if97::state_ph(black_box(p), black_box(st.h)).map(|s| s.t)));
+        let Ok(st) = if97::state_tp(t, p) else {
+            continue;
+        };
+        g.bench_function(label, |b| {
+            b.iter(|| if97::state_ph(black_box(p), black_box(st.h)).map(|s| s.t))
+        });
     }
     g.finish();
     let mut g = c.benchmark_group("ps_to_t");
     for (label, t, p) in POINTS {
-        let Ok(st) = if97::state_tp(t, p) else { continue };
-        g.bench_function(label, |b| b.iter(|| if97::state_ps(black_box(p), black_box(st.s)).map(|s| s.t)));
+        let Ok(st) = if97::state_tp(t, p) else {
+            continue;
+        };
+        g.bench_function(label, |b| {
+            b.iter(|| if97::state_ps(black_box(p), black_box(st.s)).map(|s| s.t))
+        });
     }
     g.finish();
 }
 
 fn saturation(c: &mut Criterion) {
     let mut g = c.benchmark_group("saturation");
-    g.bench_function("px 1MPa x=0.5", |b| b.iter(|| if97::state_px(black_box(1e6), black_box(0.5)).map(|s| s.h)));
+    g.bench_function("px 1MPa x=0.5", |b| {
+        b.iter(|| if97::state_px(black_box(1e6), black_box(0.5)).map(|s| s.h))
+    });
     g.bench_function("px 21MPa x=0.5 (region 3)", |b| {
         b.iter(|| if97::state_px(black_box(21e6), black_box(0.5)).map(|s| s.h))
     });
-    g.bench_function("ph 1MPa two-phase", |b| b.iter(|| if97::state_ph(black_box(1e6), black_box(2e6)).map(|s| s.x)));
+    g.bench_function("ph 1MPa two-phase", |b| {
+        b.iter(|| if97::state_ph(black_box(1e6), black_box(2e6)).map(|s| s.x))
+    });
     g.finish();
 }
 

@@ -47,7 +47,9 @@ macro_rules! poly {
         let mut acc = [0.0f64; 2];
         for pair in $tab.chunks(2) {
             for (k, &(i, j, n)) in pair.iter().enumerate() {
-                acc[k] += n * pa[(i - RANGE.0) as usize & (NI - 1)] * pb[(j - RANGE.2) as usize & (NJ - 1)];
+                acc[k] += n
+                    * pa[(i - RANGE.0) as usize & (NI - 1)]
+                    * pb[(j - RANGE.2) as usize & (NJ - 1)];
             }
         }
         acc[0] + acc[1]
@@ -103,7 +105,9 @@ pub(super) fn t2_ps(p: f64, s: f64) -> f64 {
 /// Enthalpy separating sub-regions 3a and 3b, SR3-03(2014) Eq. (1), J/kg.
 pub(super) fn h3ab(p: f64) -> f64 {
     let pi = p / 1e6;
-    (0.201_464_004_206_875e4 + pi * (3.746_965_501_369_83 + pi * (-0.021_992_190_105_418_7 + pi * 0.875_131_686_009_950e-4)))
+    (0.201_464_004_206_875e4
+        + pi * (3.746_965_501_369_83
+            + pi * (-0.021_992_190_105_418_7 + pi * 0.875_131_686_009_950e-4)))
         * 1e3
 }
 

@@ -58,7 +58,11 @@ struct Term {
 }
 
 const fn prepare<const N: usize>(tab: &[(i32, i32, f64); N], imin: i32, jmin: i32) -> [Term; N] {
-    let mut out = [Term { a: 0, b: 0, c: [0.0; 8] }; N];
+    let mut out = [Term {
+        a: 0,
+        b: 0,
+        c: [0.0; 8],
+    }; N];
     let mut k = 0;
     while k < N {
         let (i, j, n) = tab[k];
@@ -102,13 +106,17 @@ const T_ONLY: usize = 4;
 /// no bounds checks (the term indices are below the lengths by
 /// construction; the extra entries are unused).
 #[inline(always)]
-fn moments<const L: usize, const NA: usize, const NB: usize>(terms: &[Term], pa: &[f64; NA], pb: &[f64; NB]) -> Gibbs {
+fn moments<const L: usize, const NA: usize, const NB: usize>(
+    terms: &[Term],
+    pa: &[f64; NA],
+    pb: &[f64; NB],
+) -> Gibbs {
     const { assert!(NA.is_power_of_two() && NB.is_power_of_two()) };
     let mut a0 = [0.0f64; L];
     for t in terms {
         let x = pa[t.a & (NA - 1)] * pb[t.b & (NB - 1)];
-        for m in 0..L {
-            a0[m] += t.c[m] * x;
+        for (acc, c) in a0.iter_mut().zip(&t.c) {
+            *acc += c * x;
         }
     }
     let s = |m: usize| if m < L { a0[m] } else { 0.0 };
@@ -307,7 +315,14 @@ fn cp_t(t: f64, tau: f64, gtt: f64, gttt: f64) -> f64 {
 pub(super) fn region2(t: f64, p: f64) -> Props {
     let pi = p / 1e6;
     let tau = 540.0 / t;
-    props_ideal_res(t, p, pi, tau, gamma2_ideal(pi, tau), gamma2_res::<ALL>(pi, tau))
+    props_ideal_res(
+        t,
+        p,
+        pi,
+        tau,
+        gamma2_ideal(pi, tau),
+        gamma2_res::<ALL>(pi, tau),
+    )
 }
 
 /// Region 1 h, s, cp, d(cp)/dT at (T, p).
@@ -564,7 +579,9 @@ const B2BC_N: [f64; 5] = [
     0.45257578905948e1,
 ];
 
-/// Pressure on the 2b-2c boundary, Eq. (20); h in J/kg.
+/// Pressure on the 2b-2c boundary, Eq. (20); h in J/kg. (The solver uses
+/// Eq. (21); Eq. (20) is checked in the verification tests.)
+#[cfg(test)]
 pub(super) fn b2bc_p(h: f64) -> f64 {
     let n = &B2BC_N;
     let eta = h / 1e3;

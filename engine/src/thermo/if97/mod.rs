@@ -185,12 +185,19 @@ pub fn region_tp(t: f64, p: f64) -> Result<Region> {
     finite("T", t)?;
     check_p(p)?;
     if !(T_MIN..=T_MAX5).contains(&t) || (t > T_MAX && p > P_MAX5) {
-        return Err(out_of_range(format!("T = {} at p = {}", fmt_t(t), fmt_p(p)), RANGE));
+        return Err(out_of_range(
+            format!("T = {} at p = {}", fmt_t(t), fmt_p(p)),
+            RANGE,
+        ));
     }
     Ok(if t > T_MAX {
         Region::R5
     } else if t <= T13 {
-        if p >= forward::psat(t) { Region::R1 } else { Region::R2 }
+        if p >= forward::psat(t) {
+            Region::R1
+        } else {
+            Region::R2
+        }
     } else if p > forward::b23_p(t) {
         Region::R3
     } else {
@@ -307,8 +314,18 @@ fn two_phase(t: f64, p: f64, l: &Props, v: &Props, x: f64) -> State {
 /// Solve `f(x) = 0` for `f` increasing on `[lo, hi]` with `f(lo) < 0 < f(hi)`:
 /// Newton's method, falling back to bisection whenever a step would leave
 /// the bracket. `f` returns (value, derivative).
-fn solve_bracketed(mut f: impl FnMut(f64) -> (f64, f64), mut lo: f64, mut hi: f64, x0: f64, ftol: f64) -> Option<f64> {
-    let mut x = if x0 > lo && x0 < hi { x0 } else { 0.5 * (lo + hi) };
+fn solve_bracketed(
+    mut f: impl FnMut(f64) -> (f64, f64),
+    mut lo: f64,
+    mut hi: f64,
+    x0: f64,
+    ftol: f64,
+) -> Option<f64> {
+    let mut x = if x0 > lo && x0 < hi {
+        x0
+    } else {
+        0.5 * (lo + hi)
+    };
     for _ in 0..300 {
         let (fx, dfx) = f(x);
         if !fx.is_finite() {
@@ -323,7 +340,11 @@ fn solve_bracketed(mut f: impl FnMut(f64) -> (f64, f64), mut lo: f64, mut hi: f6
             hi = x;
         }
         let newton = x - fx / dfx;
-        let next = if dfx > 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
+        let next = if dfx > 0.0 && newton > lo && newton < hi {
+            newton
+        } else {
+            0.5 * (lo + hi)
+        };
         if (next - x).abs() <= 1e-15 * x.abs() || hi - lo <= 1e-15 * hi.abs() {
             return Some(next);
         }
@@ -401,7 +422,12 @@ fn r3_tp(t: f64, p: f64) -> Result<R3Point> {
 }
 
 /// From `x0`, multiply by `factor` until `ok(f(x))`; at most 20 steps.
-fn far_end(f: &impl Fn(f64) -> (f64, f64), x0: f64, factor: f64, ok: impl Fn(f64) -> bool) -> Option<f64> {
+fn far_end(
+    f: &impl Fn(f64) -> (f64, f64),
+    x0: f64,
+    factor: f64,
+    ok: impl Fn(f64) -> bool,
+) -> Option<f64> {
     let mut x = x0;
     for _ in 0..20 {
         if ok(f(x).0) {
@@ -550,8 +576,16 @@ enum Found {
 
 /// The out-of-range error for a (p, h|s) pair.
 fn y_out_of_range(p: f64, y: f64, which: Which) -> ThermoError {
-    let low = if p >= P_SAT_MIN { region1(T_MIN, p) } else { region2(T_MIN, p) };
-    let (top, t_top) = if p <= P_MAX5 { (region5(T_MAX5, p), "2273.15 K") } else { (region2(T_MAX, p), "1073.15 K") };
+    let low = if p >= P_SAT_MIN {
+        region1(T_MIN, p)
+    } else {
+        region2(T_MIN, p)
+    };
+    let (top, t_top) = if p <= P_MAX5 {
+        (region5(T_MAX5, p), "2273.15 K")
+    } else {
+        (region2(T_MAX, p), "1073.15 K")
+    };
     out_of_range(
         format!("{} = {} at p = {}", which.name(), which.fmt(y), fmt_p(p)),
         &format!(
@@ -583,7 +617,13 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
                 Found::Below => {
                     let (l, v) = (region1(ts, p), region2(ts, p));
                     if y >= which.of(&l) {
-                        Ok(two_phase(ts, p, &l, &v, (y - which.of(&l)) / (which.of(&v) - which.of(&l))))
+                        Ok(two_phase(
+                            ts,
+                            p,
+                            &l,
+                            &v,
+                            (y - which.of(&l)) / (which.of(&v) - which.of(&l)),
+                        ))
                     } else {
                         liquid(p, y, which, ts)
                     }
@@ -599,7 +639,13 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
                 Found::Above => {
                     let (l, v) = (region1(ts, p), region2(ts, p));
                     if y <= which.of(&v) {
-                        Ok(two_phase(ts, p, &l, &v, (y - which.of(&l)) / (which.of(&v) - which.of(&l))))
+                        Ok(two_phase(
+                            ts,
+                            p,
+                            &l,
+                            &v,
+                            (y - which.of(&l)) / (which.of(&v) - which.of(&l)),
+                        ))
                     } else {
                         vapour(p, y, which, ts)
                     }
@@ -609,7 +655,13 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
         // Between the largest saturated-liquid and the smallest
         // saturated-vapour value: wet at every pressure up to 16.5 MPa.
         let (l, v) = (region1(ts, p), region2(ts, p));
-        return Ok(two_phase(ts, p, &l, &v, (y - which.of(&l)) / (which.of(&v) - which.of(&l))));
+        return Ok(two_phase(
+            ts,
+            p,
+            &l,
+            &v,
+            (y - which.of(&l)) / (which.of(&v) - which.of(&l)),
+        ));
     }
     // p > p_sat(623.15 K): region 1 up to 623.15 K, region 3 (with the top
     // of the dome) up to the B23 boundary, then regions 2 and 5.
@@ -675,7 +727,11 @@ fn region3(p: f64, y: f64, which: Which) -> Result<State> {
         if y >= yl && y <= yv {
             return Ok(two_phase(ts, p, &l, &v, (y - yl) / (yv - yl)));
         }
-        branch = if y < yl { Branch::Liquid(ts) } else { Branch::Vapour(ts) };
+        branch = if y < yl {
+            Branch::Liquid(ts)
+        } else {
+            Branch::Vapour(ts)
+        };
     }
     let pt = solve_r3(p, y, which, branch, forward::b23_t(p))?;
     Ok(single(&pt.props(), p))
@@ -697,7 +753,11 @@ fn solve_gibbs(reg: Gibbs, p: f64, y: f64, which: Which, lo0: f64, hi0: f64) -> 
     let (mut lo, mut hi) = (lo0, hi0);
     let (mut lo_known, mut hi_known) = (false, false);
     let t0 = which.backward(reg, p, y);
-    let mut t = if t0 > lo && t0 < hi { t0 } else { t0.clamp(lo, hi) };
+    let mut t = if t0 > lo && t0 < hi {
+        t0
+    } else {
+        t0.clamp(lo, hi)
+    };
     if !t.is_finite() {
         t = 0.5 * (lo + hi);
     }
@@ -729,7 +789,11 @@ fn solve_gibbs(reg: Gibbs, p: f64, y: f64, which: Which, lo0: f64, hi0: f64) -> 
         let (d1, d2) = which.d_dt(&th);
         let newton = -r / d1;
         let den = d1 + 0.5 * d2 * newton;
-        let step = if den > 0.0 && (den / d1 - 1.0).abs() < 0.5 { -r / den } else { newton };
+        let step = if den > 0.0 && (den / d1 - 1.0).abs() < 0.5 {
+            -r / den
+        } else {
+            newton
+        };
         let cand = t + step;
         let next = if d1 > 0.0 && cand > lo && cand < hi {
             cand
