@@ -18,7 +18,13 @@
 //!   saturated liquid and vapour at p.
 //! - (p, x), (T, x): saturation by region 4; the saturated phases from
 //!   regions 1 and 2 below 623.15 K, above it from the phase equilibrium of
-//!   the region-3 equation (see [`sat`]).
+//!   the region-3 equation (module `sat`). A (p, h) or (p, s) pair exactly
+//!   on the edge of the dome may come back as the saturated single phase.
+//! - The equations of neighbouring regions agree at their boundaries only to
+//!   within IF97's consistency limits (e.g. regions 2 and 5 by up to about
+//!   0.1 kJ/kg at 1073.15 K). A (p, h) or (p, s) pair in such a sliver is
+//!   solved on the neighbouring equation extended by a fraction of a kelvin,
+//!   so the returned state always reproduces the given h or s.
 //!
 //! All values SI: K, Pa, J/kg, J/(kg K), m^3/kg.
 
