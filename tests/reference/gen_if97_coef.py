@@ -84,7 +84,8 @@ def main():
         for r in rows:
             print(f"    {r},")
         print("];")
-        print()
+        if name != TABLES[-1][0]:
+            print()
 
 
 if __name__ == "__main__":

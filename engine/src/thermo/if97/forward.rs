@@ -25,18 +25,147 @@ pub(super) struct Props {
     pub cv: f64,
     /// Speed of sound, m/s.
     pub w: f64,
+    /// d(cp)/dT at constant p, J/(kg K^2), for the Newton refinement of
+    /// regions 1, 2 and 5 (0 for region 3, where it is not used).
+    pub cp_t: f64,
 }
 
-/// `x^min, x^(min+1), ..., x^(min+N-1)` by successive multiplication.
+/// `x^min, x^(min+1), ..., x^(min+N-1)`, by four interleaved chains of
+/// multiplications (short dependency chains for speed).
 #[inline(always)]
-fn powers<const N: usize>(x: f64, min: i32) -> [f64; N] {
+pub(super) fn powers<const N: usize>(x: f64, min: i32) -> [f64; N] {
     let mut out = [0.0; N];
-    let mut acc = x.powi(min);
-    for o in out.iter_mut() {
-        *o = acc;
-        acc *= x;
+    let x2 = x * x;
+    let x4 = x2 * x2;
+    let base = x.powi(min);
+    let seed = [base, base * x, base * x2, base * x2 * x];
+    for k in 0..N {
+        out[k] = if k < 4 { seed[k] } else { out[k - 4] * x4 };
     }
     out
+}
+
+/// A term `n a^I b^J` of a forward equation, prepared at compile time: the
+/// indices of a^I and b^J in the power tables and the coefficient times the
+/// exponent factors of the derivatives: n, n J, n J(J-1), n J(J-1)(J-2),
+/// n I, n I(I-1), n I J (and a zero pad for even vector lanes). The first
+/// four lanes are all the T-derivatives the Newton refinement needs.
+#[derive(Clone, Copy)]
+struct Term {
+    a: usize,
+    b: usize,
+    c: [f64; 8],
+}
+
+const fn prepare<const N: usize>(tab: &[(i32, i32, f64); N], imin: i32, jmin: i32) -> [Term; N] {
+    let mut out = [Term {
+        a: 0,
+        b: 0,
+        c: [0.0; 8],
+    }; N];
+    let mut k = 0;
+    while k < N {
+        let (i, j, n) = tab[k];
+        let (fi, fj) = (i as f64, j as f64);
+        out[k] = Term {
+            a: (i - imin) as usize,
+            b: (j - jmin) as usize,
+            c: [
+                n,
+                n * fj,
+                n * fj * (fj - 1.0),
+                n * fj * (fj - 1.0) * (fj - 2.0),
+                n * fi,
+                n * fi * (fi - 1.0),
+                n * fi * fj,
+                0.0,
+            ],
+        };
+        k += 1;
+    }
+    out
+}
+
+static R1_TERMS: [Term; 34] = prepare(&coef::R1_GIBBS, 0, -41);
+static R2_TERMS: [Term; 43] = prepare(&coef::R2_RES, 1, 0);
+static R3_TERMS: [Term; 39] = prepare(&coef::R3_HELM, 0, 0);
+static R5_TERMS: [Term; 6] = prepare(&coef::R5_RES, 1, 1);
+
+/// Lanes of [`moments`]: all derivatives (forward properties) or only the
+/// T-derivatives (h, s, cp and d(cp)/dT for the Newton refinement).
+const ALL: usize = 8;
+const T_ONLY: usize = 4;
+
+/// Sums over the terms of the term values weighted by the exponent factors
+/// (see [`Term`]), for the first `L` lanes: sum t, sum J t, sum J(J-1) t,
+/// sum J(J-1)(J-2) t, sum I t, sum I(I-1) t, sum I J t; lanes not computed
+/// are zero. Terms are taken in pairs with separate accumulators (shorter
+/// addition dependency chains).
+///
+/// The power tables have power-of-two lengths so that masked indices need
+/// no bounds checks (the term indices are below the lengths by
+/// construction; the extra entries are unused).
+#[inline(always)]
+fn moments<const L: usize, const NA: usize, const NB: usize>(
+    terms: &[Term],
+    pa: &[f64; NA],
+    pb: &[f64; NB],
+) -> Gibbs {
+    const { assert!(NA.is_power_of_two() && NB.is_power_of_two()) };
+    let mut a0 = [0.0f64; L];
+    for t in terms {
+        let x = pa[t.a & (NA - 1)] * pb[t.b & (NB - 1)];
+        for (acc, c) in a0.iter_mut().zip(&t.c) {
+            *acc += c * x;
+        }
+    }
+    let s = |m: usize| if m < L { a0[m] } else { 0.0 };
+    Gibbs {
+        // Lane 7 is a zero pad (added so that all lanes stay in use).
+        g: s(0) + s(7),
+        gt: s(1),
+        gtt: s(2),
+        gttt: s(3),
+        gp: s(4),
+        gpp: s(5),
+        gpt: s(6),
+    }
+}
+
+/// The temperature-derivative properties of a Gibbs region, for the Newton
+/// refinement of (p, h) and (p, s).
+#[derive(Clone, Copy, Debug)]
+pub(super) struct Thermal {
+    pub t: f64,
+    pub h: f64,
+    pub s: f64,
+    pub cp: f64,
+    /// d(cp)/dT at constant p.
+    pub cp_t: f64,
+}
+
+impl Thermal {
+    fn from_gamma(t: f64, tau: f64, g: &Gibbs) -> Thermal {
+        Thermal {
+            t,
+            h: tau * g.gt * R * t,
+            s: (tau * g.gt - g.g) * R,
+            cp: -R * tau * tau * g.gtt,
+            cp_t: cp_t(t, tau, g.gtt, g.gttt),
+        }
+    }
+}
+
+impl Props {
+    pub fn thermal(&self) -> Thermal {
+        Thermal {
+            t: self.t,
+            h: self.h,
+            s: self.s,
+            cp: self.cp,
+            cp_t: self.cp_t,
+        }
+    }
 }
 
 /// A dimensionless Gibbs free energy and its derivatives with respect to the
@@ -49,6 +178,22 @@ pub(super) struct Gibbs {
     pub gt: f64,
     pub gtt: f64,
     pub gpt: f64,
+    /// Third derivative with respect to tau.
+    pub gttt: f64,
+}
+
+impl Gibbs {
+    fn plus(&self, o: &Gibbs) -> Gibbs {
+        Gibbs {
+            g: self.g + o.g,
+            gp: self.gp + o.gp,
+            gpp: self.gpp + o.gpp,
+            gt: self.gt + o.gt,
+            gtt: self.gtt + o.gtt,
+            gpt: self.gpt + o.gpt,
+            gttt: self.gttt + o.gttt,
+        }
+    }
 }
 
 // ---------------------------------------------------------------- region 1
@@ -58,29 +203,19 @@ const R1_TSTAR: f64 = 1386.0;
 
 /// Dimensionless Gibbs free energy of region 1, Eq. (7), and its derivatives
 /// (Table 4), for pi = p/16.53 MPa and tau = 1386 K/T.
-pub(super) fn gamma1(pi: f64, tau: f64) -> Gibbs {
+pub(super) fn gamma1<const L: usize>(pi: f64, tau: f64) -> Gibbs {
     let a = 7.1 - pi;
     let b = tau - 1.222;
     // Exponents in Table 2: I in 0..=32, J in -41..=17.
-    let pa: [f64; 33] = powers(a, 0);
-    let pb: [f64; 59] = powers(b, -41);
-    let mut r = Gibbs::default();
-    for &(i, j, n) in coef::R1_GIBBS.iter() {
-        let term = n * pa[i as usize] * pb[(j + 41) as usize];
-        let fi = i as f64;
-        let fj = j as f64;
-        r.g += term;
-        r.gp += fi * term;
-        r.gpp += fi * (fi - 1.0) * term;
-        r.gt += fj * term;
-        r.gtt += fj * (fj - 1.0) * term;
-        r.gpt += fi * fj * term;
-    }
+    let pa: [f64; 64] = powers(a, 0);
+    let pb: [f64; 64] = powers(b, -41);
+    let mut r = moments::<L, _, _>(&R1_TERMS, &pa, &pb);
     r.gp = -r.gp / a;
     r.gpp /= a * a;
     r.gt /= b;
     r.gtt /= b * b;
     r.gpt = -r.gpt / (a * b);
+    r.gttt /= b * b * b;
     r
 }
 
@@ -88,7 +223,7 @@ pub(super) fn gamma1(pi: f64, tau: f64) -> Gibbs {
 pub(super) fn region1(t: f64, p: f64) -> Props {
     let pi = p / R1_PSTAR;
     let tau = R1_TSTAR / t;
-    let g = gamma1(pi, tau);
+    let g = gamma1::<ALL>(pi, tau);
     let rt = R * t;
     let cp = -R * tau * tau * g.gtt;
     let x = g.gp - tau * g.gpt;
@@ -101,6 +236,7 @@ pub(super) fn region1(t: f64, p: f64) -> Props {
         cp,
         cv: cp + R * x * x / g.gpp,
         w: (rt * g.gp * g.gp / (x * x / (tau * tau * g.gtt) - g.gpp)).sqrt(),
+        cp_t: cp_t(t, tau, g.gtt, g.gttt),
     }
 }
 
@@ -122,35 +258,27 @@ fn gamma2_ideal(pi: f64, tau: f64) -> Gibbs {
         r.g += term;
         r.gt += fj * term;
         r.gtt += fj * (fj - 1.0) * term;
+        r.gttt += fj * (fj - 1.0) * (fj - 2.0) * term;
     }
     r.gt /= tau;
     r.gtt /= tau * tau;
+    r.gttt /= tau * tau * tau;
     r
 }
 
 /// Residual part of region 2, Eq. (17), Table 11.
-fn gamma2_res(pi: f64, tau: f64) -> Gibbs {
+fn gamma2_res<const L: usize>(pi: f64, tau: f64) -> Gibbs {
     let b = tau - 0.5;
     // I in 1..=24, J in 0..=58.
-    let pa: [f64; 24] = powers(pi, 1);
-    let pb: [f64; 59] = powers(b, 0);
-    let mut r = Gibbs::default();
-    for &(i, j, n) in coef::R2_RES.iter() {
-        let term = n * pa[(i - 1) as usize] * pb[j as usize];
-        let fi = i as f64;
-        let fj = j as f64;
-        r.g += term;
-        r.gp += fi * term;
-        r.gpp += fi * (fi - 1.0) * term;
-        r.gt += fj * term;
-        r.gtt += fj * (fj - 1.0) * term;
-        r.gpt += fi * fj * term;
-    }
+    let pa: [f64; 32] = powers(pi, 1);
+    let pb: [f64; 64] = powers(b, 0);
+    let mut r = moments::<L, _, _>(&R2_TERMS, &pa, &pb);
     r.gp /= pi;
     r.gpp /= pi * pi;
     r.gt /= b;
     r.gtt /= b * b;
     r.gpt /= pi * b;
+    r.gttt /= b * b * b;
     r
 }
 
@@ -173,14 +301,43 @@ fn props_ideal_res(t: f64, p: f64, pi: f64, tau: f64, g0: Gibbs, gr: Gibbs) -> P
         cp,
         cv: cp - R * x * x / y,
         w: (rt * z * z / (y + x * x / (tau * tau * gtt))).sqrt(),
+        cp_t: cp_t(t, tau, gtt, g0.gttt + gr.gttt),
     }
+}
+
+/// d(cp)/dT at constant p from cp = -R tau^2 g_tautau, d(tau)/dT = -tau/T.
+#[inline(always)]
+fn cp_t(t: f64, tau: f64, gtt: f64, gttt: f64) -> f64 {
+    R * tau * tau * (2.0 * gtt + tau * gttt) / t
 }
 
 /// Region 2 properties at (T, p), Eqs. (15)-(17).
 pub(super) fn region2(t: f64, p: f64) -> Props {
     let pi = p / 1e6;
     let tau = 540.0 / t;
-    props_ideal_res(t, p, pi, tau, gamma2_ideal(pi, tau), gamma2_res(pi, tau))
+    props_ideal_res(
+        t,
+        p,
+        pi,
+        tau,
+        gamma2_ideal(pi, tau),
+        gamma2_res::<ALL>(pi, tau),
+    )
+}
+
+/// Region 1 h, s, cp, d(cp)/dT at (T, p).
+pub(super) fn region1_thermal(t: f64, p: f64) -> Thermal {
+    let tau = R1_TSTAR / t;
+    Thermal::from_gamma(t, tau, &gamma1::<T_ONLY>(p / R1_PSTAR, tau))
+}
+
+/// Region 2 h, s, cp, d(cp)/dT at (T, p).
+pub(super) fn region2_thermal(t: f64, p: f64) -> Thermal {
+    let pi = p / 1e6;
+    let tau = 540.0 / t;
+    let g0 = gamma2_ideal(pi, tau);
+    let gr = gamma2_res::<T_ONLY>(pi, tau);
+    Thermal::from_gamma(t, tau, &g0.plus(&gr))
 }
 
 // ---------------------------------------------------------------- region 5
@@ -203,27 +360,21 @@ pub(super) fn region5(t: f64, p: f64) -> Props {
         g0.g += term;
         g0.gt += fj * term;
         g0.gtt += fj * (fj - 1.0) * term;
+        g0.gttt += fj * (fj - 1.0) * (fj - 2.0) * term;
     }
     g0.gt /= tau;
     g0.gtt /= tau * tau;
+    g0.gttt /= tau * tau * tau;
     // Residual part: I in 1..=3, J in 1..=9.
-    let mut gr = Gibbs::default();
-    for &(i, j, n) in coef::R5_RES.iter() {
-        let term = n * pi.powi(i) * tau.powi(j);
-        let fi = i as f64;
-        let fj = j as f64;
-        gr.g += term;
-        gr.gp += fi * term;
-        gr.gpp += fi * (fi - 1.0) * term;
-        gr.gt += fj * term;
-        gr.gtt += fj * (fj - 1.0) * term;
-        gr.gpt += fi * fj * term;
-    }
+    let pp: [f64; 4] = powers(pi, 1);
+    let ptr: [f64; 16] = powers(tau, 1);
+    let mut gr = moments::<ALL, _, _>(&R5_TERMS, &pp, &ptr);
     gr.gp /= pi;
     gr.gpp /= pi * pi;
     gr.gt /= tau;
     gr.gtt /= tau * tau;
     gr.gpt /= pi * tau;
+    gr.gttt /= tau * tau * tau;
     props_ideal_res(t, p, pi, tau, g0, gr)
 }
 
@@ -247,20 +398,17 @@ pub(super) struct Helm {
 /// Eq. (28) with its derivatives.
 pub(super) fn phi3(delta: f64, tau: f64) -> Helm {
     // I in 0..=11, J in 0..=26.
-    let pd: [f64; 12] = powers(delta, 0);
-    let pt: [f64; 27] = powers(tau, 0);
-    let mut r = Helm::default();
-    for &(i, j, n) in coef::R3_HELM.iter() {
-        let term = n * pd[i as usize] * pt[j as usize];
-        let fi = i as f64;
-        let fj = j as f64;
-        r.f += term;
-        r.d += fi * term;
-        r.dd += fi * (fi - 1.0) * term;
-        r.t += fj * term;
-        r.tt += fj * (fj - 1.0) * term;
-        r.dt += fi * fj * term;
-    }
+    let pd: [f64; 16] = powers(delta, 0);
+    let pt: [f64; 32] = powers(tau, 0);
+    let m = moments::<ALL, _, _>(&R3_TERMS, &pd, &pt);
+    let mut r = Helm {
+        f: m.g,
+        d: m.gp,
+        dd: m.gpp,
+        t: m.gt,
+        tt: m.gtt,
+        dt: m.gpt,
+    };
     r.f += R3_N1 * delta.ln();
     r.d = (r.d + R3_N1) / delta;
     r.dd = (r.dd - R3_N1) / (delta * delta);
@@ -351,6 +499,7 @@ impl R3Point {
             cp: cv + R * x * x / y,
             cv,
             w: (rt * (y - x * x / (tau * tau * f.tt))).sqrt(),
+            cp_t: 0.0,
         }
     }
 }
@@ -430,7 +579,9 @@ const B2BC_N: [f64; 5] = [
     0.45257578905948e1,
 ];
 
-/// Pressure on the 2b-2c boundary, Eq. (20); h in J/kg.
+/// Pressure on the 2b-2c boundary, Eq. (20); h in J/kg. (The solver uses
+/// Eq. (21); Eq. (20) is checked in the verification tests.)
+#[cfg(test)]
 pub(super) fn b2bc_p(h: f64) -> f64 {
     let n = &B2BC_N;
     let eta = h / 1e3;

@@ -18,7 +18,13 @@
 //!   saturated liquid and vapour at p.
 //! - (p, x), (T, x): saturation by region 4; the saturated phases from
 //!   regions 1 and 2 below 623.15 K, above it from the phase equilibrium of
-//!   the region-3 equation (see [`sat`]).
+//!   the region-3 equation (module `sat`). A (p, h) or (p, s) pair exactly
+//!   on the edge of the dome may come back as the saturated single phase.
+//! - The equations of neighbouring regions agree at their boundaries only to
+//!   within IF97's consistency limits (e.g. regions 2 and 5 by up to about
+//!   0.1 kJ/kg at 1073.15 K). A (p, h) or (p, s) pair in such a sliver is
+//!   solved on the neighbouring equation extended by a fraction of a kelvin,
+//!   so the returned state always reproduces the given h or s.
 //!
 //! All values SI: K, Pa, J/kg, J/(kg K), m^3/kg.
 
@@ -30,7 +36,7 @@ mod sat;
 mod tests;
 
 use super::{Result, Spec, State, ThermoError};
-use forward::{Props, R3Point, region1, region2, region5};
+use forward::{Props, R3Point, Thermal, region1, region2, region5};
 
 /// Critical temperature, K (IAPWS R7-97(2012), Eq. (3)).
 pub const T_CRIT: f64 = 647.096;
@@ -102,7 +108,7 @@ fn num(x: f64) -> String {
 }
 
 fn fmt_p(p: f64) -> String {
-    if p.abs() >= 1e5 {
+    if p.abs() >= 1e6 {
         format!("{} MPa", num(p / 1e6))
     } else if p.abs() >= 1e3 {
         format!("{} kPa", num(p / 1e3))
@@ -453,11 +459,18 @@ impl Which {
             Which::S => pr.s,
         }
     }
-    /// d(h or s)/dT at constant p.
-    fn d_dt(self, pr: &Props) -> f64 {
+    fn of_t(self, pr: &Thermal) -> f64 {
         match self {
-            Which::H => pr.cp,
-            Which::S => pr.cp / pr.t,
+            Which::H => pr.h,
+            Which::S => pr.s,
+        }
+    }
+    /// First and second derivative of h (s) with respect to T at
+    /// constant p: dh/dT = cp, ds/dT = cp/T.
+    fn d_dt(self, pr: &Thermal) -> (f64, f64) {
+        match self {
+            Which::H => (pr.cp, pr.cp_t),
+            Which::S => (pr.cp / pr.t, (pr.cp_t - pr.cp / pr.t) / pr.t),
         }
     }
     fn name(self) -> &'static str {
@@ -473,13 +486,14 @@ impl Which {
         }
     }
     /// Convergence tolerance of the refinement: 1e-12 relative, with a floor
-    /// of 1 J/kg resp. 1e-3 J/(kg K) for values near zero (liquid at 0 degC).
+    /// for values near zero (liquid at 0 degC): 1e-12 of 1 kJ/kg resp.
+    /// 1 J/(kg K).
     fn tol(self, target: f64) -> f64 {
         let floor = match self {
-            Which::H => 1.0,
-            Which::S => 1e-3,
+            Which::H => 1e3,
+            Which::S => 1.0,
         };
-        1e-12 * target.abs().max(floor * 1e3)
+        1e-12 * target.abs().max(floor)
     }
 }
 
@@ -499,90 +513,217 @@ fn gibbs(reg: Gibbs, t: f64, p: f64) -> Props {
     }
 }
 
-/// Dispatch a (p, h) or (p, s) pair to its region and solve.
-fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
-    // Lowest and highest value of h (s) at this pressure.
+/// h, s and their T-derivatives only (cheaper than all properties).
+fn gibbs_thermal(reg: Gibbs, t: f64, p: f64) -> Thermal {
+    match reg {
+        Gibbs::R1 => forward::region1_thermal(t, p),
+        Gibbs::R2 => forward::region2_thermal(t, p),
+        Gibbs::R5 => region5(t, p).thermal(),
+    }
+}
+
+/// Bounds used to pick the first region to try for a (p, h|s) pair; the
+/// choice is then confirmed by the bracketed solve (tested in
+/// `tests::dispatch_bounds`).
+struct Bounds {
+    /// Above the saturated-liquid value at every p <= p_sat(623.15 K), and
+    /// above the region-1 value at 623.15 K for every p up to 100 MPa.
+    liq_max: f64,
+    /// Below the saturated-vapour value at every p <= p_sat(623.15 K).
+    vap_min: f64,
+    /// Below the region-2 value on the B23 boundary for every p up to
+    /// 100 MPa.
+    b23_min: f64,
+    /// Above the region-2 value at 1073.15 K for every p (none for s,
+    /// which grows without bound as p goes to zero).
+    r2_top: f64,
+}
+
+impl Which {
+    fn bounds(self) -> Bounds {
+        match self {
+            Which::H => Bounds {
+                liq_max: 1.671e6,
+                vap_min: 2.500e6,
+                b23_min: 2.563e6,
+                r2_top: 4.161e6,
+            },
+            Which::S => Bounds {
+                liq_max: 3.779e3,
+                vap_min: 5.210e3,
+                b23_min: 5.048e3,
+                r2_top: f64::INFINITY,
+            },
+        }
+    }
+    fn backward(self, reg: Gibbs, p: f64, y: f64) -> f64 {
+        match (self, reg) {
+            (Which::H, Gibbs::R1) => backward::t1_ph(p, y),
+            (Which::S, Gibbs::R1) => backward::t1_ps(p, y),
+            (Which::H, Gibbs::R2) => backward::t2_ph(p, y),
+            (Which::S, Gibbs::R2) => backward::t2_ps(p, y),
+            // Region 5: start at its lower end (where the solve evaluates
+            // anyway); Halley steps converge in a few iterations on its
+            // smooth, nearly ideal-gas isobars.
+            (_, Gibbs::R5) => T_MAX,
+        }
+    }
+}
+
+/// Outcome of a bracketed 1-D solve in T on a Gibbs region.
+enum Found {
+    /// The state with h (s) equal to the target.
+    At(Props),
+    /// The target is below the value at the lower end.
+    Below,
+    /// The target is above the value at the upper end.
+    Above,
+}
+
+/// The out-of-range error for a (p, h|s) pair.
+fn y_out_of_range(p: f64, y: f64, which: Which) -> ThermoError {
     let low = if p >= P_SAT_MIN {
         region1(T_MIN, p)
     } else {
         region2(T_MIN, p)
     };
-    let top = if p <= P_MAX5 {
-        region5(T_MAX5, p)
+    let (top, t_top) = if p <= P_MAX5 {
+        (region5(T_MAX5, p), "2273.15 K")
     } else {
-        region2(T_MAX, p)
+        (region2(T_MAX, p), "1073.15 K")
     };
-    let (ylow, ytop) = (which.of(&low), which.of(&top));
-    if y < ylow || y > ytop {
-        return Err(out_of_range(
-            format!("{} = {} at p = {}", which.name(), which.fmt(y), fmt_p(p)),
-            &format!(
-                "{} from {} (273.15 K) to {} ({}) at this pressure",
-                which.name(),
-                which.fmt(ylow),
-                which.fmt(ytop),
-                if p <= P_MAX5 {
-                    "2273.15 K"
-                } else {
-                    "1073.15 K"
-                }
-            ),
-        ));
+    out_of_range(
+        format!("{} = {} at p = {}", which.name(), which.fmt(y), fmt_p(p)),
+        &format!(
+            "{} from {} (273.15 K) to {} ({t_top}) at this pressure",
+            which.name(),
+            which.fmt(which.of(&low)),
+            which.fmt(which.of(&top)),
+        ),
+    )
+}
+
+/// Dispatch a (p, h) or (p, s) pair to its region and solve.
+fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
+    let b = which.bounds();
+    if y > b.r2_top {
+        // Above region 2 at every pressure: region 5 (or out of range).
+        return vapour5(p, y, which);
     }
-    // Above 1073.15 K: region 5 (up to 50 MPa).
-    if p <= P_MAX5 {
-        let r5 = region5(T_MAX, p);
-        if y > which.of(&r5) {
-            let t0 = T_MAX + (y - which.of(&r5)) / which.d_dt(&r5);
-            let pr = solve_gibbs(Gibbs::R5, p, y, which, t0, T_MAX, T_MAX5)?;
-            return Ok(single(&pr, p));
-        }
-    }
-    // The region 2 upper end; `T_MAX + 1` lets region 2 cover a gap left by
-    // the tiny region 2/5 inconsistency at 1073.15 K.
-    let t2_hi = T_MAX + 1.0;
-    let backward2 = |p: f64, y: f64| match which {
-        Which::H => backward::t2_ph(p, y),
-        Which::S => backward::t2_ps(p, y),
-    };
-    let backward1 = |p: f64, y: f64| match which {
-        Which::H => backward::t1_ph(p, y),
-        Which::S => backward::t1_ps(p, y),
-    };
     if p < P_SAT_MIN {
-        // No liquid at this pressure: all region 2.
-        let pr = solve_gibbs(Gibbs::R2, p, y, which, backward2(p, y), T_MIN, t2_hi)?;
-        return Ok(single(&pr, p));
+        // No liquid at this pressure: region 2, then region 5.
+        return vapour(p, y, which, T_MIN);
     }
     if p <= P_S13 {
         let ts = forward::tsat(p);
-        let l = region1(ts, p);
-        let v = region2(ts, p);
-        let (yl, yv) = (which.of(&l), which.of(&v));
-        if y < yl {
-            let pr = solve_gibbs(Gibbs::R1, p, y, which, backward1(p, y), T_MIN, ts)?;
-            return Ok(single(&pr, p));
+        if y >= b.vap_min {
+            // Superheated vapour, or wet.
+            return match solve_gibbs(Gibbs::R2, p, y, which, ts, T_MAX)? {
+                Found::At(pr) => Ok(single(&pr, p)),
+                Found::Below => {
+                    let (l, v) = (region1(ts, p), region2(ts, p));
+                    if y >= which.of(&l) {
+                        Ok(two_phase(
+                            ts,
+                            p,
+                            &l,
+                            &v,
+                            (y - which.of(&l)) / (which.of(&v) - which.of(&l)),
+                        ))
+                    } else {
+                        liquid(p, y, which, ts)
+                    }
+                }
+                Found::Above => vapour5(p, y, which),
+            };
         }
-        if y <= yv {
-            let x = (y - yl) / (yv - yl);
-            return Ok(two_phase(ts, p, &l, &v, x));
+        if y <= b.liq_max {
+            // Compressed liquid, or wet.
+            return match solve_gibbs(Gibbs::R1, p, y, which, T_MIN, ts)? {
+                Found::At(pr) => Ok(single(&pr, p)),
+                Found::Below => Err(y_out_of_range(p, y, which)),
+                Found::Above => {
+                    let (l, v) = (region1(ts, p), region2(ts, p));
+                    if y <= which.of(&v) {
+                        Ok(two_phase(
+                            ts,
+                            p,
+                            &l,
+                            &v,
+                            (y - which.of(&l)) / (which.of(&v) - which.of(&l)),
+                        ))
+                    } else {
+                        vapour(p, y, which, ts)
+                    }
+                }
+            };
         }
-        let pr = solve_gibbs(Gibbs::R2, p, y, which, backward2(p, y), ts, t2_hi)?;
-        return Ok(single(&pr, p));
+        // Between the largest saturated-liquid and the smallest
+        // saturated-vapour value: wet at every pressure up to 16.5 MPa.
+        let (l, v) = (region1(ts, p), region2(ts, p));
+        return Ok(two_phase(
+            ts,
+            p,
+            &l,
+            &v,
+            (y - which.of(&l)) / (which.of(&v) - which.of(&l)),
+        ));
     }
-    // p > p_sat(623.15 K): regions 1, 3 (with the top of the dome) and 2.
-    let r13 = region1(T13, p);
-    if y <= which.of(&r13) {
-        let pr = solve_gibbs(Gibbs::R1, p, y, which, backward1(p, y), T_MIN, T13)?;
-        return Ok(single(&pr, p));
+    // p > p_sat(623.15 K): region 1 up to 623.15 K, region 3 (with the top
+    // of the dome) up to the B23 boundary, then regions 2 and 5.
+    if y <= b.liq_max {
+        match solve_gibbs(Gibbs::R1, p, y, which, T_MIN, T13)? {
+            Found::At(pr) => return Ok(single(&pr, p)),
+            Found::Below => return Err(y_out_of_range(p, y, which)),
+            Found::Above => {}
+        }
+    } else if y >= b.b23_min {
+        match solve_gibbs(Gibbs::R2, p, y, which, forward::b23_t(p), T_MAX)? {
+            Found::At(pr) => return Ok(single(&pr, p)),
+            Found::Below => {}
+            Found::Above => return vapour5(p, y, which),
+        }
     }
-    let t23 = forward::b23_t(p);
-    let r23 = region2(t23, p);
-    if y >= which.of(&r23) {
-        let pr = solve_gibbs(Gibbs::R2, p, y, which, backward2(p, y), t23, t2_hi)?;
-        return Ok(single(&pr, p));
+    region3(p, y, which)
+}
+
+/// Region 1 below `t_hi`.
+fn liquid(p: f64, y: f64, which: Which, t_hi: f64) -> Result<State> {
+    match solve_gibbs(Gibbs::R1, p, y, which, T_MIN, t_hi)? {
+        Found::At(pr) => Ok(single(&pr, p)),
+        _ => Err(y_out_of_range(p, y, which)),
     }
-    // Region 3, possibly two-phase.
+}
+
+/// Region 2 from `t_lo` up, then region 5.
+fn vapour(p: f64, y: f64, which: Which, t_lo: f64) -> Result<State> {
+    match solve_gibbs(Gibbs::R2, p, y, which, t_lo, T_MAX)? {
+        Found::At(pr) => Ok(single(&pr, p)),
+        Found::Below => Err(y_out_of_range(p, y, which)),
+        Found::Above => vapour5(p, y, which),
+    }
+}
+
+/// Region 5 (up to 50 MPa), for values above region 2 at 1073.15 K.
+fn vapour5(p: f64, y: f64, which: Which) -> Result<State> {
+    if p > P_MAX5 {
+        return Err(y_out_of_range(p, y, which));
+    }
+    match solve_gibbs(Gibbs::R5, p, y, which, T_MAX, T_MAX5)? {
+        Found::At(pr) => Ok(single(&pr, p)),
+        Found::Above => Err(y_out_of_range(p, y, which)),
+        // In the small gap between region 2 and region 5 at 1073.15 K
+        // (the two equations differ there by up to about 0.1 kJ/kg),
+        // extend region 5 by a fraction of a kelvin.
+        Found::Below => match solve_gibbs(Gibbs::R5, p, y, which, T_MAX - 1.0, T_MAX)? {
+            Found::At(pr) => Ok(single(&pr, p)),
+            _ => Err(y_out_of_range(p, y, which)),
+        },
+    }
+}
+
+/// Region 3, possibly two-phase below the critical pressure.
+fn region3(p: f64, y: f64, which: Which) -> Result<State> {
     let mut branch = Branch::Dense;
     if p < P_CRIT {
         let ts = forward::tsat(p);
@@ -590,8 +731,7 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
         let (l, v) = (c.liq.props(), c.vap.props());
         let (yl, yv) = (which.of(&l), which.of(&v));
         if y >= yl && y <= yv {
-            let x = (y - yl) / (yv - yl);
-            return Ok(two_phase(ts, p, &l, &v, x));
+            return Ok(two_phase(ts, p, &l, &v, (y - yl) / (yv - yl)));
         }
         branch = if y < yl {
             Branch::Liquid(ts)
@@ -599,48 +739,81 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
             Branch::Vapour(ts)
         };
     }
-    let pt = solve_r3(p, y, which, branch, t23)?;
+    let pt = solve_r3(p, y, which, branch, forward::b23_t(p))?;
     Ok(single(&pt.props(), p))
 }
 
-/// 1-D refinement in T on a Gibbs region: Newton's method from the backward
-/// value `t0`, kept inside the bracket [lo, hi] by bisection.
-fn solve_gibbs(
-    reg: Gibbs,
-    p: f64,
-    y: f64,
-    which: Which,
-    t0: f64,
-    mut lo: f64,
-    mut hi: f64,
-) -> Result<Props> {
+/// 1-D refinement in T on a Gibbs region within [lo, hi]: Halley steps
+/// (Newton with the second derivative, from d(cp)/dT) from the backward
+/// value, kept inside the bracket by bisection. The bracket ends are only
+/// evaluated when a step needs them; if the target lies beyond an end, the
+/// state at that end is returned as `Below` or `Above`.
+///
+/// Iterations far from the solution evaluate only h, s, cp and d(cp)/dT;
+/// once a step is small (within 0.1 K; from the backward value that is
+/// usually the first), the next point is evaluated in full and, when it
+/// meets the tolerance, returned as it is: the result is always the forward
+/// equation at the returned temperature.
+fn solve_gibbs(reg: Gibbs, p: f64, y: f64, which: Which, lo0: f64, hi0: f64) -> Result<Found> {
     let tol = which.tol(y);
+    let (mut lo, mut hi) = (lo0, hi0);
+    let (mut lo_known, mut hi_known) = (false, false);
+    let t0 = which.backward(reg, p, y);
     let mut t = if t0 > lo && t0 < hi {
         t0
     } else {
-        0.5 * (lo + hi)
+        t0.clamp(lo, hi)
     };
+    if !t.is_finite() {
+        t = 0.5 * (lo + hi);
+    }
+    let mut full = false;
     for _ in 0..100 {
-        let pr = gibbs(reg, t, p);
-        let r = which.of(&pr) - y;
+        let (th, pr) = if full {
+            let pr = gibbs(reg, t, p);
+            (pr.thermal(), Some(pr))
+        } else {
+            (gibbs_thermal(reg, t, p), None)
+        };
+        let r = which.of_t(&th) - y;
         if r.abs() <= tol {
-            return Ok(pr);
+            return Ok(Found::At(pr.unwrap_or_else(|| gibbs(reg, t, p))));
         }
         if r < 0.0 {
+            if t >= hi0 {
+                return Ok(Found::Above);
+            }
             lo = t;
+            lo_known = true;
         } else {
+            if t <= lo0 {
+                return Ok(Found::Below);
+            }
             hi = t;
+            hi_known = true;
         }
-        let d = which.d_dt(&pr);
-        let newton = t - r / d;
-        let next = if d > 0.0 && newton >= lo && newton <= hi {
+        let (d1, d2) = which.d_dt(&th);
+        let newton = -r / d1;
+        let den = d1 + 0.5 * d2 * newton;
+        let step = if den > 0.0 && (den / d1 - 1.0).abs() < 0.5 {
+            -r / den
+        } else {
             newton
+        };
+        let cand = t + step;
+        let next = if d1 > 0.0 && cand > lo && cand < hi {
+            cand
+        } else if d1 > 0.0 && cand >= hi && !hi_known {
+            hi
+        } else if d1 > 0.0 && cand <= lo && !lo_known {
+            lo
         } else {
             0.5 * (lo + hi)
         };
         if (next - t).abs() <= 1e-14 * t {
-            return Ok(gibbs(reg, next, p));
+            return Ok(Found::At(gibbs(reg, next, p)));
         }
+        full = (next - t).abs() <= 0.1;
         t = next;
     }
     Err(ThermoError::NoConvergence(format!(

@@ -304,7 +304,7 @@ fn if97_boundary_equations() {
     // h = 0.3516004323e4 kJ/kg.
     check(
         "IF97 B2bc p(3516.004323 kJ/kg)",
-        forward::b2bc_p(3516.004_323 * KJ) / MPA,
+        forward::b2bc_p(3_516.004_323 * KJ) / MPA,
         "0.100000000e3",
     );
     check(
@@ -581,7 +581,7 @@ fn round_trip_grid_ph_ps() {
             let Ok(reg) = region_tp(t, p) else { continue };
             // Skip points within 1 mK of the saturation line: there (T, p)
             // and (p, h) may legitimately pick different phases.
-            if p <= P_CRIT && p >= P_SAT_MIN && (t - t_sat(p).unwrap()).abs() < 1e-3 {
+            if (P_SAT_MIN..=P_CRIT).contains(&p) && (t - t_sat(p).unwrap()).abs() < 1e-3 {
                 continue;
             }
             regions.insert(reg);
@@ -594,7 +594,14 @@ fn round_trip_grid_ph_ps() {
                 st.h,
                 back_h.h
             );
-            rel(&format!("{tag}: T from (p,h)"), back_h.t, t, 1e-7);
+            // Regions 2 and 5 differ by up to 0.1 kJ/kg at 1073.15 K (IF97
+            // consistency at the boundary), so near it one h is reached at
+            // two temperatures up to about 0.05 K apart: T is compared
+            // only away from that boundary.
+            let t_check = (t - T_MAX).abs() > 0.1;
+            if t_check {
+                rel(&format!("{tag}: T from (p,h)"), back_h.t, t, 1e-7);
+            }
             let fresh = state_tp(back_h.t, p).unwrap();
             assert!(
                 (fresh.h - st.h).abs() <= 1e-9 * st.h.abs().max(1e3),
@@ -609,7 +616,9 @@ fn round_trip_grid_ph_ps() {
                 st.s,
                 back_s.s
             );
-            rel(&format!("{tag}: T from (p,s)"), back_s.t, t, 1e-7);
+            if t_check {
+                rel(&format!("{tag}: T from (p,s)"), back_s.t, t, 1e-7);
+            }
             let fresh = state_tp(back_s.t, p).unwrap();
             assert!(
                 (fresh.s - st.s).abs() <= 1e-9 * st.s.abs().max(1.0),
@@ -643,12 +652,12 @@ fn round_trip_two_phase() {
                 ("(p,h)", state_ph(p, st.h).unwrap()),
                 ("(p,s)", state_ps(p, st.s).unwrap()),
             ] {
-                // The dome includes its edges: x = 0 and x = 1 come back as
-                // saturated states with a quality.
-                let bx = back
-                    .x
-                    .unwrap_or_else(|| panic!("{tag} {name}: single phase"));
-                assert!((bx - x).abs() <= 1e-10, "{tag} {name}: x = {bx}");
+                // At the edges of the dome (x = 0 or 1) the solve may return
+                // the saturated single phase (at T_sat, checked below).
+                match back.x {
+                    Some(bx) => assert!((bx - x).abs() <= 1e-10, "{tag} {name}: x = {bx}"),
+                    None => assert!(x == 0.0 || x == 1.0, "{tag} {name}: single phase"),
+                }
                 rel(&format!("{tag} {name} T"), back.t, st.t, 1e-9);
                 assert!(
                     (back.h - st.h).abs() <= 1e-9 * st.h.abs(),
@@ -804,4 +813,251 @@ fn region_selection_at_boundaries() {
     assert_eq!(region_tp(T_MAX + 1e-9, 10e6).unwrap(), Region::R5);
     // Below the triple-point pressure there is no liquid.
     assert_eq!(region_tp(T_MIN, 600.0).unwrap(), Region::R2);
+}
+
+// ------------------------------------------------------------ errors
+
+fn out_of_range_parts(e: ThermoError) -> (String, String, String) {
+    match e {
+        ThermoError::OutOfRange { what, model, range } => (what, model, range),
+        other => panic!("expected OutOfRange, got {other:?}"),
+    }
+}
+
+fn is_invalid(r: Result<State>) -> String {
+    match r {
+        Err(ThermoError::InvalidArgument(m)) => m,
+        other => panic!("expected InvalidArgument, got {other:?}"),
+    }
+}
+
+#[test]
+fn out_of_range_messages() {
+    let (what, model, range) = out_of_range_parts(state_tp(1200.0, 80e6).unwrap_err());
+    assert_eq!(what, "T = 1200 K at p = 80 MPa");
+    assert_eq!(model, "water/steam (IAPWS-IF97)");
+    assert_eq!(
+        range,
+        "273.15 K to 1073.15 K up to 100 MPa; to 2273.15 K up to 50 MPa"
+    );
+    let msg = state_tp(1200.0, 80e6).unwrap_err().to_string();
+    assert_eq!(
+        msg,
+        "T = 1200 K at p = 80 MPa is outside the range of water/steam (IAPWS-IF97) \
+         (273.15 K to 1073.15 K up to 100 MPa; to 2273.15 K up to 50 MPa)"
+    );
+    assert_eq!(
+        out_of_range_parts(state_tp(250.0, 1e5).unwrap_err()).0,
+        "T = 250 K at p = 100 kPa"
+    );
+    assert_eq!(
+        out_of_range_parts(state_tp(2300.0, 1e5).unwrap_err()).0,
+        "T = 2300 K at p = 100 kPa"
+    );
+    assert_eq!(
+        out_of_range_parts(state_tp(500.0, 101e6).unwrap_err()).0,
+        "p = 101 MPa"
+    );
+    assert_eq!(
+        out_of_range_parts(state_ph(101e6, 1e6).unwrap_err()).0,
+        "p = 101 MPa"
+    );
+    // Enthalpy beyond the range at this pressure.
+    let (what, _, range) = out_of_range_parts(state_ph(1e6, 8000e3).unwrap_err());
+    assert_eq!(what, "h = 8000 kJ/kg at p = 1 MPa");
+    assert!(
+        range.starts_with("h from ") && range.ends_with("(2273.15 K) at this pressure"),
+        "{range}"
+    );
+    let (what, _, range) = out_of_range_parts(state_ps(80e6, 9e3).unwrap_err());
+    assert_eq!(what, "s = 9 kJ/(kg K) at p = 80 MPa");
+    assert!(range.contains("(1073.15 K)"), "{range}");
+    assert!(state_ph(1e6, -10e3).is_err());
+    assert!(state_ps(1e6, -1e3).is_err());
+    // Saturation beyond the critical point.
+    let (what, _, range) = out_of_range_parts(state_tx(650.0, 0.5).unwrap_err());
+    assert_eq!(what, "T = 650 K");
+    assert_eq!(
+        range,
+        "saturation from 273.15 K to the critical temperature 647.096 K"
+    );
+    let (what, _, range) = out_of_range_parts(state_px(23e6, 0.5).unwrap_err());
+    assert_eq!(what, "p = 23 MPa");
+    assert_eq!(
+        range,
+        "saturation from 611.213 Pa to the critical pressure 22.064 MPa"
+    );
+    assert_eq!(
+        out_of_range_parts(state_px(500.0, 0.5).unwrap_err()).0,
+        "p = 500 Pa"
+    );
+    assert_eq!(
+        out_of_range_parts(state_tx(270.0, 0.5).unwrap_err()).0,
+        "T = 270 K"
+    );
+    assert!(matches!(p_sat(700.0), Err(ThermoError::OutOfRange { .. })));
+    assert!(matches!(t_sat(30e6), Err(ThermoError::OutOfRange { .. })));
+}
+
+#[test]
+fn invalid_arguments() {
+    assert!(is_invalid(state_tp(f64::NAN, 1e5)).contains("T must be a finite number"));
+    assert!(is_invalid(state_tp(300.0, f64::INFINITY)).contains("p must be a finite number"));
+    assert!(is_invalid(state_tp(300.0, 0.0)).contains("must be positive"));
+    assert!(is_invalid(state_tp(300.0, -1e5)).contains("got p = -100 kPa"));
+    assert!(is_invalid(state_ph(1e6, f64::NAN)).contains("h must be a finite number"));
+    assert!(is_invalid(state_ps(-1.0, 1e3)).contains("must be positive"));
+    assert_eq!(
+        is_invalid(state_px(1e6, 1.5)),
+        "the quality x must be between 0 and 1, got x = 1.5"
+    );
+    assert_eq!(
+        is_invalid(state_tx(400.0, -0.1)),
+        "the quality x must be between 0 and 1, got x = -0.1"
+    );
+    assert!(is_invalid(state_tx(f64::NAN, 0.5)).contains("T must be a finite number"));
+    assert!(matches!(t_sat(0.0), Err(ThermoError::InvalidArgument(_))));
+    assert!(matches!(
+        p_sat(f64::NAN),
+        Err(ThermoError::InvalidArgument(_))
+    ));
+}
+
+#[test]
+fn saturated_states_with_quality() {
+    // (p, x) and (T, x) with x = 0 or 1 are saturated liquid / vapour and
+    // carry x; cp, cv are None in two-phase states; u = h - p v.
+    let l = state_px(1e6, 0.0).unwrap();
+    let v = state_px(1e6, 1.0).unwrap();
+    assert_eq!((l.x, v.x), (Some(0.0), Some(1.0)));
+    assert_eq!((l.cp, l.cv, v.cp), (None, None, None));
+    let ts = t_sat(1e6).unwrap();
+    // Saturated liquid is region 1 at T_sat, vapour region 2 (IF97 Sec. 8).
+    assert_eq!(l.h, region1(ts, 1e6).h);
+    assert_eq!(v.h, region2(ts, 1e6).h);
+    let m = state_tx(ts, 0.25).unwrap();
+    rel("u = h - p v", m.u, m.h - m.p * m.v, 1e-15);
+    rel("p of (T,x)", m.p, 1e6, 1e-9);
+    // Single-phase states have x = None and cp, cv.
+    let st = state_tp(300.0, 1e6).unwrap();
+    assert_eq!(st.x, None);
+    assert!(st.cp.is_some() && st.cv.is_some());
+    rel("u = h - p v", st.u, st.h - st.p * st.v, 1e-15);
+    // The critical point itself: (T, x) at T_c.
+    let c = state_tx(T_CRIT, 0.5).unwrap();
+    rel("critical v", c.v, 1.0 / RHO_CRIT, 1e-12);
+}
+
+// ------------------------------------------------------------ properties
+
+fn all_finite(st: &State) -> bool {
+    [st.t, st.p, st.h, st.u, st.s, st.v]
+        .iter()
+        .all(|x| x.is_finite())
+        && st.cp.is_none_or(f64::is_finite)
+        && st.cv.is_none_or(f64::is_finite)
+        && st.x.is_none_or(|x| (0.0..=1.0).contains(&x))
+}
+
+mod props {
+    use super::*;
+    use proptest::prelude::*;
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(400))]
+
+        /// Any input gives a finite state or an error, never NaN or a panic.
+        #[test]
+        fn never_nan_tp(t in -100.0f64..3000.0, p in -1e6f64..1.2e8) {
+            if let Ok(st) = state_tp(t, p) {
+                prop_assert!(all_finite(&st), "{st:?}");
+            }
+        }
+
+        #[test]
+        fn never_nan_ph(p in -1e3f64..1.2e8, h in -2e5f64..8e6) {
+            if let Ok(st) = state_ph(p, h) {
+                prop_assert!(all_finite(&st), "{st:?}");
+                prop_assert!((st.h - h).abs() <= 1e-9 * h.abs().max(1e3));
+            }
+        }
+
+        #[test]
+        fn never_nan_ps(p in -1e3f64..1.2e8, s in -1e3f64..1.4e4) {
+            if let Ok(st) = state_ps(p, s) {
+                prop_assert!(all_finite(&st), "{st:?}");
+                prop_assert!((st.s - s).abs() <= 1e-9 * s.abs().max(1.0));
+            }
+        }
+
+        #[test]
+        fn never_nan_sat(t in 200.0f64..700.0, p in 0.0f64..3e7, x in -0.5f64..1.5) {
+            if let Ok(st) = state_tx(t, x) {
+                prop_assert!(all_finite(&st), "{st:?}");
+            }
+            if let Ok(st) = state_px(p, x) {
+                prop_assert!(all_finite(&st), "{st:?}");
+            }
+        }
+
+        /// Random single-phase states over the whole range come back from
+        /// (p, h) and (p, s) with h, s equal to 1e-9 relative.
+        #[test]
+        fn round_trip_random(t in 273.15f64..2273.15, lp in 2.0f64..8.0) {
+            let p = 10f64.powf(lp);
+            if let Ok(st) = state_tp(t, p) {
+                let a = state_ph(p, st.h).unwrap();
+                prop_assert!((a.h - st.h).abs() <= 1e-9 * st.h.abs().max(1e3));
+                let b = state_ps(p, st.s).unwrap();
+                prop_assert!((b.s - st.s).abs() <= 1e-9 * st.s.abs().max(1.0));
+                if st.x.is_none() && a.x.is_none() {
+                    prop_assert!(((a.t - t) / t).abs() <= 1e-6, "T {t} -> {}", a.t);
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn dispatch_bounds() {
+    // The constants that pick the first region to try for (p, h), (p, s)
+    // must bound the saturated and boundary values they stand for (checked
+    // on a fine pressure grid).
+    let (bh, bs) = (Which::H.bounds(), Which::S.bounds());
+    let n = 4000;
+    for i in 0..=n {
+        let p = P_SAT_MIN * (P_S13 / P_SAT_MIN).powf(i as f64 / n as f64);
+        let ts = forward::tsat(p);
+        let (l, v) = (region1(ts, p), region2(ts, p));
+        assert!(
+            l.h < bh.liq_max && l.s < bs.liq_max,
+            "saturated liquid at {p} Pa"
+        );
+        assert!(
+            v.h > bh.vap_min && v.s > bs.vap_min,
+            "saturated vapour at {p} Pa"
+        );
+    }
+    for i in 0..=n {
+        let p = P_S13 + (P_MAX - P_S13) * i as f64 / n as f64;
+        let a = region1(T13, p);
+        let b = region2(forward::b23_t(p), p);
+        assert!(
+            a.h < bh.liq_max && a.s < bs.liq_max,
+            "region 1 at 623.15 K, {p} Pa"
+        );
+        assert!(
+            b.h > bh.b23_min && b.s > bs.b23_min,
+            "region 2 on B23 at {p} Pa"
+        );
+    }
+    assert!(bh.liq_max < bh.vap_min && bs.liq_max < bs.vap_min);
+    // Region 2 at 1073.15 K: h is largest at low pressure.
+    for i in 0..=n {
+        let p = 10f64.powf(-3.0 + 11.0 * i as f64 / n as f64);
+        assert!(
+            region2(T_MAX, p).h < bh.r2_top,
+            "region 2 at 1073.15 K, {p} Pa"
+        );
+    }
 }

@@ -1,0 +1,70 @@
+//! Speed of the IAPWS-IF97 water/steam model.
+//!
+//! Targets (release build): forward (T, p) -> h at most 150 ns per call;
+//! (p, h) -> T and (p, s) -> T at most 400 ns per call.
+//!
+//! Run: `cargo bench -p sheaf-engine --bench if97`
+
+use std::hint::black_box;
+
+use criterion::{Criterion, criterion_group, criterion_main};
+use sheaf_engine::thermo::if97;
+
+/// (label, T in K, p in Pa): one state per region.
+const POINTS: [(&str, f64, f64); 5] = [
+    ("region1 300K 3MPa", 300.0, 3e6),
+    ("region2 673K 3MPa", 673.15, 3e6),
+    ("region2 800K 30MPa", 800.0, 30e6),
+    ("region3 650K 25MPa", 650.0, 25e6),
+    ("region5 1500K 10MPa", 1500.0, 10e6),
+];
+
+fn forward(c: &mut Criterion) {
+    let mut g = c.benchmark_group("tp_to_h");
+    for (label, t, p) in POINTS {
+        g.bench_function(label, |b| {
+            b.iter(|| if97::state_tp(black_box(t), black_box(p)).map(|s| s.h))
+        });
+    }
+    g.finish();
+}
+
+fn backward(c: &mut Criterion) {
+    let mut g = c.benchmark_group("ph_to_t");
+    for (label, t, p) in POINTS {
+        let Ok(st) = if97::state_tp(t, p) else {
+            continue;
+        };
+        g.bench_function(label, |b| {
+            b.iter(|| if97::state_ph(black_box(p), black_box(st.h)).map(|s| s.t))
+        });
+    }
+    g.finish();
+    let mut g = c.benchmark_group("ps_to_t");
+    for (label, t, p) in POINTS {
+        let Ok(st) = if97::state_tp(t, p) else {
+            continue;
+        };
+        g.bench_function(label, |b| {
+            b.iter(|| if97::state_ps(black_box(p), black_box(st.s)).map(|s| s.t))
+        });
+    }
+    g.finish();
+}
+
+fn saturation(c: &mut Criterion) {
+    let mut g = c.benchmark_group("saturation");
+    g.bench_function("px 1MPa x=0.5", |b| {
+        b.iter(|| if97::state_px(black_box(1e6), black_box(0.5)).map(|s| s.h))
+    });
+    g.bench_function("px 21MPa x=0.5 (region 3)", |b| {
+        b.iter(|| if97::state_px(black_box(21e6), black_box(0.5)).map(|s| s.h))
+    });
+    g.bench_function("ph 1MPa two-phase", |b| {
+        b.iter(|| if97::state_ph(black_box(1e6), black_box(2e6)).map(|s| s.x))
+    });
+    g.finish();
+}
+
+criterion_group!(benches, forward, backward, saturation);
+criterion_main!(benches);
