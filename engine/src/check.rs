@@ -1054,3 +1054,94 @@ pub fn check_standalone(e: &Expr, src: &str) -> Result<(Ty, Code), Vec<Diagnosti
 pub fn statement<'a>(ws: &'a Worksheet, node: &Node) -> Option<&'a Statement> {
     ws.statements.get(node.stmt)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use Affinity::*;
+
+    #[test]
+    fn affinity_rules_of_design_section_3() {
+        assert_eq!(affinity(BinOp::Sub, Absolute, Absolute), Ok(Difference));
+        assert_eq!(affinity(BinOp::Add, Absolute, Difference), Ok(Absolute));
+        assert_eq!(affinity(BinOp::Add, Difference, Absolute), Ok(Absolute));
+        assert_eq!(affinity(BinOp::Sub, Absolute, Neutral), Ok(Absolute));
+        assert!(affinity(BinOp::Add, Absolute, Absolute).is_err());
+        assert!(affinity(BinOp::Sub, Difference, Absolute).is_err());
+        assert!(affinity(BinOp::Sub, Neutral, Absolute).is_err());
+        assert_eq!(affinity(BinOp::Add, Difference, Neutral), Ok(Difference));
+        assert_eq!(affinity(BinOp::Add, Neutral, Neutral), Ok(Neutral));
+        assert_eq!(affinity(BinOp::Mul, Absolute, Absolute), Ok(Neutral));
+    }
+
+    #[test]
+    fn exponents_as_small_rationals() {
+        assert_eq!(rational(2.0), Some((2, 1)));
+        assert_eq!(rational(-0.5), Some((-1, 2)));
+        assert_eq!(rational(1.0 / 3.0), Some((1, 3)));
+        assert_eq!(rational(0.4 / 1.4), Some((2, 7)));
+        assert_eq!(rational(std::f64::consts::PI), None);
+    }
+
+    fn checked(src: &str) -> Result<Checked, Vec<Diagnostic>> {
+        let ws = sheaf_grammar::parse(src).unwrap();
+        check(&ws, src)
+    }
+
+    #[test]
+    fn units_are_folded_into_si_constants() {
+        let c = checked("a = 2 kPa\n").unwrap();
+        assert_eq!(c.nodes[0].code, Code::Const(2000.0));
+        assert_eq!(c.nodes[0].ty, Ty::num(Dim::PRESSURE));
+        let c = checked("t = 20 degC\n").unwrap();
+        assert_eq!(c.nodes[0].ty, Ty::Num(QTy::absolute(Dim::TEMPERATURE)));
+    }
+
+    #[test]
+    fn names_compile_to_slots_and_order_follows_dependencies() {
+        let c = checked("b = a * 2\na = 3 m\n").unwrap();
+        assert_eq!(c.order, vec![1, 0]);
+        assert_eq!(c.nodes[0].deps, vec![1]);
+        assert_eq!(
+            c.nodes[0].code,
+            Code::Mul(Box::new(Code::Slot(1)), Box::new(Code::Const(2.0)))
+        );
+    }
+
+    #[test]
+    fn arguments_bind_by_position_and_name() {
+        let ok = checked(
+            "g = ideal_gas(\"air\")\ns = state(g, T: 300 K, p: 1 bar)\nt = isentropic(s, p: 2 bar)\n",
+        );
+        assert!(ok.is_ok(), "{ok:?}");
+        let e = checked(
+            "g = ideal_gas(\"air\")\ns = state(g, T: 300 K, p: 1 bar)\nt = isentropic(s, 2 bar)\n",
+        )
+        .unwrap_err();
+        assert!(
+            e[0].message.contains("must be given by name"),
+            "{}",
+            e[0].message
+        );
+        let e = checked("g = ideal_gas(\"air\")\ns = state(g, T: 300 K, p: 1 bar)\nt = isentropic(s, pp: 2 bar)\n").unwrap_err();
+        assert!(
+            e[0].message.contains("has no argument `pp`"),
+            "{}",
+            e[0].message
+        );
+        assert!(
+            e[0].notes.iter().any(|n| n.contains("`p:`")),
+            "{:?}",
+            e[0].notes
+        );
+        let e = checked("x = min()\n").unwrap_err();
+        assert!(e[0].message.contains("at least one"), "{}", e[0].message);
+    }
+
+    #[test]
+    fn constant_folding_for_exponents() {
+        let c = checked("x = 1\n").unwrap();
+        assert_eq!(const_value(&c.nodes[0].code), Some(1.0));
+        assert_eq!(const_value(&Code::Slot(0)), None);
+    }
+}

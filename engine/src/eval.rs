@@ -210,3 +210,44 @@ pub fn substance_field(sub: &Substance, field: Field) -> Option<f64> {
         _ => None,
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn c(x: f64) -> Box<Code> {
+        Box::new(Code::Const(x))
+    }
+
+    fn run(code: &Code, slots: &[Value]) -> Result<Value, EvalError> {
+        eval(code, slots, Span::new(0, 1), &mut Vec::new())
+    }
+
+    #[test]
+    fn arithmetic_on_plain_numbers_and_slots() {
+        let code = Code::Add(Box::new(Code::Slot(0)), Box::new(Code::Mul(c(2.0), c(3.0))));
+        assert_eq!(run(&code, &[Value::Num(1.0)]), Ok(Value::Num(7.0)));
+    }
+
+    #[test]
+    fn division_by_zero_points_at_the_divisor() {
+        let s = Span::new(4, 5);
+        let e = run(&Code::Div(c(1.0), c(0.0), s), &[]).unwrap_err();
+        assert_eq!(e.span, s);
+        assert_eq!(e.message, "division by zero");
+    }
+
+    #[test]
+    fn non_finite_results_are_refused() {
+        let e = run(&Code::Pow(c(-8.0), c(0.5), Span::new(0, 3)), &[]).unwrap_err();
+        assert!(e.message.contains("no finite real value"), "{}", e.message);
+        let e = run(&Code::Mul(c(1e200), c(1e200)), &[]).unwrap_err();
+        assert!(e.message.contains("not a finite number"), "{}", e.message);
+    }
+
+    #[test]
+    fn comparisons_give_booleans() {
+        let code = Code::Cmp(CompareOp::Le, c(1.0), c(1.0));
+        assert_eq!(run(&code, &[]), Ok(Value::Bool(true)));
+    }
+}
