@@ -100,7 +100,7 @@ fn pipeline(c: &mut Criterion) {
             g.bench_function(label, |b| {
                 b.iter(|| {
                     k += 1;
-                    let v = if k % 2 == 0 { *si } else { si * 1.01 };
+                    let v = if k.is_multiple_of(2) { *si } else { si * 1.01 };
                     if let Err(e) = model.set_input(input, v) {
                         panic!("{e}");
                     }

@@ -659,10 +659,9 @@ pub fn worksheet(n: usize, seed: u64) -> Synth {
         let roll = g.rng.unit();
         if rank < ALL.len() || roll < 0.18 {
             // input
-            let q = if rank < ALL.len() {
-                ALL[rank]
-            } else {
-                *g.rng.pick(&ALL)
+            let q = match ALL.get(rank) {
+                Some(&q) => q,
+                None => *g.rng.pick(&ALL),
             };
             let lit = g.literal(q);
             let name = format!("{}_{}", q.prefix(), g.names.len());
@@ -763,11 +762,7 @@ pub fn worksheet(n: usize, seed: u64) -> Synth {
     let mut source = String::with_capacity(lines.len() * 48);
     source.push_str(&title);
     source.push('\n');
-    let every = if extra == 0 {
-        usize::MAX
-    } else {
-        (body / extra).max(1)
-    };
+    let every = body.checked_div(extra).map_or(usize::MAX, |e| e.max(1));
     let mut extras_left = extra;
     for (i, l) in lines.iter().enumerate() {
         if extras_left > 0 && i % every == 0 {
