@@ -3,7 +3,7 @@
 //! compiles it to [`Code`]. Runs once, before any evaluation; all errors it
 //! finds are reported together.
 
-use std::collections::HashMap;
+use rustc_hash::FxHashMap as HashMap;
 use std::sync::Arc;
 
 use sheaf_grammar::{
@@ -71,7 +71,7 @@ pub struct Checked {
 pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
     let mut diags = Vec::new();
     let mut nodes: Vec<Node> = Vec::new();
-    let mut names: HashMap<String, usize> = HashMap::new();
+    let mut names: HashMap<String, usize> = HashMap::default();
     let mut exprs: Vec<(&Expr, Option<&Expr>, Option<&UnitExpr>)> = Vec::new();
 
     // 1. Collect named nodes and checks.
@@ -150,6 +150,7 @@ pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
 
     // 2. Dependencies (by name), unknown names.
     let mut refs_of: Vec<Vec<(usize, Span)>> = Vec::with_capacity(nodes.len());
+    let mut all_deps: Vec<Vec<usize>> = Vec::with_capacity(nodes.len());
     for (idx, (value, right, _)) in exprs.iter().enumerate() {
         let mut refs = Vec::new();
         collect_names(value, &mut refs);
@@ -168,12 +169,16 @@ pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
                 diags.push(unknown_name(name, span, &names));
             }
         }
-        nodes[idx].deps = deps;
+        all_deps.push(deps);
         refs_of.push(dep_spans);
     }
 
     // 3. Order; cycles.
-    let order = match graph::topo_order(&nodes.iter().map(|n| n.deps.clone()).collect::<Vec<_>>()) {
+    let order = graph::topo_order(&all_deps);
+    for (node, deps) in nodes.iter_mut().zip(all_deps) {
+        node.deps = deps;
+    }
+    let order = match order {
         Ok(o) => o,
         Err(cycle) => {
             diags.push(cycle_diagnostic(&cycle, &nodes, &refs_of));
@@ -189,6 +194,8 @@ pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
         displays: vec![None; nodes.len()],
         diags: Vec::new(),
         last_operand: None,
+        last_display: None,
+        unit_cache: HashMap::default(),
     };
     for &i in &order {
         let (value, right, unit) = exprs[i];
@@ -206,9 +213,7 @@ pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
             }
         };
         cx.types[i] = ty;
-        if let DisplayUnit::Fixed { text, .. } = &display {
-            cx.displays[i] = Some(text.clone());
-        }
+        cx.displays[i] = cx.last_display.take();
         nodes[i].ty = ty;
         nodes[i].code = code;
         nodes[i].display = display;
@@ -302,10 +307,14 @@ struct Cx<'a> {
     names: &'a HashMap<String, usize>,
     types: Vec<Ty>,
     /// Fixed display unit text of nodes checked so far (for messages).
-    displays: Vec<Option<String>>,
+    displays: Vec<Option<Span>>,
+    /// Span of the unit text the last `display_unit` call fixed.
+    last_display: Option<Span>,
     diags: Vec<Diagnostic>,
     /// Operand quantity of the last comparison checked.
     last_operand: Option<QTy>,
+    /// Units resolved so far, by their text (worksheets repeat a few units).
+    unit_cache: HashMap<&'a str, Unit>,
 }
 
 /// Static result of an expression.
@@ -379,8 +388,17 @@ impl Cx<'_> {
     }
 
     fn unit(&mut self, u: &UnitExpr) -> Option<Unit> {
+        let text = u.span.slice(self.src);
+        if let Some(unit) = self.unit_cache.get(text) {
+            return Some(*unit);
+        }
         match units::resolve(u) {
-            Ok(unit) => Some(unit),
+            Ok(unit) => {
+                if !text.is_empty() {
+                    self.unit_cache.insert(text, unit);
+                }
+                Some(unit)
+            }
             Err(err) => {
                 let mut d = Diagnostic::error(err.message, err.span).with_label("unknown unit");
                 if let Some(s) = err.suggestion {
@@ -398,7 +416,11 @@ impl Cx<'_> {
     fn side(&self, e: &Expr, q: QTy) -> String {
         let written = match &inner(e).kind {
             ExprKind::Number { unit: Some(u), .. } => Some(u.span.slice(self.src).to_string()),
-            ExprKind::Name(n) => self.names.get(n).and_then(|&i| self.displays[i].clone()),
+            ExprKind::Name(n) => self
+                .names
+                .get(n)
+                .and_then(|&i| self.displays[i])
+                .map(|s| normalise_unit_text(s.slice(self.src))),
             _ => None,
         };
         match written {
@@ -783,6 +805,7 @@ impl Cx<'_> {
                     ));
                 }
             }
+            self.last_display = Some(ann.span);
             return DisplayUnit::Fixed {
                 unit,
                 text: text_of(ann),
@@ -803,6 +826,7 @@ impl Cx<'_> {
                         && !(q.aff == Affinity::Difference
                             && unit.affinity == Affinity::Absolute) =>
                 {
+                    self.last_display = Some(u.span);
                     DisplayUnit::Fixed {
                         unit,
                         text: text_of(u),
@@ -1025,7 +1049,7 @@ fn rational(x: f64) -> Option<(i32, i32)> {
 /// Check a statement of a worksheet-independent expression (for `eval` and
 /// `--set`): only built-in constants may be referenced.
 pub fn check_standalone(e: &Expr, src: &str) -> Result<(Ty, Code), Vec<Diagnostic>> {
-    let names = HashMap::new();
+    let names = HashMap::default();
     let mut refs = Vec::new();
     collect_names(e, &mut refs);
     let mut diags: Vec<Diagnostic> = refs
@@ -1040,6 +1064,8 @@ pub fn check_standalone(e: &Expr, src: &str) -> Result<(Ty, Code), Vec<Diagnosti
         displays: Vec::new(),
         diags: Vec::new(),
         last_operand: None,
+        last_display: None,
+        unit_cache: HashMap::default(),
     };
     let (ty, code) = cx.expr(e);
     diags.extend(cx.diags);

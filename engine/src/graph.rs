@@ -52,10 +52,11 @@ pub fn topo_order(deps: &[Vec<usize>]) -> Result<Vec<usize>, Vec<usize>> {
     }
 }
 
-/// Reverse edges: `users[i]` lists the nodes that read node `i`.
-pub fn users(deps: &[Vec<usize>]) -> Vec<Vec<usize>> {
+/// Reverse edges: `users[i]` lists the nodes that read node `i`, given
+/// each node's dependencies in node order.
+pub fn users<'a>(deps: impl ExactSizeIterator<Item = &'a [usize]>) -> Vec<Vec<usize>> {
     let mut users = vec![Vec::new(); deps.len()];
-    for (i, ds) in deps.iter().enumerate() {
+    for (i, ds) in deps.enumerate() {
         for &d in ds {
             users[d].push(i);
         }
@@ -107,7 +108,7 @@ mod tests {
     fn downstream_only() {
         // 1 uses 0, 2 uses 1, 3 uses nothing
         let deps = vec![vec![], vec![0], vec![1], vec![]];
-        let u = users(&deps);
+        let u = users(deps.iter().map(Vec::as_slice));
         let mut dirty = vec![false; 4];
         mark_downstream(&u, 1, &mut dirty);
         assert_eq!(dirty, vec![false, true, true, false]);

@@ -44,9 +44,8 @@ impl Model {
             .map_err(|es| es.into_iter().map(Diagnostic::from).collect::<Vec<_>>())?;
         let checked = check::check(&worksheet, &source)?;
         let n = checked.nodes.len();
-        let deps: Vec<Vec<usize>> = checked.nodes.iter().map(|n| n.deps.clone()).collect();
         Ok(Model {
-            users: graph::users(&deps),
+            users: graph::users(checked.nodes.iter().map(|n| n.deps.as_slice())),
             source,
             worksheet,
             checked,

@@ -16,6 +16,7 @@
 //! - gauge pressures: absolute = gauge + one standard atmosphere, with the
 //!   atmosphere from uom (`pressure::atmosphere`, 101325 Pa).
 
+use std::collections::HashMap;
 use std::sync::OnceLock;
 
 use uom::{ConstantOp, Conversion};
@@ -387,11 +388,35 @@ pub(crate) fn entries() -> &'static [Entry] {
     TABLE.get_or_init(build)
 }
 
+/// Symbol and alias -> row (built once; the first row wins, as in a scan
+/// of the table).
+fn index() -> &'static HashMap<&'static str, &'static Entry> {
+    static INDEX: OnceLock<HashMap<&'static str, &'static Entry>> = OnceLock::new();
+    INDEX.get_or_init(|| {
+        let mut map = HashMap::new();
+        for e in entries() {
+            for s in std::iter::once(&e.symbol).chain(e.aliases.iter()) {
+                map.entry(*s).or_insert(e);
+            }
+        }
+        map
+    })
+}
+
 /// Find a row by its symbol or an alias (exact, case-sensitive).
 pub(crate) fn find(symbol: &str) -> Option<&'static Entry> {
-    entries()
-        .iter()
-        .find(|e| e.symbol == symbol || e.aliases.contains(&symbol))
+    index().get(symbol).copied()
+}
+
+/// The first prefixable row with this symbol or alias.
+fn find_prefixable(symbol: &str) -> Option<&'static Entry> {
+    match find(symbol) {
+        Some(e) if e.prefixable => Some(e),
+        Some(_) => entries()
+            .iter()
+            .find(|e| e.prefixable && (e.symbol == symbol || e.aliases.contains(&symbol))),
+        None => None,
+    }
 }
 
 /// A looked-up symbol: the row, plus the power of ten of a prefix.
@@ -402,9 +427,7 @@ pub(crate) fn find_prefixed(symbol: &str) -> Option<(&'static Entry, i32)> {
     for p in PREFIXES {
         if let Some(rest) = symbol.strip_prefix(p.symbol)
             && !rest.is_empty()
-            && let Some(e) = entries()
-                .iter()
-                .find(|e| e.prefixable && (e.symbol == rest || e.aliases.contains(&rest)))
+            && let Some(e) = find_prefixable(rest)
         {
             return Some((e, p.exp));
         }
