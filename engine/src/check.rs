@@ -151,7 +151,7 @@ pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
     // 2. Dependencies (by name), unknown names.
     let mut refs_of: Vec<Vec<(usize, Span)>> = Vec::with_capacity(nodes.len());
     let mut all_deps: Vec<Vec<usize>> = Vec::with_capacity(nodes.len());
-    for (idx, (value, right, _)) in exprs.iter().enumerate() {
+    for (value, right, _) in &exprs {
         let mut refs = Vec::new();
         collect_names(value, &mut refs);
         if let Some(r) = right {
