@@ -107,7 +107,7 @@ mod tests {
     #[test]
     fn downstream_only() {
         // 1 uses 0, 2 uses 1, 3 uses nothing
-        let deps = vec![vec![], vec![0], vec![1], vec![]];
+        let deps = [vec![], vec![0], vec![1], vec![]];
         let u = users(deps.iter().map(Vec::as_slice));
         let mut dirty = vec![false; 4];
         mark_downstream(&u, 1, &mut dirty);
