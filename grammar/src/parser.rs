@@ -282,9 +282,68 @@ fn parse_line(src: &str, norm: &str, l: Logical) -> Result<ParsedLine, ParseErro
     }
 
     let depth = prescan(text, l.start, true)?;
+    if depth <= INLINE_DEPTH
+        && let Some(p) = fast_statement(src, text, l.start, content)
+    {
+        return Ok(p);
+    }
     with_stack(depth, span, || {
         parse_statement(src, text, l.start, content, span)
     })
+}
+
+/// The statement kind chosen by the first word of a statement line, or
+/// `None` for `input =` / `input :` and the like (a keyword error).
+fn dispatch(content: &str) -> Option<Ctx> {
+    let word_len = content
+        .bytes()
+        .take_while(|b| b.is_ascii_alphanumeric() || *b == b'_')
+        .count();
+    let ctx = match &content[..word_len] {
+        "input" => Ctx::Input,
+        "check" => Ctx::Check,
+        "meta" => Ctx::Meta,
+        _ => Ctx::Define,
+    };
+    if ctx != Ctx::Define {
+        let after = content[word_len..].trim_start();
+        if (after.starts_with('=') && !after.starts_with("==")) || after.starts_with(':') {
+            return None;
+        }
+    }
+    Some(ctx)
+}
+
+/// The statement kind a fast-path rule stands for.
+fn fast_ctx(rule: Rule) -> Option<Ctx> {
+    match rule {
+        Rule::f_meta => Some(Ctx::Meta),
+        Rule::f_input => Some(Ctx::Input),
+        Rule::f_check => Some(Ctx::Check),
+        Rule::f_define => Some(Ctx::Define),
+        _ => None,
+    }
+}
+
+/// Parses one statement line (prescanned, depth at most [`INLINE_DEPTH`])
+/// with the fast-path rules. `None` means "not known to be good": the
+/// caller then parses the line with the entry rules, which also word any
+/// error.
+fn fast_statement(src: &str, text: &str, start: usize, content: &str) -> Option<ParsedLine> {
+    let ctx = dispatch(content)?;
+    let pairs = WsParser::parse(Rule::f_lines, text).ok()?;
+    let b = Builder { base: start, src };
+    let mut stmt = None;
+    for p in pairs.into_iter().next()?.into_inner() {
+        if p.as_rule() == Rule::EOI {
+            continue;
+        }
+        if stmt.is_some() || fast_ctx(p.as_rule()) != Some(ctx) {
+            return None;
+        }
+        stmt = Some(b.statement(p, ctx).ok()?);
+    }
+    stmt
 }
 
 fn parse_statement(
@@ -526,15 +585,15 @@ impl Builder<'_> {
             let sp = self.span(&p);
             match p.as_rule() {
                 Rule::EOI => continue,
-                Rule::trailing_comment => {
+                Rule::trailing_comment | Rule::f_comment => {
                     trailing_comment = Some(sp);
                     continue;
                 }
                 Rule::ident => ident = Some(self.ident(p)?),
-                Rule::expr => exprs.push(self.expr(p)?.0),
+                Rule::expr | Rule::f_expr => exprs.push(self.expr(p)?.0),
                 Rule::unit_loose => unit = Some(self.unit(p)?.0),
-                Rule::string => strings.push(self.string(p)?),
-                Rule::cmp_op => op = Some((cmp_op(&p), sp)),
+                Rule::string | Rule::f_string => strings.push(self.string(p)?),
+                Rule::cmp_op | Rule::f_cmp => op = Some((cmp_op(&p), sp)),
                 _ => {}
             }
             start.get_or_insert(sp.start);
@@ -641,10 +700,25 @@ impl Builder<'_> {
                     });
                     continue;
                 }
-                Rule::postfix => {
+                Rule::f_prefix => {
+                    ops.push(StackOp::Prefix {
+                        neg: p.as_str() == "-",
+                        span: sp,
+                    });
+                    continue;
+                }
+                Rule::postfix | Rule::f_postfix => {
                     out.push(self.postfix(p)?);
                     continue;
                 }
+                Rule::f_binop => match p.as_str() {
+                    "+" => BinOp::Add,
+                    "-" => BinOp::Sub,
+                    "*" => BinOp::Mul,
+                    "/" => BinOp::Div,
+                    "^" => BinOp::Pow,
+                    _ => return Err(internal(sp)),
+                },
                 Rule::add => BinOp::Add,
                 Rule::sub => BinOp::Sub,
                 Rule::mul => BinOp::Mul,
@@ -786,7 +860,7 @@ impl Builder<'_> {
                     d,
                 ))
             }
-            Rule::string => {
+            Rule::string | Rule::f_string => {
                 let s = self.string(p)?;
                 Ok((
                     Expr {
@@ -809,13 +883,13 @@ impl Builder<'_> {
                     0,
                 ))
             }
-            Rule::paren => {
-                let mut open = span;
+            Rule::paren | Rule::f_paren => {
+                let mut open = Span::new(span.start, span.start + 1);
                 let mut inner = None;
                 for q in p.into_inner() {
                     match q.as_rule() {
                         Rule::lparen => open = self.span(&q),
-                        Rule::expr => inner = Some(self.expr(q)?),
+                        Rule::expr | Rule::f_expr => inner = Some(self.expr(q)?),
                         _ => {}
                     }
                 }
@@ -831,51 +905,81 @@ impl Builder<'_> {
                     d,
                 ))
             }
-            Rule::call => {
-                let mut func = None;
-                let mut args = Vec::new();
-                let mut depth = 0;
-                for q in p.into_inner() {
-                    match q.as_rule() {
-                        Rule::ident => func = Some(self.ident(q)?),
-                        Rule::arg => {
-                            let aspan = self.span(&q);
-                            let mut name = None;
-                            let mut value = None;
-                            for r in q.into_inner() {
-                                match r.as_rule() {
-                                    Rule::ident => name = Some(self.ident(r)?),
-                                    Rule::expr => value = Some(self.expr(r)?),
-                                    _ => {}
-                                }
-                            }
-                            let Some((value, d)) = value else {
-                                return Err(internal(aspan));
-                            };
-                            depth = depth.max(d);
-                            args.push(Arg {
-                                name,
-                                value,
-                                span: aspan,
-                            });
-                        }
-                        _ => {}
-                    }
-                }
-                let Some(func) = func else {
+            Rule::f_call => {
+                let mut inner = p.into_inner();
+                let Some(id) = inner.next() else {
                     return Err(internal(span));
                 };
-                let d = self.check_depth(depth + 1, func.span)?;
-                Ok((
-                    Expr {
-                        kind: ExprKind::Call { func, args },
-                        span,
-                    },
-                    d,
-                ))
+                let id = self.ident(id)?;
+                match inner.next() {
+                    // A name: no argument list.
+                    None => Ok((
+                        Expr {
+                            kind: ExprKind::Name(id.name),
+                            span,
+                        },
+                        0,
+                    )),
+                    Some(args) => self.call(id, args.into_inner(), span),
+                }
+            }
+            Rule::call => {
+                let mut inner = p.into_inner();
+                let Some(id) = inner.next() else {
+                    return Err(internal(span));
+                };
+                let id = self.ident(id)?;
+                self.call(id, inner, span)
             }
             _ => Err(internal(span)),
         }
+    }
+
+    /// A call of `func` with the argument pairs in `args` (other pairs, such
+    /// as parentheses and commas, are skipped).
+    fn call(
+        &self,
+        func: Ident,
+        args: pest::iterators::Pairs<'_, Rule>,
+        span: Span,
+    ) -> Result<Node, ParseError> {
+        let mut depth = 0;
+        let mut out = Vec::new();
+        for q in args {
+            match q.as_rule() {
+                Rule::arg | Rule::f_arg => {
+                    let aspan = self.span(&q);
+                    let mut name = None;
+                    let mut value = None;
+                    for r in q.into_inner() {
+                        match r.as_rule() {
+                            Rule::ident => name = Some(self.ident(r)?),
+                            Rule::expr | Rule::f_expr => value = Some(self.expr(r)?),
+                            _ => {}
+                        }
+                    }
+                    let Some((value, d)) = value else {
+                        return Err(internal(aspan));
+                    };
+                    depth = depth.max(d);
+                    out.push(Arg {
+                        name,
+                        value,
+                        span: aspan,
+                    });
+                }
+                _ => {}
+            }
+        }
+        let args = out;
+        let d = self.check_depth(depth + 1, func.span)?;
+        Ok((
+            Expr {
+                kind: ExprKind::Call { func, args },
+                span,
+            },
+            d,
+        ))
     }
 
     // ---------------------------------------------------------- units
