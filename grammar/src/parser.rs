@@ -707,8 +707,20 @@ impl Builder<'_> {
                     });
                     continue;
                 }
-                Rule::postfix | Rule::f_postfix => {
+                Rule::postfix => {
                     out.push(self.postfix(p)?);
+                    continue;
+                }
+                // Fast-path operands: a primary, then its fields.
+                Rule::num_lit | Rule::f_string | Rule::f_call | Rule::f_paren => {
+                    out.push(self.primary(p)?);
+                    continue;
+                }
+                Rule::field => {
+                    let Some(base) = out.pop() else {
+                        return Err(internal(sp));
+                    };
+                    out.push(self.field(base, p)?);
                     continue;
                 }
                 Rule::f_binop => match p.as_str() {
@@ -808,24 +820,32 @@ impl Builder<'_> {
         let Some(first) = inner.next() else {
             return Err(internal(Span::default()));
         };
-        let (mut e, mut d) = self.primary(first)?;
+        let mut node = self.primary(first)?;
         for f in inner {
-            let fspan = self.span(&f);
-            let Some(id) = f.into_inner().next() else {
-                return Err(internal(fspan));
-            };
-            let field = self.ident(id)?;
-            d = self.check_depth(d + 1, fspan)?;
-            let span = e.span.join(fspan);
-            e = Expr {
+            node = self.field(node, f)?;
+        }
+        Ok(node)
+    }
+
+    /// `base.field` for a `field` pair.
+    fn field(&self, (e, d): Node, f: Pair<'_, Rule>) -> Result<Node, ParseError> {
+        let fspan = self.span(&f);
+        let Some(id) = f.into_inner().next() else {
+            return Err(internal(fspan));
+        };
+        let field = self.ident(id)?;
+        let d = self.check_depth(d + 1, fspan)?;
+        let span = e.span.join(fspan);
+        Ok((
+            Expr {
                 kind: ExprKind::Field {
                     base: Box::new(e),
                     field,
                 },
                 span,
-            };
-        }
-        Ok((e, d))
+            },
+            d,
+        ))
     }
 
     fn primary(&self, p: Pair<'_, Rule>) -> Result<Node, ParseError> {
