@@ -314,36 +314,21 @@ fn dispatch(content: &str) -> Option<Ctx> {
     Some(ctx)
 }
 
-/// The statement kind a fast-path rule stands for.
-fn fast_ctx(rule: Rule) -> Option<Ctx> {
-    match rule {
-        Rule::f_meta => Some(Ctx::Meta),
-        Rule::f_input => Some(Ctx::Input),
-        Rule::f_check => Some(Ctx::Check),
-        Rule::f_define => Some(Ctx::Define),
-        _ => None,
-    }
-}
-
 /// Parses one statement line (prescanned, depth at most [`INLINE_DEPTH`])
 /// with the fast-path rules. `None` means "not known to be good": the
 /// caller then parses the line with the entry rules, which also word any
 /// error.
 fn fast_statement(src: &str, text: &str, start: usize, content: &str) -> Option<ParsedLine> {
     let ctx = dispatch(content)?;
-    let pairs = WsParser::parse(Rule::f_lines, text).ok()?;
+    let rule = match ctx {
+        Ctx::Input => Rule::f_input,
+        Ctx::Check => Rule::f_check,
+        Ctx::Meta => Rule::f_meta,
+        _ => Rule::f_define,
+    };
+    let pairs = WsParser::parse(rule, text).ok()?;
     let b = Builder { base: start, src };
-    let mut stmt = None;
-    for p in pairs.into_iter().next()?.into_inner() {
-        if p.as_rule() == Rule::EOI {
-            continue;
-        }
-        if stmt.is_some() || fast_ctx(p.as_rule()) != Some(ctx) {
-            return None;
-        }
-        stmt = Some(b.statement(p, ctx).ok()?);
-    }
-    stmt
+    b.statement(pairs.into_iter().next()?, ctx).ok()
 }
 
 fn parse_statement(
@@ -585,14 +570,14 @@ impl Builder<'_> {
             let sp = self.span(&p);
             match p.as_rule() {
                 Rule::EOI => continue,
-                Rule::trailing_comment | Rule::f_comment => {
+                Rule::trailing_comment => {
                     trailing_comment = Some(sp);
                     continue;
                 }
                 Rule::ident => ident = Some(self.ident(p)?),
                 Rule::expr | Rule::f_expr => exprs.push(self.expr(p)?.0),
                 Rule::unit_loose => unit = Some(self.unit(p)?.0),
-                Rule::string | Rule::f_string => strings.push(self.string(p)?),
+                Rule::string => strings.push(self.string(p)?),
                 Rule::cmp_op | Rule::f_cmp => op = Some((cmp_op(&p), sp)),
                 _ => {}
             }
@@ -712,7 +697,7 @@ impl Builder<'_> {
                     continue;
                 }
                 // Fast-path operands: a primary, then its fields.
-                Rule::num_lit | Rule::f_string | Rule::f_call | Rule::f_paren => {
+                Rule::num_lit | Rule::string | Rule::f_call | Rule::f_paren => {
                     out.push(self.primary(p)?);
                     continue;
                 }
@@ -880,7 +865,7 @@ impl Builder<'_> {
                     d,
                 ))
             }
-            Rule::string | Rule::f_string => {
+            Rule::string => {
                 let s = self.string(p)?;
                 Ok((
                     Expr {
