@@ -149,28 +149,25 @@ pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
     }
 
     // 2. Dependencies (by name), unknown names.
-    let mut refs_of: Vec<Vec<(usize, Span)>> = Vec::with_capacity(nodes.len());
     let mut all_deps: Vec<Vec<usize>> = Vec::with_capacity(nodes.len());
+    let mut refs = Vec::new();
     for (value, right, _) in &exprs {
-        let mut refs = Vec::new();
+        refs.clear();
         collect_names(value, &mut refs);
         if let Some(r) = right {
             collect_names(r, &mut refs);
         }
         let mut deps = Vec::new();
-        let mut dep_spans = Vec::new();
-        for (name, span) in refs {
+        for &(name, span) in &refs {
             if let Some(&j) = names.get(name) {
                 if !deps.contains(&j) {
                     deps.push(j);
-                    dep_spans.push((j, span));
                 }
             } else if builtins::constant(name).is_none() {
                 diags.push(unknown_name(name, span, &names));
             }
         }
         all_deps.push(deps);
-        refs_of.push(dep_spans);
     }
 
     // 3. Order; cycles.
@@ -181,7 +178,16 @@ pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
     let order = match order {
         Ok(o) => o,
         Err(cycle) => {
-            diags.push(cycle_diagnostic(&cycle, &nodes, &refs_of));
+            let refs_of = |i: usize| {
+                let (value, right, _) = exprs[i];
+                let mut refs = Vec::new();
+                collect_names(value, &mut refs);
+                if let Some(r) = right {
+                    collect_names(r, &mut refs);
+                }
+                refs
+            };
+            diags.push(cycle_diagnostic(&cycle, &nodes, &names, refs_of));
             return Err(diags);
         }
     };
@@ -272,7 +278,12 @@ fn unknown_name(name: &str, span: Span, names: &HashMap<String, usize>) -> Diagn
     }
 }
 
-fn cycle_diagnostic(cycle: &[usize], nodes: &[Node], refs_of: &[Vec<(usize, Span)>]) -> Diagnostic {
+fn cycle_diagnostic<'a>(
+    cycle: &[usize],
+    nodes: &[Node],
+    names: &HashMap<String, usize>,
+    refs_of: impl Fn(usize) -> Vec<(&'a str, Span)>,
+) -> Diagnostic {
     let name = |i: usize| {
         nodes[i]
             .name
@@ -293,8 +304,11 @@ fn cycle_diagnostic(cycle: &[usize], nodes: &[Node], refs_of: &[Vec<(usize, Span
     .with_label(format!("`{}` is part of the cycle", name(first)));
     for (k, &i) in cycle.iter().enumerate() {
         let next = cycle[(k + 1) % cycle.len()];
-        if let Some((_, span)) = refs_of[i].iter().find(|(j, _)| *j == next) {
-            d = d.with_secondary(*span, format!("`{}` uses `{}`", name(i), name(next)));
+        if let Some((_, span)) = refs_of(i)
+            .into_iter()
+            .find(|(n, _)| names.get(*n) == Some(&next))
+        {
+            d = d.with_secondary(span, format!("`{}` uses `{}`", name(i), name(next)));
         }
     }
     d.with_note(
