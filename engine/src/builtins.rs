@@ -380,6 +380,11 @@ pub fn signature(name: &str) -> Option<&'static Signature> {
     SIGNATURES.iter().find(|s| s.name == name)
 }
 
+/// The signature of a built-in.
+pub fn signature_of(b: Builtin) -> Option<&'static Signature> {
+    SIGNATURES.iter().find(|s| s.builtin == b)
+}
+
 /// Names of all functions and constants (for "did you mean").
 pub fn all_names() -> impl Iterator<Item = &'static str> {
     SIGNATURES

@@ -13,7 +13,7 @@ use sheaf_grammar::{
 
 use crate::builtins::{self, Builtin, Signature, TArg};
 use crate::diag::Diagnostic;
-use crate::eval::Code;
+use crate::eval::{CallSpans, Code};
 use crate::graph;
 use crate::thermo::{Field, ModelKind};
 use crate::types::{QTy, Ty, describe_qty};
@@ -601,7 +601,16 @@ impl Cx<'_> {
         }
         match builtins::type_call(sig, &targs) {
             Ok(Ty::Error) => ERR,
-            Ok(ty) => (ty, Code::Call(sig.builtin, codes, span)),
+            Ok(ty) => {
+                let args = bound
+                    .iter()
+                    .map(|a| a.map_or(Span::default(), |e| e.span))
+                    .collect();
+                (
+                    ty,
+                    Code::Call(sig.builtin, codes, CallSpans { call: span, args }),
+                )
+            }
             Err(e) => {
                 let at = e
                     .param

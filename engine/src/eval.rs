@@ -55,8 +55,34 @@ pub enum Code {
     Cmp(CompareOp, Box<Code>, Box<Code>),
     /// Field of a state (span of the field name, for "no quality" errors).
     Field(Box<Code>, Field, Span),
-    /// Built-in call; arguments in parameter order; span of the call.
-    Call(Builtin, Vec<Code>, Span),
+    /// Built-in call; arguments in parameter order; where the call and its
+    /// arguments are written.
+    Call(Builtin, Vec<Code>, CallSpans),
+}
+
+/// Where a call and each of its arguments (in parameter order; an empty
+/// span for an argument not given) are written.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CallSpans {
+    pub call: Span,
+    pub args: Box<[Span]>,
+}
+
+impl CallSpans {
+    /// The span to blame for an error message from a built-in: the
+    /// argument the message starts by naming (`eta` must be ...), else the
+    /// whole call.
+    fn blame(&self, b: Builtin, message: &str) -> Span {
+        let named = builtins::signature_of(b).and_then(|sig| {
+            sig.params
+                .iter()
+                .position(|p| message.starts_with(&format!("`{}`", p.name)))
+        });
+        named
+            .and_then(|i| self.args.get(i).copied())
+            .filter(|s| s.end > s.start)
+            .unwrap_or(self.call)
+    }
 }
 
 /// An evaluation error: where and what.
@@ -181,14 +207,14 @@ fn eval_inner(
                 vals.push(eval_inner(a, slots, span, w)?);
             }
             let v = builtins::call(*b, &vals, w).map_err(|m| EvalError {
-                span: *s,
+                span: s.blame(*b, &m),
                 message: m,
             })?;
             if let Value::Num(x) = v
                 && !x.is_finite()
             {
                 return fail(
-                    *s,
+                    s.call,
                     "the function returned a value that is not a finite number",
                 );
             }
