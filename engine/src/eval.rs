@@ -62,7 +62,7 @@ pub enum Code {
 
 /// Where a call and each of its arguments (in parameter order; an empty
 /// span for an argument not given) are written.
-#[derive(Clone, Debug, PartialEq)]
+#[derive(Clone, Debug, PartialEq, Default)]
 pub struct CallSpans {
     pub call: Span,
     pub args: Box<[Span]>,
