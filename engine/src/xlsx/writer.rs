@@ -3,7 +3,10 @@
 use std::collections::BTreeSet;
 use std::path::Path;
 
-use rust_xlsxwriter::{Color, Format, FormatAlign, FormatBorder, Formula, Workbook, Worksheet};
+use rust_xlsxwriter::{
+    Color, ConditionalFormatText, ConditionalFormatTextRule, Format, FormatAlign, FormatBorder,
+    Formula, Workbook, Worksheet,
+};
 
 use super::formula::{self, Env, Ex, Own, SubSym};
 use super::names::{self, NameKind};
@@ -135,6 +138,18 @@ fn styles() -> Styles {
         small: Format::new().set_font_color(Color::RGB(0x4A_55_60)),
         unit: Format::new().set_indent(1),
     }
+}
+
+/// A failed check turns red when a spreadsheet recomputes it.
+fn fail_highlight() -> ConditionalFormatText {
+    ConditionalFormatText::new()
+        .set_rule(ConditionalFormatTextRule::BeginsWith("FAIL".to_string()))
+        .set_format(
+            Format::new()
+                .set_bold()
+                .set_font_color(Color::White)
+                .set_background_color(Color::RGB(0xB0_00_20)),
+        )
 }
 
 /// Number format showing about four significant figures of `v` (the
@@ -509,6 +524,7 @@ fn package_bytes(model: &Model, info: &PackageInfo) -> Result<Vec<u8>, rust_xlsx
                         let f =
                             Formula::new(format!("IF({},\"pass\",\"FAIL\")", e.text)).set_result(p);
                         calc.write_formula_with_format(row, C_VAL, f, &st.check)?;
+                        calc.add_conditional_format(row, C_VAL, row, C_VAL, &fail_highlight())?;
                         calc.write_string(row, C_BASIS, "formula")?;
                     }
                     (None, Some(p)) => {
@@ -809,6 +825,7 @@ fn package_bytes(model: &Model, info: &PackageInfo) -> Result<Vec<u8>, rust_xlsx
             .map_or("not evaluated", |p| if p { "pass" } else { "FAIL" });
         let f = Formula::new(abs_ref(CALC, *calc_row, C_VAL)).set_result(res);
         cover.write_formula_with_format(cr, 2, f, &st.check)?;
+        cover.add_conditional_format(cr, 2, cr, 2, &fail_highlight())?;
         cr += 1;
     }
     if check_cells.is_empty() {
