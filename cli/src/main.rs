@@ -467,29 +467,11 @@ fn cmd_fmt(file: &Path, write: bool) -> u8 {
         print!("{formatted}");
         return 0;
     }
-    match write_atomic(file, formatted.as_bytes()) {
+    match sheaf_engine::files::write_atomic(file, formatted.as_bytes()) {
         Ok(()) => 0,
         Err(e) => {
             eprintln!("error: cannot write {name}: {e}");
             EXIT_USAGE
         }
     }
-}
-
-/// Write to a temporary file beside the target, then rename over it.
-fn write_atomic(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
-    let dir = path
-        .parent()
-        .filter(|p| !p.as_os_str().is_empty())
-        .unwrap_or(Path::new("."));
-    let file_name = path
-        .file_name()
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_default();
-    let tmp = dir.join(format!(".{file_name}.sheaf-tmp-{}", std::process::id()));
-    let result = std::fs::write(&tmp, bytes).and_then(|()| std::fs::rename(&tmp, path));
-    if result.is_err() {
-        let _ = std::fs::remove_file(&tmp);
-    }
-    result
 }

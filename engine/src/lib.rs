@@ -11,6 +11,7 @@ pub mod builtins;
 pub mod check;
 pub mod diag;
 pub mod eval;
+pub mod files;
 pub mod graph;
 pub mod model;
 pub mod report;
