@@ -172,11 +172,13 @@ fn read(file: &Path) -> Result<String, u8> {
     })
 }
 
-/// Read, parse and check; diagnostics go to stderr.
+/// Read, parse and check; diagnostics go to stderr. Workbooks named in
+/// `cell(...)` are found relative to the worksheet's folder.
 fn load(file: &Path) -> Result<(String, Model), u8> {
     let src = read(file)?;
     let name = file.display().to_string();
-    match Model::new(src.clone()) {
+    let dir = file.parent().map_or_else(PathBuf::new, Path::to_path_buf);
+    match Model::with_base_dir(src.clone(), &dir) {
         Ok(m) => Ok((name, m)),
         Err(diags) => {
             diagnostics::emit(&name, &src, &diags);
@@ -190,21 +192,27 @@ fn load(file: &Path) -> Result<(String, Model), u8> {
     }
 }
 
-fn cmd_run(file: &Path, sets: &[String], format: Format, sig: usize) -> u8 {
-    let (name, mut model) = match load(file) {
-        Ok(x) => x,
-        Err(c) => return c,
-    };
+/// [`load`], then apply `--set NAME=VALUE` overrides.
+fn load_with_sets(file: &Path, sets: &[String]) -> Result<(String, Model), u8> {
+    let (name, mut model) = load(file)?;
     for s in sets {
         let Some((n, v)) = s.split_once('=') else {
             eprintln!("error: --set expects NAME=VALUE (e.g. --set p2=8 barg), got `{s}`");
-            return EXIT_USAGE;
+            return Err(EXIT_USAGE);
         };
         if let Err(e) = model.set_input_text(n.trim(), v.trim()) {
             eprintln!("error: --set {e}");
-            return EXIT_USAGE;
+            return Err(EXIT_USAGE);
         }
     }
+    Ok((name, model))
+}
+
+fn cmd_run(file: &Path, sets: &[String], format: Format, sig: usize) -> u8 {
+    let (name, mut model) = match load_with_sets(file, sets) {
+        Ok(x) => x,
+        Err(c) => return c,
+    };
     model.evaluate();
     let errors = model.runtime_errors();
     if !errors.is_empty() {

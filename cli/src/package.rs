@@ -1,6 +1,6 @@
 //! `sheaf xlsx` and `sheaf pull`: the calculation package.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use sheaf_engine::Model;
 use sheaf_engine::units::format_sig;
@@ -20,23 +20,6 @@ pub const PULL_HELP: &str = "Examples:\n  sheaf pull pump.sheaf --from pump-revi
 sheaf pull pump.sheaf --from pump-reviewed.xlsx --write\n\n\
 Lists the inputs a reviewer changed in the package (old -> new, in the unit shown); --write \
 rewrites only those numbers in the worksheet, keeping every other byte.";
-
-fn load(file: &Path) -> Result<(String, String, Model), u8> {
-    let src = std::fs::read_to_string(file).map_err(|e| {
-        eprintln!("error: cannot read {}: {e}", file.display());
-        EXIT_USAGE
-    })?;
-    let name = file.display().to_string();
-    let dir = file.parent().map_or_else(PathBuf::new, Path::to_path_buf);
-    match Model::with_base_dir(src.clone(), &dir) {
-        Ok(m) => Ok((name, src, m)),
-        Err(diags) => {
-            diagnostics::emit(&name, &src, &diags);
-            eprintln!("{} error(s) in {name}", diags.len());
-            Err(EXIT_ERRORS)
-        }
-    }
-}
 
 /// Today's date (UTC) as YYYY-MM-DD.
 fn today() -> String {
@@ -58,20 +41,10 @@ fn today() -> String {
 }
 
 pub fn cmd_xlsx(file: &Path, out: Option<&Path>, sets: &[String]) -> u8 {
-    let (name, src, mut model) = match load(file) {
+    let (name, mut model) = match crate::load_with_sets(file, sets) {
         Ok(x) => x,
         Err(c) => return c,
     };
-    for s in sets {
-        let Some((n, v)) = s.split_once('=') else {
-            eprintln!("error: --set expects NAME=VALUE (e.g. --set p2=8 barg), got `{s}`");
-            return EXIT_USAGE;
-        };
-        if let Err(e) = model.set_input_text(n.trim(), v.trim()) {
-            eprintln!("error: --set {e}");
-            return EXIT_USAGE;
-        }
-    }
     model.evaluate();
     let errors = model.runtime_errors();
     if !errors.is_empty() {
@@ -84,7 +57,7 @@ pub fn cmd_xlsx(file: &Path, out: Option<&Path>, sets: &[String]) -> u8 {
         source_name: file
             .file_name()
             .map_or(name.clone(), |n| n.to_string_lossy().into_owned()),
-        source_sha256: xlsx::sha256_hex(src.as_bytes()),
+        source_sha256: xlsx::sha256_hex(model.source().as_bytes()),
         tool_version: env!("CARGO_PKG_VERSION").to_string(),
         date: today(),
     };
@@ -101,10 +74,11 @@ pub fn cmd_xlsx(file: &Path, out: Option<&Path>, sets: &[String]) -> u8 {
 }
 
 pub fn cmd_pull(file: &Path, from: &Path, write: bool, force: bool) -> u8 {
-    let (name, src, mut model) = match load(file) {
+    let (name, mut model) = match crate::load(file) {
         Ok(x) => x,
         Err(c) => return c,
     };
+    let src = model.source().to_string();
     model.evaluate();
     let reviewed = match xlsx::read_inputs(from) {
         Ok(r) => r,

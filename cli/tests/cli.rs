@@ -202,3 +202,31 @@ fn units_lists_pressure_units() {
     assert_eq!(o.status.code(), Some(0));
     assert!(stdout(&o).contains("psig"));
 }
+
+#[test]
+fn cell_reads_a_workbook_beside_the_worksheet_whatever_the_working_folder() {
+    // Workbook a.xlsx is written by sheaf itself (its input cell for `len` is
+    // the defined name `i_len`); b.sheaf reads it by that name. Both live in
+    // a temporary folder; sheaf runs from the repository root.
+    let dir = std::env::temp_dir().join(format!("sheaf-cell-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(
+        dir.join("a.sheaf"),
+        "# A\ninput len = 2.5 m\ncheck len > 0 m\n",
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("b.sheaf"),
+        "# B\ninput x = cell(\"a.xlsx\", \"i_len\") * 1 m \"from the basis workbook\"\ncheck x > 0 m\n",
+    )
+    .unwrap();
+    let a = dir.join("a.sheaf");
+    let o = sheaf(&["xlsx", a.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let b = dir.join("b.sheaf");
+    let o = sheaf(&["run", b.to_str().unwrap(), "--format", "json"]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert_eq!(v["quantities"][0]["si_value"].as_f64(), Some(2.5));
+    let _ = std::fs::remove_dir_all(&dir);
+}
