@@ -2,7 +2,7 @@
 
 use serde_json::{Value as Json, json};
 use sheaf_engine::CAUTION;
-use sheaf_engine::report::{Block, CheckRow, GAUGE_NOTE, QuantityRow, Report};
+use sheaf_engine::report::{Block, CheckRow, GAUGE_NOTE, QuantityRow, Report, Shown};
 use sheaf_engine::units::format_sig;
 
 /// Terminal styles; empty strings when colour is off.
@@ -172,7 +172,7 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
                 out.push('\n');
             }
             Block::Check(i) => {
-                out.push_str(&check_line(&report.checks[*i], st));
+                out.push_str(&check_line(&report.checks[*i], st, sig));
             }
         }
     }
@@ -238,14 +238,30 @@ fn state_summary(q: &QuantityRow, sig: usize) -> String {
     format!("[{}]", parts.join(" | "))
 }
 
-fn check_line(c: &CheckRow, st: &Style) -> String {
+/// A value and its unit with `sig` significant figures.
+fn shown(s: &Shown, sig: usize) -> String {
+    let v = format_sig(s.value, sig);
+    if s.unit.is_empty() {
+        v
+    } else {
+        format!("{v} {}", s.unit)
+    }
+}
+
+fn check_line(c: &CheckRow, st: &Style, sig: usize) -> String {
     let verdict = match c.passed {
         Some(true) => format!("{}PASS{}", st.pass, st.reset),
         Some(false) => format!("{}FAIL{}", st.fail, st.reset),
         None => "----".to_string(),
     };
     let values = match (&c.left, &c.right) {
-        (Some(l), Some(r)) => format!("  {}[{l} vs {r}]{}", st.dim, st.reset),
+        (Some(l), Some(r)) => format!(
+            "  {}[{} vs {}]{}",
+            st.dim,
+            shown(l, sig),
+            shown(r, sig),
+            st.reset
+        ),
         _ => String::new(),
     };
     let desc = c
@@ -378,7 +394,13 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
                     "- {v} `{}`{}{}\n\n",
                     c.text,
                     match (&c.left, &c.right) {
-                        (Some(l), Some(r)) => format!(" ({} vs {})", md_escape(l), md_escape(r)),
+                        (Some(l), Some(r)) => {
+                            format!(
+                                " ({} vs {})",
+                                md_escape(&shown(l, sig)),
+                                md_escape(&shown(r, sig))
+                            )
+                        }
                         _ => String::new(),
                     },
                     c.description

@@ -74,10 +74,18 @@ pub struct CheckRow {
     /// None when it could not be evaluated.
     pub passed: Option<bool>,
     pub description: Option<String>,
-    /// Both sides, formatted with 4 significant figures in a common unit.
-    pub left: Option<String>,
-    pub right: Option<String>,
+    /// Both sides in a common display unit (the unit written on the right,
+    /// else on the left, else the left name's display unit).
+    pub left: Option<Shown>,
+    pub right: Option<Shown>,
     pub node: usize,
+}
+
+/// A value in a display unit, at full precision.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct Shown {
+    pub value: f64,
+    pub unit: String,
 }
 
 impl QuantityRow {
@@ -362,16 +370,12 @@ impl Model {
             if let (Some(lv), Some(rv)) = (lv, rv) {
                 let dim = node.operand.map_or(Dim::NONE, |q| q.dim);
                 let fmt = |x: f64| {
-                    let (v, u) = match (&display, dim == Dim::NONE) {
+                    let (value, unit) = match (&display, dim == Dim::NONE) {
                         (DisplayUnit::Fixed { .. }, _) => shown(&display, dim, x),
                         (DisplayUnit::Auto, true) => (x, String::new()),
                         (DisplayUnit::Auto, false) => units::auto_display(dim, x),
                     };
-                    if u.is_empty() {
-                        units::format_sig(v, 4)
-                    } else {
-                        format!("{} {u}", units::format_sig(v, 4))
-                    }
+                    Shown { value, unit }
                 };
                 left = Some(fmt(lv));
                 right = Some(fmt(rv));
