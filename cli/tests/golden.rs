@@ -57,3 +57,44 @@ fn rendered_diagnostics_match_golden_files() {
     }
     assert!(failures.is_empty(), "{}", failures.join("\n"));
 }
+
+/// Golden reports: the text and Markdown layouts of two example worksheets
+/// (a water/steam calculation with states, and one with a failing check).
+/// Rounded to 4 significant figures, so they do not depend on the last bits
+/// of the platform's libm.
+#[test]
+fn report_layouts_match_golden_files() {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("..");
+    let dir = root.join("tests/golden/reports");
+    let update = std::env::var_os("UPDATE_GOLDEN").is_some();
+    let mut failures = Vec::new();
+    for (sheet, format, ext) in [
+        ("worksheets/tank_heatup.sheaf", "text", "txt"),
+        ("worksheets/tank_heatup.sheaf", "md", "md"),
+        ("worksheets/steam_prv.sheaf", "text", "txt"),
+        ("worksheets/steam_prv.sheaf", "md", "md"),
+    ] {
+        let out = Command::new(env!("CARGO_BIN_EXE_sheaf"))
+            .current_dir(&root)
+            .env("NO_COLOR", "1")
+            .args(["run", sheet, "--format", format])
+            .output()
+            .unwrap();
+        let actual = String::from_utf8_lossy(&out.stdout).into_owned();
+        let stem = Path::new(sheet).file_stem().unwrap().to_str().unwrap();
+        let golden = dir.join(format!("{stem}.{ext}"));
+        if update {
+            std::fs::write(&golden, &actual).unwrap();
+            continue;
+        }
+        let expected = std::fs::read_to_string(&golden)
+            .unwrap_or_else(|_| panic!("missing golden file {}", golden.display()));
+        if expected != actual {
+            failures.push(format!(
+                "--- {}\n=== expected\n{expected}\n=== actual\n{actual}",
+                golden.display()
+            ));
+        }
+    }
+    assert!(failures.is_empty(), "{}", failures.join("\n"));
+}
