@@ -71,8 +71,8 @@ fn report_layouts_match_golden_files() {
     for (sheet, format, ext) in [
         ("worksheets/tank_heatup.sheaf", "text", "txt"),
         ("worksheets/tank_heatup.sheaf", "md", "md"),
-        ("worksheets/steam_prv.sheaf", "text", "txt"),
-        ("worksheets/steam_prv.sheaf", "md", "md"),
+        ("worksheets/feed_pump.sheaf", "text", "txt"),
+        ("worksheets/feed_pump.sheaf", "md", "md"),
     ] {
         let out = Command::new(env!("CARGO_BIN_EXE_sheaf"))
             .current_dir(&root)
