@@ -385,14 +385,6 @@ pub fn signature_of(b: Builtin) -> Option<&'static Signature> {
     SIGNATURES.iter().find(|s| s.builtin == b)
 }
 
-/// Names of all functions and constants (for "did you mean").
-pub fn all_names() -> impl Iterator<Item = &'static str> {
-    SIGNATURES
-        .iter()
-        .map(|s| s.name)
-        .chain(CONSTANTS.iter().map(|c| c.name))
-}
-
 /// An argument after binding, as the typing rule sees it.
 pub struct TArg {
     pub ty: Ty,

@@ -7,8 +7,7 @@ use rustc_hash::FxHashMap as HashMap;
 use std::sync::Arc;
 
 use sheaf_grammar::{
-    Arg, BinOp, Expr, ExprKind, Ident, Span, Statement, StatementKind, StringLit, UnitExpr,
-    Worksheet,
+    Arg, BinOp, Expr, ExprKind, Ident, Span, StatementKind, StringLit, UnitExpr, Worksheet,
 };
 
 use crate::builtins::{self, Builtin, Signature, TArg};
@@ -1097,11 +1096,6 @@ pub fn check_standalone(e: &Expr, src: &str) -> Result<(Ty, Code), Vec<Diagnosti
     } else {
         Err(diags)
     }
-}
-
-/// The statement a node came from.
-pub fn statement<'a>(ws: &'a Worksheet, node: &Node) -> Option<&'a Statement> {
-    ws.statements.get(node.stmt)
 }
 
 #[cfg(test)]

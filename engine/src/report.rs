@@ -10,7 +10,7 @@ use crate::eval::{Value, substance_field};
 use crate::model::{Model, Status};
 use crate::thermo::{Field, Substance};
 use crate::types::Ty;
-use crate::units::{self, Affinity, Dim};
+use crate::units::{self, Dim};
 
 /// The safety caution carried by every report and workbook.
 pub const CAUTION: &str = "Caution: sheaf is an engineering aid. Its results must be checked by a qualified \
@@ -422,10 +422,4 @@ pub fn substance_fields(sub: &Substance) -> Vec<(&'static str, Dim, f64, &'stati
         }
     }
     out
-}
-
-/// Whether a value's affinity makes it an absolute reading (for renderers
-/// that want to say so).
-pub fn is_absolute(ty: Ty) -> bool {
-    matches!(ty, Ty::Num(q) if q.aff == Affinity::Absolute)
 }
