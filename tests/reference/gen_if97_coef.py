@@ -7,7 +7,7 @@ region 3). They are read here from the Python package `iapws` (version
 printed in the generated header), module `iapws._iapws97Constants`, which
 holds the same tables; this script only reformats them. Every table is
 checked in the Rust unit tests against the verification values printed in
-the standards, so a transcription error would fail those tests.
+the standards, so a copying error would fail those tests.
 
 Usage: python3 tests/reference/gen_if97_coef.py > engine/src/thermo/if97/coef.rs
 """
