@@ -221,6 +221,24 @@ pub enum ThermoError {
 
 pub type Result<T> = std::result::Result<T, ThermoError>;
 
+/// `t` if it is a finite absolute temperature above 0 K, else an
+/// out-of-range error naming the model and what gave `t`.
+pub(crate) fn positive_t(
+    t: f64,
+    model: impl FnOnce() -> String,
+    what: impl FnOnce() -> String,
+) -> Result<f64> {
+    if t.is_finite() && t > 0.0 {
+        Ok(t)
+    } else {
+        Err(ThermoError::OutOfRange {
+            what: what(),
+            model: model(),
+            range: "T > 0 K".to_string(),
+        })
+    }
+}
+
 /// A substance value of the worksheet language.
 #[derive(Clone, Debug, PartialEq)]
 pub enum Substance {

@@ -90,15 +90,7 @@ impl PerfectGas {
     }
 
     fn positive_t(&self, t: f64, what: impl FnOnce() -> String) -> Result<f64> {
-        if t.is_finite() && t > 0.0 {
-            Ok(t)
-        } else {
-            Err(ThermoError::OutOfRange {
-                what: what(),
-                model: self.model(),
-                range: "T > 0 K".to_string(),
-            })
-        }
+        super::positive_t(t, || self.model(), what)
     }
 
     /// Fix a state: (T, p), (p, h) or (p, s).
