@@ -14,8 +14,10 @@
 //!   the grammar; runs of blanks inside parentheses become one space);
 //! - a unit annotation is written `NAME: UNIT = ...` (like a named argument),
 //!   the unit text as written with runs of blanks reduced to one space;
-//! - a single space before a description string and before a trailing
-//!   `// comment` (both kept);
+//! - descriptions of consecutive inputs, definitions and checks start in
+//!   one column, two spaces after the widest code of the block (code wider
+//!   than 48 characters is followed by a single space); a single space
+//!   before a trailing `// comment`;
 //! - headings as `#`/`##`/`###`, one space, the text; notes (`>`) and
 //!   comments (`//`) verbatim;
 //! - leading indentation and trailing whitespace removed, runs of blank lines
@@ -31,25 +33,116 @@ use crate::parser::parse_lines_norm;
 pub(crate) fn format(src: &str) -> Result<String, Vec<ParseError>> {
     let (norm, lines) = parse_lines_norm(src)?;
     let f = Fmt { norm: &norm };
-    let mut out = String::with_capacity(src.len() + 16);
+    // Render each line as its code part, description and trailing comment;
+    // descriptions are aligned afterwards.
+    let mut rendered: Vec<Rendered> = Vec::with_capacity(lines.len());
     let mut pending_blank = false;
     for line in &lines {
         if line.stmt.kind == StatementKind::Blank {
-            pending_blank = !out.is_empty();
+            pending_blank = !rendered.is_empty();
             continue;
         }
-        if pending_blank {
-            out.push('\n');
-            pending_blank = false;
+        let mut code = String::new();
+        f.statement(&line.stmt, &mut code);
+        let desc = description_of(&line.stmt).map(|d| {
+            let mut q = String::new();
+            push_string(&d.value, &mut q);
+            q
+        });
+        if let Some(q) = &desc {
+            // `statement` wrote " " + the description last; keep it apart.
+            code.truncate(code.len().saturating_sub(q.len() + 1));
         }
-        f.statement(&line.stmt, &mut out);
-        if let Some(c) = line.trailing_comment {
+        rendered.push(Rendered {
+            blank_before: pending_blank,
+            statement: desc.is_some() || is_statement(&line.stmt),
+            code,
+            desc,
+            comment: line
+                .trailing_comment
+                .map(|c| c.slice(&norm).trim_end().to_string()),
+        });
+        pending_blank = false;
+    }
+    let columns = description_columns(&rendered);
+    let mut out = String::with_capacity(src.len() + 16);
+    for (r, col) in rendered.iter().zip(columns) {
+        if r.blank_before {
+            out.push('\n');
+        }
+        out.push_str(&r.code);
+        if let Some(d) = &r.desc {
+            let width = r.code.chars().count();
+            let pad = if width < col { col - width } else { 1 };
+            out.extend(std::iter::repeat_n(' ', pad));
+            out.push_str(d);
+        }
+        if let Some(c) = &r.comment {
             out.push(' ');
-            out.push_str(c.slice(&norm).trim_end());
+            out.push_str(c);
         }
         out.push('\n');
     }
     Ok(out)
+}
+
+/// One formatted line before alignment.
+struct Rendered {
+    blank_before: bool,
+    /// An input, definition or check (these align their descriptions).
+    statement: bool,
+    code: String,
+    desc: Option<String>,
+    comment: Option<String>,
+}
+
+/// Code wider than this does not push the description column of its block
+/// further right; its description follows after one space.
+const ALIGN_LIMIT: usize = 48;
+
+/// The column at which each line's description starts: within a block of
+/// consecutive statements (no blank line, heading, note or comment
+/// between), two spaces after the widest code part of the block that has a
+/// description and is not wider than `ALIGN_LIMIT`.
+fn description_columns(lines: &[Rendered]) -> Vec<usize> {
+    let mut cols = vec![0; lines.len()];
+    let mut start = 0;
+    while start < lines.len() {
+        let mut end = start + 1;
+        if lines[start].statement {
+            while end < lines.len() && lines[end].statement && !lines[end].blank_before {
+                end += 1;
+            }
+        }
+        let col = lines[start..end]
+            .iter()
+            .filter(|l| l.desc.is_some())
+            .map(|l| l.code.chars().count())
+            .filter(|&w| w <= ALIGN_LIMIT)
+            .max()
+            .map_or(0, |w| w + 2);
+        for c in &mut cols[start..end] {
+            *c = col;
+        }
+        start = end;
+    }
+    cols
+}
+
+fn is_statement(st: &Statement) -> bool {
+    matches!(
+        st.kind,
+        StatementKind::Input { .. } | StatementKind::Define { .. } | StatementKind::Check { .. }
+    )
+}
+
+fn description_of(st: &Statement) -> Option<&StringLit> {
+    match &st.kind {
+        StatementKind::Input { description, .. }
+        | StatementKind::Define { description, .. }
+        | StatementKind::Check { description, .. } => description.as_ref(),
+        _ => None,
+    }
 }
 
 struct Fmt<'a> {

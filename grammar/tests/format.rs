@@ -124,10 +124,10 @@ fn canonical_layout() {
                 x: kJ/kg K = 1.005 kJ/(kg K) + -a * f(b, c: d) // hi\n\
                 \n\
                 >  note\n\
-                y = (a) ^ -2 \"desc \\\" q\"\n\
+                y = (a) ^ -2  \"desc \\\" q\"\n\
                 check a <= b\n\
                 meta by = \"A\"\n\
-                input z = 2e5 Pa \"p\"\n";
+                input z = 2e5 Pa  \"p\"\n";
     assert_eq!(fmt(src), want);
     assert_eq!(fmt(want), want);
 }
@@ -167,7 +167,32 @@ fn design_example_round_trip() {
     let out = fmt(src);
     assert_eq!(strip(parse(&out).unwrap()), strip(parse(src).unwrap()));
     assert_eq!(fmt(&out), out);
-    assert!(out.contains("T2: degC = st2.T \"discharge temperature\"\n"));
+    // Descriptions of a block start in one column, two spaces after the
+    // widest code with a description in the block (here T2 is the only one).
+    assert!(
+        out.contains("T2: degC = st2.T  \"discharge temperature\"\n"),
+        "{out}"
+    );
+    assert!(
+        out.contains("input T1 = 24 degC      \"suction temperature\"\n"),
+        "{out}"
+    );
+}
+
+#[test]
+fn descriptions_align_within_a_block() {
+    let src =
+        "input a = 1 m \"first\"\ninput long_name = 2 m \"second\"\nc = a\n\nd = 1 \"alone\"\n";
+    let want = "input a = 1 m          \"first\"\ninput long_name = 2 m  \"second\"\nc = a\n\nd = 1  \"alone\"\n";
+    assert_eq!(fmt(src), want);
+    assert_eq!(fmt(want), want);
+    // Code wider than the limit keeps a single space and does not widen the block.
+    let wide = format!("x = {} \"w\"\ny = 1 \"n\"\n", vec!["a"; 30].join(" + "));
+    let out = fmt(&wide);
+    assert!(
+        out.contains("a \"w\"\n") && out.contains("y = 1  \"n\"\n"),
+        "{out}"
+    );
 }
 
 // ------------------------------------------------------------ generators
