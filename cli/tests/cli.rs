@@ -230,3 +230,30 @@ fn cell_reads_a_workbook_beside_the_worksheet_whatever_the_working_folder() {
     assert_eq!(v["quantities"][0]["si_value"].as_f64(), Some(2.5));
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn fmt_is_stable_on_the_examples_and_keeps_results() {
+    // Formatting an example and formatting the result again give the same
+    // text, and the formatted worksheet evaluates to the same json.
+    let dir = std::env::temp_dir().join(format!("sheaf-fmt-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    for name in ["air_compressor", "steam_turbine", "tank_heatup"] {
+        let src = format!("worksheets/{name}.sheaf");
+        let once = sheaf(&["fmt", &src]);
+        assert_eq!(once.status.code(), Some(0), "{}", stderr(&once));
+        let copy = dir.join(format!("{name}.sheaf"));
+        std::fs::write(&copy, &once.stdout).unwrap();
+        let twice = sheaf(&["fmt", copy.to_str().unwrap()]);
+        assert_eq!(
+            stdout(&twice),
+            stdout(&once),
+            "{name}: fmt is not idempotent"
+        );
+        let a = sheaf(&["run", &src, "--format", "json"]);
+        let b = sheaf(&["run", copy.to_str().unwrap(), "--format", "json"]);
+        let qa: serde_json::Value = serde_json::from_str(&stdout(&a)).unwrap();
+        let qb: serde_json::Value = serde_json::from_str(&stdout(&b)).unwrap();
+        assert_eq!(qa["quantities"], qb["quantities"], "{name}");
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}
