@@ -1,6 +1,28 @@
 //! `sheaf`: the command line. Thin: reads files and arguments, calls the
 //! engine, prints what it returns.
 
+/// Print to stdout; when the reader has gone (a closed pipe, `sheaf units |
+/// head`), stop quietly instead of panicking.
+macro_rules! out {
+    ($($arg:tt)*) => {{
+        use std::io::Write as _;
+        if write!(std::io::stdout().lock(), $($arg)*).is_err() {
+            std::process::exit(0);
+        }
+    }};
+}
+
+/// [`out!`] with a line end.
+macro_rules! outln {
+    () => { out!("\n") };
+    ($($arg:tt)*) => {{
+        use std::io::Write as _;
+        if writeln!(std::io::stdout().lock(), $($arg)*).is_err() {
+            std::process::exit(0);
+        }
+    }};
+}
+
 mod diagnostics;
 mod package;
 mod render;
@@ -222,19 +244,19 @@ fn cmd_run(file: &Path, sets: &[String], format: Format, sig: usize) -> u8 {
     match format {
         Format::Text => {
             let colour = std::io::stdout().is_terminal() && std::env::var_os("NO_COLOR").is_none();
-            print!(
+            out!(
                 "{}",
                 render::text(&report, &name, sig, &render::Style::new(colour))
             );
         }
         Format::Json => match serde_json::to_string_pretty(&render::json(&report)) {
-            Ok(s) => println!("{s}"),
+            Ok(s) => outln!("{s}"),
             Err(e) => {
                 eprintln!("error: {e}");
                 return EXIT_ERRORS;
             }
         },
-        Format::Md => print!("{}", render::markdown(&report, &name, sig)),
+        Format::Md => out!("{}", render::markdown(&report, &name, sig)),
     }
     if !errors.is_empty() {
         EXIT_ERRORS
@@ -250,7 +272,7 @@ fn cmd_check(file: &Path) -> u8 {
         Ok((name, model)) => {
             let count = |k| model.nodes().iter().filter(|n| n.kind == k).count();
             use sheaf_engine::check::NodeKind;
-            println!(
+            outln!(
                 "{name}: ok ({} inputs, {} computed values, {} checks; units consistent)",
                 count(NodeKind::Input),
                 count(NodeKind::Computed),
@@ -338,16 +360,16 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
                 None => units::auto_display(q.dim, si),
             };
             match format {
-                Format::Json => println!(
+                Format::Json => outln!(
                     "{}",
                     json!({"value": shown, "unit": unit_text, "si_value": si, "si_unit": units::si_unit(q.dim)})
                 ),
                 _ => {
                     let v = units::format_sig(shown, sig);
                     if unit_text.is_empty() {
-                        println!("{v}")
+                        outln!("{v}")
                     } else {
-                        println!("{v} {unit_text}")
+                        outln!("{v} {unit_text}")
                     }
                 }
             }
@@ -358,7 +380,7 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
                 eprintln!("error: --in applies to a number; pick a field, e.g. `(...).h`");
                 return EXIT_USAGE;
             }
-            println!("state of {}", sv.sub);
+            outln!("state of {}", sv.sub);
             for f in Field::ALL {
                 if let Some(x) = sv.st.get(f) {
                     let dim = match sheaf_engine::check::field_type(f) {
@@ -366,7 +388,7 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
                         _ => units::Dim::NONE,
                     };
                     let (v, u) = units::auto_display(dim, x);
-                    println!(
+                    outln!(
                         "  .{:<4} {:>12} {:<10} {}",
                         f.name(),
                         units::format_sig(v, sig),
@@ -378,10 +400,10 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
             0
         }
         (_, Value::Substance(sub)) => {
-            println!("{sub}");
+            outln!("{sub}");
             for (n, dim, x, words) in substance_fields(&sub) {
                 let (v, u) = units::auto_display(dim, x);
-                println!(
+                outln!(
                     "  .{n:<4} {:>12} {u:<10} {words}",
                     units::format_sig(v, sig)
                 );
@@ -389,11 +411,11 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
             0
         }
         (_, Value::Bool(b)) => {
-            println!("{b}");
+            outln!("{b}");
             0
         }
         (_, Value::Str(s)) => {
-            println!("\"{s}\"");
+            outln!("\"{s}\"");
             0
         }
         _ => {
@@ -416,7 +438,7 @@ fn cmd_units(word: Option<&str>) -> u8 {
         eprintln!("no unit matches `{}`{hint}", word.unwrap_or(""));
         return EXIT_USAGE;
     }
-    println!("{:<12} {:<34} {:<28} in SI", "symbol", "name", "quantity");
+    outln!("{:<12} {:<34} {:<28} in SI", "symbol", "name", "quantity");
     for u in list {
         let si = units::si_unit(units::lookup(u.symbol).map_or(units::Dim::NONE, |x| x.dim));
         let conv = if u.offset != 0.0 {
@@ -428,7 +450,7 @@ fn cmd_units(word: Option<&str>) -> u8 {
         } else {
             format!("{} {si}", units::format_sig(u.factor, 10))
         };
-        println!(
+        outln!(
             "{:<12} {:<34} {:<28} {conv}{}",
             u.symbol,
             u.name,
@@ -440,20 +462,20 @@ fn cmd_units(word: Option<&str>) -> u8 {
             }
         );
     }
-    println!("\nSI prefixes (k, M, m, µ or u, ...) apply to metric units: kPa, MJ, mm, mL.");
+    outln!("\nSI prefixes (k, M, m, µ or u, ...) apply to metric units: kPa, MJ, mm, mL.");
     0
 }
 
 fn cmd_functions() -> u8 {
-    println!("functions");
+    outln!("functions");
     for s in sheaf_engine::builtins::SIGNATURES {
-        println!("  {:<72} {}", s.usage, s.description);
+        outln!("  {:<72} {}", s.usage, s.description);
     }
-    println!("\nconstants");
+    outln!("\nconstants");
     for c in sheaf_engine::builtins::CONSTANTS {
-        println!("  {:<12} {}", c.name, c.description);
+        outln!("  {:<12} {}", c.name, c.description);
     }
-    println!("\nstate fields: .T .p .h .u .s .v .rho .cp .cv .k .x");
+    outln!("\nstate fields: .T .p .h .u .s .v .rho .cp .cv .k .x");
     0
 }
 
@@ -472,7 +494,7 @@ fn cmd_fmt(file: &Path, write: bool) -> u8 {
         }
     };
     if !write {
-        print!("{formatted}");
+        out!("{formatted}");
         return 0;
     }
     match sheaf_engine::files::write_atomic(file, formatted.as_bytes()) {

@@ -63,7 +63,7 @@ pub fn cmd_xlsx(file: &Path, out: Option<&Path>, sets: &[String]) -> u8 {
     };
     match xlsx::write_package(&model, &info, &out) {
         Ok(()) => {
-            println!("wrote {}", out.display());
+            outln!("wrote {}", out.display());
             0
         }
         Err(e) => {
@@ -118,17 +118,17 @@ pub fn cmd_pull(file: &Path, from: &Path, write: bool, force: bool) -> u8 {
     }
     let changes = xlsx::pull_changes(&model, &reviewed);
     if changes.is_empty() {
-        println!("no input changed in {}", from.display());
+        outln!("no input changed in {}", from.display());
         return 0;
     }
-    println!("inputs changed in {}:", from.display());
+    outln!("inputs changed in {}:", from.display());
     for c in &changes {
         let note = if c.literal.is_none() {
             "  (not a plain number in the worksheet: edit it by hand)"
         } else {
             ""
         };
-        println!(
+        outln!(
             "  {:<16} {} -> {} {}{note}",
             c.name,
             format_sig(c.old, 15),
@@ -137,7 +137,7 @@ pub fn cmd_pull(file: &Path, from: &Path, write: bool, force: bool) -> u8 {
         );
     }
     if !write {
-        println!("(use --write to change {name})");
+        outln!("(use --write to change {name})");
         return 0;
     }
     let new_src = xlsx::rewrite_inputs(&src, &changes);
@@ -149,7 +149,7 @@ pub fn cmd_pull(file: &Path, from: &Path, write: bool, force: bool) -> u8 {
     match xlsx::write_atomic(file, new_src.as_bytes()) {
         Ok(()) => {
             let n = changes.iter().filter(|c| c.literal.is_some()).count();
-            println!("rewrote {n} input(s) in {name}");
+            outln!("rewrote {n} input(s) in {name}");
             0
         }
         Err(e) => {

@@ -257,3 +257,47 @@ fn fmt_is_stable_on_the_examples_and_keeps_results() {
     }
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn a_closed_output_pipe_is_not_a_panic() {
+    // `sheaf run big.sheaf | head -1`: the reader goes away while sheaf is
+    // still writing more than a pipe buffer holds.
+    use std::io::Read;
+    use std::process::Stdio;
+    let dir = std::env::temp_dir().join(format!("sheaf-pipe-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let mut src = String::from("# big\n");
+    for i in 0..4000 {
+        src.push_str(&format!(
+            "input x{i} = {i} kPa \"a long description to fill the pipe quickly\"\n"
+        ));
+    }
+    let file = dir.join("big.sheaf");
+    std::fs::write(&file, src).unwrap();
+    let mut child = Command::new(env!("CARGO_BIN_EXE_sheaf"))
+        .env("NO_COLOR", "1")
+        .args(["run", file.to_str().unwrap()])
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let mut first = [0u8; 16];
+    child
+        .stdout
+        .as_mut()
+        .unwrap()
+        .read_exact(&mut first)
+        .unwrap();
+    drop(child.stdout.take());
+    let mut err = String::new();
+    child
+        .stderr
+        .take()
+        .unwrap()
+        .read_to_string(&mut err)
+        .unwrap();
+    let status = child.wait().unwrap();
+    assert_ne!(status.code(), Some(101), "panicked: {err}");
+    assert!(!err.contains("panicked"), "{err}");
+    let _ = std::fs::remove_dir_all(&dir);
+}
