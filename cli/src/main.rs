@@ -52,7 +52,7 @@ const EXIT_CHECK_FAILED: u8 = 3;
     about = "Unit-checked engineering worksheets with real property models",
     long_about = "sheaf checks every unit of a plain-text worksheet, evaluates it as a dependency graph \
 with ideal-gas, incompressible and IAPWS-IF97 water/steam models, and reports the results.",
-    after_help = "Examples:\n  sheaf run worksheets/air_receiver.sheaf\n  sheaf run pump.sheaf --set p2=12 barg --format json\n  \
+    after_help = "Examples:\n  sheaf run worksheets/air_receiver.sheaf\n  sheaf run pump.sheaf --set 'p2=12 barg' --format json\n  \
 sheaf check pump.sheaf\n  sheaf eval \"14.7 psi\" --in kPa\n  sheaf units pressure\n\n\
 Exit status: 0 fine; 1 the worksheet has errors; 2 usage or file error; 3 a check failed."
 )]
@@ -73,14 +73,14 @@ enum Command {
     /// Check and evaluate a worksheet; print its results.
     #[command(
         after_help = "Examples:\n  sheaf run worksheets/air_receiver.sheaf\n  \
-sheaf run worksheets/air_receiver.sheaf --set V_tank=3 m^3 --set p_set=9 barg\n  \
+sheaf run worksheets/air_receiver.sheaf --set 'V_rec=3 m^3' --set 'p_high=9 barg'\n  \
 sheaf run worksheets/air_receiver.sheaf --format json > results.json\n\n\
 Exit status: 0 all checks pass; 1 errors; 2 usage or file error; 3 a check failed."
     )]
     Run {
         /// The worksheet (.sheaf).
         file: PathBuf,
-        /// Override an input: NAME=VALUE with a unit, e.g. `p2=8 barg`. Repeatable.
+        /// Override an input: NAME=VALUE with a unit, e.g. 'p2=8 barg' (quoted: it has a space). Repeatable.
         #[arg(long = "set", value_name = "NAME=VALUE")]
         set: Vec<String>,
         /// Output format.
@@ -219,7 +219,7 @@ fn load_with_sets(file: &Path, sets: &[String]) -> Result<(String, Model), u8> {
     let (name, mut model) = load(file)?;
     for s in sets {
         let Some((n, v)) = s.split_once('=') else {
-            eprintln!("error: --set expects NAME=VALUE (e.g. --set p2=8 barg), got `{s}`");
+            eprintln!("error: --set expects NAME=VALUE (e.g. --set 'p2=8 barg'), got `{s}`");
             return Err(EXIT_USAGE);
         };
         if let Err(e) = model.set_input_text(n.trim(), v.trim()) {

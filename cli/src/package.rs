@@ -12,7 +12,7 @@ const EXIT_ERRORS: u8 = 1;
 const EXIT_USAGE: u8 = 2;
 
 pub const XLSX_HELP: &str = "Examples:\n  sheaf xlsx worksheets/air_receiver.sheaf\n  \
-sheaf xlsx pump.sheaf -o review/pump-rev-B.xlsx\n  sheaf xlsx pump.sheaf --set p2=12 barg\n\n\
+sheaf xlsx pump.sheaf -o review/pump-rev-B.xlsx\n  sheaf xlsx pump.sheaf --set 'p2=12 barg'\n\n\
 The package has a cover (checks, sign-off fields, caution), the calculation sheet with live \
 formulas on SI cells, and a data sheet with the input values sheaf used.";
 
