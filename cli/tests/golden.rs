@@ -12,6 +12,23 @@ fn golden_dir() -> std::path::PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("../tests/golden/errors")
 }
 
+/// Compare `actual` with the golden file (or rewrite it under
+/// `UPDATE_GOLDEN`); a difference is added to `failures`.
+fn compare(golden: &Path, actual: &str, failures: &mut Vec<String>) {
+    if std::env::var_os("UPDATE_GOLDEN").is_some() {
+        std::fs::write(golden, actual).unwrap();
+        return;
+    }
+    let expected = std::fs::read_to_string(golden)
+        .unwrap_or_else(|_| panic!("missing golden file {}", golden.display()));
+    if expected != actual {
+        failures.push(format!(
+            "--- {}\n=== expected\n{expected}\n=== actual\n{actual}",
+            golden.display()
+        ));
+    }
+}
+
 #[test]
 fn rendered_diagnostics_match_golden_files() {
     let dir = golden_dir();
@@ -26,7 +43,6 @@ fn rendered_diagnostics_match_golden_files() {
         "expected the golden cases, found {}",
         cases.len()
     );
-    let update = std::env::var_os("UPDATE_GOLDEN").is_some();
     let mut failures = Vec::new();
     for case in &cases {
         let file_name = case.file_name().unwrap().to_str().unwrap();
@@ -41,19 +57,7 @@ fn rendered_diagnostics_match_golden_files() {
             out.status.code().unwrap_or(-1),
             String::from_utf8_lossy(&out.stderr)
         );
-        let golden = case.with_extension("stderr");
-        if update {
-            std::fs::write(&golden, &actual).unwrap();
-            continue;
-        }
-        let expected = std::fs::read_to_string(&golden)
-            .unwrap_or_else(|_| panic!("missing golden file {}", golden.display()));
-        if expected != actual {
-            failures.push(format!(
-                "--- {}\n=== expected\n{expected}\n=== actual\n{actual}",
-                golden.display()
-            ));
-        }
+        compare(&case.with_extension("stderr"), &actual, &mut failures);
     }
     assert!(failures.is_empty(), "{}", failures.join("\n"));
 }
@@ -66,7 +70,6 @@ fn rendered_diagnostics_match_golden_files() {
 fn report_layouts_match_golden_files() {
     let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("..");
     let dir = root.join("tests/golden/reports");
-    let update = std::env::var_os("UPDATE_GOLDEN").is_some();
     let mut failures = Vec::new();
     for (sheet, format, ext) in [
         ("worksheets/tank_heatup.sheaf", "text", "txt"),
@@ -82,19 +85,7 @@ fn report_layouts_match_golden_files() {
             .unwrap();
         let actual = String::from_utf8_lossy(&out.stdout).into_owned();
         let stem = Path::new(sheet).file_stem().unwrap().to_str().unwrap();
-        let golden = dir.join(format!("{stem}.{ext}"));
-        if update {
-            std::fs::write(&golden, &actual).unwrap();
-            continue;
-        }
-        let expected = std::fs::read_to_string(&golden)
-            .unwrap_or_else(|_| panic!("missing golden file {}", golden.display()));
-        if expected != actual {
-            failures.push(format!(
-                "--- {}\n=== expected\n{expected}\n=== actual\n{actual}",
-                golden.display()
-            ));
-        }
+        compare(&dir.join(format!("{stem}.{ext}")), &actual, &mut failures);
     }
     assert!(failures.is_empty(), "{}", failures.join("\n"));
 }

@@ -183,19 +183,9 @@ pub(crate) fn parse_expr(src: &str) -> Result<Expr, ParseError> {
 }
 
 fn parse_expr_inner(src: &str) -> Result<Expr, ParseError> {
-    let b = Builder { base: 0, src };
-    let pairs =
-        WsParser::parse(Rule::expr_only, src).map_err(|e| b.pest_error(e, Ctx::Expr, src))?;
-    for p in pairs {
-        if p.as_rule() == Rule::expr_only {
-            for q in p.into_inner() {
-                if q.as_rule() == Rule::expr {
-                    return Ok(b.expr(q)?.0);
-                }
-            }
-        }
-    }
-    Err(internal(Span::new(0, src.len())))
+    parse_entry(src, Rule::expr_only, Rule::expr, Ctx::Expr, |b, q| {
+        Ok(b.expr(q)?.0)
+    })
 }
 
 pub(crate) fn parse_unit(src: &str) -> Result<UnitExpr, ParseError> {
@@ -204,19 +194,30 @@ pub(crate) fn parse_unit(src: &str) -> Result<UnitExpr, ParseError> {
 }
 
 fn parse_unit_inner(src: &str) -> Result<UnitExpr, ParseError> {
+    parse_entry(src, Rule::unit_only, Rule::unit_loose, Ctx::Unit, |b, q| {
+        Ok(b.unit(q)?.0)
+    })
+}
+
+/// Parse `src` with the entry rule `entry` and build the tree of its
+/// `inner` pair (for `parse_expr` and `parse_unit`).
+fn parse_entry<T>(
+    src: &str,
+    entry: Rule,
+    inner: Rule,
+    ctx: Ctx,
+    build: impl FnOnce(&Builder<'_>, Pair<'_, Rule>) -> Result<T, ParseError>,
+) -> Result<T, ParseError> {
     let b = Builder { base: 0, src };
-    let pairs =
-        WsParser::parse(Rule::unit_only, src).map_err(|e| b.pest_error(e, Ctx::Unit, src))?;
-    for p in pairs {
-        if p.as_rule() == Rule::unit_only {
-            for q in p.into_inner() {
-                if q.as_rule() == Rule::unit_loose {
-                    return Ok(b.unit(q)?.0);
-                }
-            }
-        }
+    let pairs = WsParser::parse(entry, src).map_err(|e| b.pest_error(e, ctx, src))?;
+    let found = pairs
+        .filter(|p| p.as_rule() == entry)
+        .flat_map(|p| p.into_inner())
+        .find(|q| q.as_rule() == inner);
+    match found {
+        Some(q) => build(&b, q),
+        None => Err(internal(Span::new(0, src.len()))),
     }
-    Err(internal(Span::new(0, src.len())))
 }
 
 fn internal(span: Span) -> ParseError {
