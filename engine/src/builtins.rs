@@ -278,10 +278,12 @@ pub const SIGNATURES: &[Signature] = &[
             opt("p"),
             opt("h"),
             opt("s"),
-            opt("x")
+            opt("x"),
+            opt("v")
         ],
         "state(gas, T: 300 K, p: 1 bar)",
-        "state fixed by two properties: (T, p), (p, h), (p, s); water also (p, x), (T, x)"
+        "state fixed by two properties: (T, p), (p, h), (p, s); real fluids also (p, x), (T, x) and, \
+         where the fluid supports them, (T, h), (h, s), (T, s), (T, v)"
     ),
     sig!(
         Isentropic,
@@ -621,15 +623,20 @@ pub fn type_call(sig: &Signature, args: &[Option<TArg>]) -> Result<Ty, TypeErr> 
         }
         B::Fluid => {
             let name = string_literal(sig, args, 0)?;
-            if !matches!(name.to_ascii_lowercase().as_str(), "water" | "steam") {
+            if thermo::fluid::fluid(&name).is_none() {
+                let known: Vec<String> = thermo::fluid::FLUIDS
+                    .iter()
+                    .map(|e| format!("\"{}\"", e.names[0]))
+                    .collect();
                 return err_at(
                     0,
                     format!(
-                        "unknown fluid \"{name}\": the real-fluid model available is \"water\" (IAPWS-IF97)"
+                        "unknown fluid \"{name}\": the real fluids available are {}",
+                        known.join(", ")
                     ),
                 );
             }
-            Ty::Substance(ModelKind::Water)
+            Ty::Substance(ModelKind::RealFluid)
         }
         B::PerfectGas => {
             want_num(sig, args, 0, Dim::SPECIFIC_ENTROPY, false)?;
@@ -670,16 +677,22 @@ pub fn type_call(sig: &Signature, args: &[Option<TArg>]) -> Result<Ty, TypeErr> 
             want_num(sig, args, 3, Dim::SPECIFIC_ENERGY, false)?;
             want_num(sig, args, 4, Dim::SPECIFIC_ENTROPY, false)?;
             want_dimensionless(sig, args, 5)?;
+            want_num(sig, args, 6, Dim::SPECIFIC_VOLUME, false)?;
             let spec = spec_kind(args.iter().skip(1).map(Option::is_some)).ok_or_else(|| TypeErr {
-                message: "`state` needs exactly two properties from the pairs (T, p), (p, h), (p, s), (p, x), (T, x)".into(),
+                message: "`state` needs exactly two properties from the pairs (T, p), (p, h), (p, s), (p, x), (T, x), (T, h), (h, s), (T, s), (T, v)".into(),
                 param: None,
             })?;
             match kind {
                 Some(k) if !k.accepts(spec) => {
                     return err_call(format!(
-                        "a state of {} cannot be fixed by {}: quality is defined only for water/steam",
+                        "a state of {} cannot be fixed by {}: {}",
                         k.describe(),
-                        spec_words(spec)
+                        spec_words(spec),
+                        if matches!(spec, SpecKind::PX | SpecKind::TX) {
+                            "quality is defined only for real fluids"
+                        } else {
+                            "this model takes (T, p), (p, h) or (p, s)"
+                        }
                     ));
                 }
                 Some(k) => Ty::State(k),
@@ -795,15 +808,19 @@ fn string_literal(sig: &Signature, args: &[Option<TArg>], i: usize) -> Result<St
     }
 }
 
-/// The property pair from which of (T, p, h, s, x) are given.
+/// The property pair from which of (T, p, h, s, x, v) are given.
 fn spec_kind(given: impl Iterator<Item = bool>) -> Option<SpecKind> {
     let g: Vec<bool> = given.collect();
     match g.as_slice() {
-        [true, true, false, false, false] => Some(SpecKind::TP),
-        [false, true, true, false, false] => Some(SpecKind::PH),
-        [false, true, false, true, false] => Some(SpecKind::PS),
-        [false, true, false, false, true] => Some(SpecKind::PX),
-        [true, false, false, false, true] => Some(SpecKind::TX),
+        [true, true, false, false, false, false] => Some(SpecKind::TP),
+        [false, true, true, false, false, false] => Some(SpecKind::PH),
+        [false, true, false, true, false, false] => Some(SpecKind::PS),
+        [false, true, false, false, true, false] => Some(SpecKind::PX),
+        [true, false, false, false, true, false] => Some(SpecKind::TX),
+        [true, false, true, false, false, false] => Some(SpecKind::TH),
+        [false, false, true, true, false, false] => Some(SpecKind::HS),
+        [true, false, false, true, false, false] => Some(SpecKind::TS),
+        [true, false, false, false, false, true] => Some(SpecKind::TV),
         _ => None,
     }
 }
@@ -815,6 +832,10 @@ fn spec_words(s: SpecKind) -> &'static str {
         SpecKind::PS => "(p, s)",
         SpecKind::PX => "(p, x)",
         SpecKind::TX => "(T, x)",
+        SpecKind::TH => "(T, h)",
+        SpecKind::HS => "(h, s)",
+        SpecKind::TS => "(T, s)",
+        SpecKind::TV => "(T, v)",
     }
 }
 
@@ -939,7 +960,14 @@ pub fn call(b: Builtin, args: &[Value], warnings: &mut Warnings) -> Result<Value
             let g = th(IdealGas::by_name(text(&args[0])?))?;
             Ok(Value::Substance(Arc::new(Substance::IdealGas(g))))
         }
-        B::Fluid => Ok(Value::Substance(Arc::new(Substance::Water))),
+        B::Fluid => {
+            let name = text(&args[0])?;
+            let f =
+                thermo::fluid::fluid(name).ok_or_else(|| format!("unknown fluid \"{name}\""))?;
+            Ok(Value::Substance(Arc::new(Substance::Fluid(
+                thermo::fluid::FluidRef(f),
+            ))))
+        }
         B::PerfectGas => {
             let r = n(0)?;
             let g = match (&args[1], &args[2]) {
@@ -956,7 +984,7 @@ pub fn call(b: Builtin, args: &[Value], warnings: &mut Warnings) -> Result<Value
         B::State => {
             let sub = substance(&args[0])?;
             let g = |i: usize| opt_num(&args[i], f64::NAN);
-            let given: Vec<bool> = args[1..6]
+            let given: Vec<bool> = args[1..7]
                 .iter()
                 .map(|a| !matches!(a, Value::Absent))
                 .collect();
@@ -966,6 +994,10 @@ pub fn call(b: Builtin, args: &[Value], warnings: &mut Warnings) -> Result<Value
                 Some(SpecKind::PS) => Spec::PS { p: g(2)?, s: g(4)? },
                 Some(SpecKind::PX) => Spec::PX { p: g(2)?, x: g(5)? },
                 Some(SpecKind::TX) => Spec::TX { t: g(1)?, x: g(5)? },
+                Some(SpecKind::TH) => Spec::TH { t: g(1)?, h: g(3)? },
+                Some(SpecKind::HS) => Spec::HS { h: g(3)?, s: g(4)? },
+                Some(SpecKind::TS) => Spec::TS { t: g(1)?, s: g(4)? },
+                Some(SpecKind::TV) => Spec::TV { t: g(1)?, v: g(6)? },
                 None => return Err("`state` needs exactly two properties".into()),
             };
             let st = th(sub.state(spec))?;

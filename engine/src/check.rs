@@ -914,6 +914,7 @@ pub fn field_type(f: Field) -> Ty {
         Field::V => Dim::SPECIFIC_VOLUME,
         Field::Rho => Dim::DENSITY,
         Field::K | Field::X => Dim::NONE,
+        Field::W => Dim::VELOCITY,
     };
     Ty::num(dim)
 }

@@ -154,7 +154,7 @@ fn field_dim(f: Field) -> Dim {
 }
 
 /// Fields listed for a state in reports.
-const STATE_FIELDS: [Field; 11] = Field::ALL;
+const STATE_FIELDS: [Field; 12] = Field::ALL;
 
 impl Model {
     /// Build the report of the current values.
@@ -407,6 +407,7 @@ pub fn field_words(f: Field) -> &'static str {
         Field::Cv => "isochoric specific heat",
         Field::K => "ratio of specific heats",
         Field::X => "vapour quality",
+        Field::W => "speed of sound",
     }
 }
 

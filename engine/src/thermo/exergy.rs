@@ -127,7 +127,7 @@ mod tests {
         let ds = ds_ideal_gas(&g, 300.0, 1e5, 600.0, 4e5).unwrap();
         assert!((ds - (1004.5 * 2f64.ln() - 287.0 * 4f64.ln())).abs() < 1e-9);
         assert!((ds - 298.400).abs() < 0.001);
-        assert!(ds_ideal_gas(&Substance::Water, 300.0, 1e5, 400.0, 1e5).is_err());
+        assert!(ds_ideal_gas(&Substance::water(), 300.0, 1e5, 400.0, 1e5).is_err());
         let air = Substance::IdealGas(IdealGas::by_name("air").unwrap());
         assert!(matches!(
             ds_ideal_gas(&air, 300.0, 1e5, 7000.0, 1e5),

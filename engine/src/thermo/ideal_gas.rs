@@ -511,6 +511,7 @@ impl IdealGas {
             cp: Some(cp),
             cv: Some(cp - self.r),
             x: None,
+            w: Some((cp / (cp - self.r) * self.r * t).sqrt()),
         }
     }
 
@@ -619,7 +620,7 @@ impl IdealGas {
                 })?;
                 Ok(self.state_tp(t, p))
             }
-            Spec::PX { .. } | Spec::TX { .. } => Err(quality_unsupported()),
+            other => Err(pair_unsupported(other)),
         }
     }
 
@@ -682,8 +683,16 @@ fn unknown(name: &str) -> ThermoError {
     ))
 }
 
-pub(crate) fn quality_unsupported() -> ThermoError {
-    ThermoError::Unsupported("quality is defined only for water/steam".to_string())
+/// The error for a property pair a gas or liquid model does not take.
+pub(crate) fn pair_unsupported(spec: Spec) -> ThermoError {
+    match spec {
+        Spec::PX { .. } | Spec::TX { .. } => ThermoError::Unsupported(
+            "quality is defined only for real fluids (water/steam, refrigerants)".to_string(),
+        ),
+        _ => ThermoError::Unsupported(
+            "this model takes the pairs (T, p), (p, h) or (p, s)".to_string(),
+        ),
+    }
 }
 
 /// Pressure check shared by the gas and liquid models: finite and positive.
@@ -1088,7 +1097,7 @@ mod tests {
         assert_eq!(
             g.state(Spec::PX { p: 1e5, x: 0.5 }),
             Err(ThermoError::Unsupported(
-                "quality is defined only for water/steam".into()
+                "quality is defined only for real fluids (water/steam, refrigerants)".into()
             ))
         );
         assert!(matches!(

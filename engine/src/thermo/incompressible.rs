@@ -4,7 +4,7 @@
 //! h = c (T − T_ref) + v (p − p_ref); u = c (T − T_ref); s = c ln(T/T_ref);
 //! v = 1/rho; cp = cv = c (k = 1).
 
-use super::ideal_gas::{T_REF, check_p, quality_unsupported};
+use super::ideal_gas::{T_REF, check_p, pair_unsupported};
 use super::process::fmt_num;
 use super::{Result, Spec, State, ThermoError};
 
@@ -64,6 +64,7 @@ impl Incompressible {
             cp: Some(self.c),
             cv: Some(self.c),
             x: None,
+            w: None,
         }
     }
 
@@ -94,7 +95,7 @@ impl Incompressible {
                 let t = self.positive_t(t, || format!("s = {} J/(kg K)", fmt_num(s)))?;
                 Ok(self.state_tp(t, p))
             }
-            Spec::PX { .. } | Spec::TX { .. } => Err(quality_unsupported()),
+            other => Err(pair_unsupported(other)),
         }
     }
 }

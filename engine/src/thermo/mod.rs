@@ -16,6 +16,7 @@
 //! pump, nozzle, throttle) and [`exergy`] the entropy and exergy functions.
 
 pub mod exergy;
+pub mod fluid;
 pub mod ideal_gas;
 pub mod if97;
 pub mod incompressible;
@@ -29,11 +30,43 @@ use std::fmt;
 /// J/kg, s in J/(kg K), x dimensionless (0..=1).
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub enum Spec {
-    TP { t: f64, p: f64 },
-    PH { p: f64, h: f64 },
-    PS { p: f64, s: f64 },
-    PX { p: f64, x: f64 },
-    TX { t: f64, x: f64 },
+    TP {
+        t: f64,
+        p: f64,
+    },
+    PH {
+        p: f64,
+        h: f64,
+    },
+    PS {
+        p: f64,
+        s: f64,
+    },
+    PX {
+        p: f64,
+        x: f64,
+    },
+    TX {
+        t: f64,
+        x: f64,
+    },
+    TH {
+        t: f64,
+        h: f64,
+    },
+    HS {
+        h: f64,
+        s: f64,
+    },
+    TS {
+        t: f64,
+        s: f64,
+    },
+    /// Temperature and specific volume (m^3/kg), e.g. a closed rigid vessel.
+    TV {
+        t: f64,
+        v: f64,
+    },
 }
 
 /// Which property a field access asks for.
@@ -50,10 +83,12 @@ pub enum Field {
     Cv,
     K,
     X,
+    /// Speed of sound.
+    W,
 }
 
 impl Field {
-    pub const ALL: [Field; 11] = [
+    pub const ALL: [Field; 12] = [
         Field::T,
         Field::P,
         Field::H,
@@ -65,6 +100,7 @@ impl Field {
         Field::Cv,
         Field::K,
         Field::X,
+        Field::W,
     ];
 
     pub fn name(self) -> &'static str {
@@ -80,6 +116,7 @@ impl Field {
             Field::Cv => "cv",
             Field::K => "k",
             Field::X => "x",
+            Field::W => "w",
         }
     }
 
@@ -111,6 +148,8 @@ pub struct State {
     pub cv: Option<f64>,
     /// Vapour quality (mass fraction of vapour), for two-phase states.
     pub x: Option<f64>,
+    /// Speed of sound, m/s, for single-phase states of models that give it.
+    pub w: Option<f64>,
 }
 
 impl State {
@@ -131,6 +170,7 @@ impl State {
                 _ => None,
             },
             Field::X => self.x,
+            Field::W => self.w,
         }
     }
 }
@@ -142,7 +182,8 @@ pub enum ModelKind {
     IdealGas,
     PerfectGas,
     Incompressible,
-    Water,
+    /// A fluid by its equation of state (water by IAPWS-IF97, refrigerants).
+    RealFluid,
 }
 
 impl ModelKind {
@@ -151,7 +192,7 @@ impl ModelKind {
             ModelKind::IdealGas => "ideal gas",
             ModelKind::PerfectGas => "perfect gas",
             ModelKind::Incompressible => "incompressible substance",
-            ModelKind::Water => "water/steam (IAPWS-IF97)",
+            ModelKind::RealFluid => "real fluid",
         }
     }
 
@@ -162,15 +203,15 @@ impl ModelKind {
             (
                 ModelKind::IdealGas | ModelKind::PerfectGas | ModelKind::Incompressible,
                 Field::X
-            )
+            ) | (ModelKind::Incompressible, Field::W)
         )
     }
 
     /// Whether this model accepts the property pair (by spec kind).
     pub fn accepts(self, spec: SpecKind) -> bool {
         match self {
-            ModelKind::Water => true,
-            _ => !matches!(spec, SpecKind::PX | SpecKind::TX),
+            ModelKind::RealFluid => true,
+            _ => matches!(spec, SpecKind::TP | SpecKind::PH | SpecKind::PS),
         }
     }
 }
@@ -182,6 +223,10 @@ pub enum SpecKind {
     PS,
     PX,
     TX,
+    TH,
+    HS,
+    TS,
+    TV,
 }
 
 impl Spec {
@@ -192,6 +237,10 @@ impl Spec {
             Spec::PS { .. } => SpecKind::PS,
             Spec::PX { .. } => SpecKind::PX,
             Spec::TX { .. } => SpecKind::TX,
+            Spec::TH { .. } => SpecKind::TH,
+            Spec::HS { .. } => SpecKind::HS,
+            Spec::TS { .. } => SpecKind::TS,
+            Spec::TV { .. } => SpecKind::TV,
         }
     }
 }
@@ -245,16 +294,22 @@ pub enum Substance {
     IdealGas(ideal_gas::IdealGas),
     PerfectGas(perfect_gas::PerfectGas),
     Incompressible(incompressible::Incompressible),
-    Water,
+    /// A real fluid from the registry ([`fluid::FLUIDS`]).
+    Fluid(fluid::FluidRef),
 }
 
 impl Substance {
+    /// Water and steam by IAPWS-IF97.
+    pub fn water() -> Substance {
+        Substance::Fluid(fluid::FluidRef(&if97::Water))
+    }
+
     pub fn kind(&self) -> ModelKind {
         match self {
             Substance::IdealGas(_) => ModelKind::IdealGas,
             Substance::PerfectGas(_) => ModelKind::PerfectGas,
             Substance::Incompressible(_) => ModelKind::Incompressible,
-            Substance::Water => ModelKind::Water,
+            Substance::Fluid(_) => ModelKind::RealFluid,
         }
     }
 
@@ -264,7 +319,7 @@ impl Substance {
             Substance::IdealGas(g) => g.state(spec),
             Substance::PerfectGas(g) => g.state(spec),
             Substance::Incompressible(m) => m.state(spec),
-            Substance::Water => if97::state(spec),
+            Substance::Fluid(f) => f.state(spec),
         }
     }
 
@@ -302,7 +357,7 @@ impl fmt::Display for Substance {
             Substance::IdealGas(g) => write!(f, "ideal gas {}", g.name()),
             Substance::PerfectGas(_) => write!(f, "perfect gas (constant cp)"),
             Substance::Incompressible(_) => write!(f, "incompressible substance"),
-            Substance::Water => write!(f, "water/steam (IAPWS-IF97)"),
+            Substance::Fluid(fl) => f.write_str(fl.describe()),
         }
     }
 }

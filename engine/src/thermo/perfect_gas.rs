@@ -5,7 +5,7 @@
 //! The reference point (298.15 K, 1 bar) matches the ideal-gas model's
 //! enthalpy zero, not its absolute entropy.
 
-use super::ideal_gas::{P_STD, T_REF, check_p, quality_unsupported};
+use super::ideal_gas::{P_STD, T_REF, check_p, pair_unsupported};
 use super::process::fmt_num;
 use super::{Result, Spec, State, ThermoError};
 
@@ -86,6 +86,7 @@ impl PerfectGas {
             cp: Some(self.cp),
             cv: Some(self.cv()),
             x: None,
+            w: Some((self.cp / self.cv() * self.r * t).sqrt()),
         }
     }
 
@@ -116,7 +117,7 @@ impl PerfectGas {
                 })?;
                 Ok(self.state_tp(t, p))
             }
-            Spec::PX { .. } | Spec::TX { .. } => Err(quality_unsupported()),
+            other => Err(pair_unsupported(other)),
         }
     }
 

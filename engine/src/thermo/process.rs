@@ -13,11 +13,6 @@
 
 use super::{Result, Spec, State, Substance, ThermoError};
 
-/// Critical temperature of water, K (IAPWS-IF97, T_c = 647.096 K).
-const WATER_TC: f64 = 647.096;
-/// Critical density of water, kg/m^3 (IAPWS-IF97, rho_c = 322 kg/m^3).
-const WATER_RHOC: f64 = 322.0;
-
 /// A number for a message: up to 6 significant figures, no trailing zeros
 /// ("7000", "0.15", "1.3", "1.23457e+07").
 pub(crate) fn fmt_num(x: f64) -> String {
@@ -138,13 +133,14 @@ pub fn turbine(sub: &Substance, inlet: &State, p2: f64, eta: f64) -> Result<Stat
 }
 
 /// The inlet of a pump must be a liquid. Incompressible models always are;
-/// for water the rule is: not two-phase (x absent or 0), below the critical
-/// temperature, and denser than the critical density (below T_c a liquid's
-/// specific volume is below 1/rho_c and a vapour's above it).
+/// for a real fluid the rule is: not two-phase (x absent or 0), below the
+/// critical temperature, and denser than the critical density (below T_c a
+/// liquid's specific volume is below 1/rho_c and a vapour's above it).
 fn check_liquid(sub: &Substance, inlet: &State) -> Result<()> {
     match sub {
         Substance::Incompressible(_) => Ok(()),
-        Substance::Water => {
+        Substance::Fluid(f) => {
+            let crit = f.critical();
             if let Some(q) = inlet.x
                 && q > 0.0
             {
@@ -153,17 +149,21 @@ fn check_liquid(sub: &Substance, inlet: &State) -> Result<()> {
                     fmt_num(q)
                 )));
             }
-            if inlet.t >= WATER_TC {
+            if inlet.t >= crit.t {
                 return Err(ThermoError::InvalidArgument(format!(
-                    "pump needs a liquid: T = {} K is not below the critical temperature of water (647.096 K)",
-                    fmt_num(inlet.t)
+                    "pump needs a liquid: T = {} K is not below the critical temperature of {} ({} K)",
+                    fmt_num(inlet.t),
+                    f.name(),
+                    fmt_num(crit.t)
                 )));
             }
-            if inlet.v >= 1.0 / WATER_RHOC {
+            if inlet.v >= 1.0 / crit.rho {
                 return Err(ThermoError::InvalidArgument(format!(
-                    "pump needs a liquid: the inlet is vapour (v = {} m^3/kg, above water's critical \
-                     specific volume 1/322 m^3/kg); use compressor for a gas",
-                    fmt_num(inlet.v)
+                    "pump needs a liquid: the inlet is vapour (v = {} m^3/kg, above the critical \
+                     specific volume of {}, 1/{} m^3/kg); use compressor for a gas",
+                    fmt_num(inlet.v),
+                    f.name(),
+                    fmt_num(crit.rho)
                 )));
             }
             Ok(())
@@ -457,13 +457,14 @@ mod tests {
             cp: None,
             cv: None,
             x: None,
+            w: None,
         };
         let two_phase = State {
             x: Some(0.3),
             ..base
         };
         assert!(
-            pump(&Substance::Water, &two_phase, 1e6, 0.8)
+            pump(&Substance::water(), &two_phase, 1e6, 0.8)
                 .unwrap_err()
                 .to_string()
                 .contains("two-phase")
@@ -474,7 +475,7 @@ mod tests {
             ..base
         };
         assert!(
-            pump(&Substance::Water, &vapour, 1e6, 0.8)
+            pump(&Substance::water(), &vapour, 1e6, 0.8)
                 .unwrap_err()
                 .to_string()
                 .contains("vapour")
@@ -485,7 +486,7 @@ mod tests {
             ..base
         };
         assert!(
-            pump(&Substance::Water, &hot, 30e6, 0.8)
+            pump(&Substance::water(), &hot, 30e6, 0.8)
                 .unwrap_err()
                 .to_string()
                 .contains("critical temperature")
@@ -495,7 +496,7 @@ mod tests {
             x: Some(0.0),
             ..base
         };
-        if let Err(e) = pump(&Substance::Water, &liquid, 1e6, 0.8) {
+        if let Err(e) = pump(&Substance::water(), &liquid, 1e6, 0.8) {
             assert!(!e.to_string().contains("pump needs a liquid"), "{e}");
         }
     }
@@ -514,6 +515,7 @@ mod tests {
             cp: None,
             cv: None,
             x: None,
+            w: None,
         };
         let b = State { h: 100e3, ..a };
         assert!((jet_speed(&a, &b, 0.0).unwrap() - 447.2136).abs() < 1e-3);

@@ -37,6 +37,8 @@ pub struct TypedState {
     pub cv: Option<SpecificHeatCapacity>,
     /// Vapour quality, 0..=1, two-phase states only.
     pub x: Option<f64>,
+    /// Speed of sound (single-phase states of models that give it).
+    pub w: Option<Velocity>,
 }
 
 fn k(t: ThermodynamicTemperature) -> f64 {
@@ -75,6 +77,7 @@ impl TypedState {
             cp: st.cp.map(cap),
             cv: st.cv.map(cap),
             x: st.x,
+            w: st.w.map(Velocity::new::<meter_per_second>),
         }
     }
 
@@ -90,6 +93,7 @@ impl TypedState {
             cp: self.cp.map(jkgk),
             cv: self.cv.map(jkgk),
             x: self.x,
+            w: self.w.map(|w| w.get::<meter_per_second>()),
         }
     }
 

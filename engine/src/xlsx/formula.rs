@@ -140,6 +140,10 @@ fn ln(a: &Ex) -> Ex {
 fn exp(a: &Ex) -> Ex {
     Ex::call("EXP", std::slice::from_ref(a))
 }
+/// Speed of sound of a gas, sqrt(cp/cv R T) (engine: same operation order).
+fn gas_w(cp: &Ex, cv: &Ex, r: &Ex, t: &Ex) -> Ex {
+    Ex::call("SQRT", &[mul(&mul(&div(cp, cv), r), t)])
+}
 
 /// A substance as formulas of its parameters.
 #[derive(Clone, Debug, PartialEq)]
@@ -657,6 +661,7 @@ pub fn field_formula(sub: &SubSym, f: Field, own: &Own) -> Option<Ex> {
             Field::Cp => cp.clone(),
             Field::Cv => sub_(cp, r),
             Field::K => div(&d(Field::Cp)?, &d(Field::Cv)?),
+            Field::W => gas_w(&d(Field::Cp)?, &d(Field::Cv)?, r, &d(Field::T)?),
             Field::X => return None,
         }),
         SubSym::Incompressible { c, rho } => Some(match f {
@@ -671,7 +676,7 @@ pub fn field_formula(sub: &SubSym, f: Field, own: &Own) -> Option<Ex> {
             Field::Rho => div(&n(1.0), &d(Field::V)?),
             Field::Cp | Field::Cv => c.clone(),
             Field::K => div(&d(Field::Cp)?, &d(Field::Cv)?),
-            Field::X => return None,
+            Field::X | Field::W => return None,
         }),
         SubSym::Ideal(gas) => {
             let r = Ex::name(gas_r_name(gas));
@@ -694,6 +699,7 @@ pub fn field_formula(sub: &SubSym, f: Field, own: &Own) -> Option<Ex> {
                 Field::Rho => div(&n(1.0), &d(Field::V)?),
                 Field::Cv => sub_(&d(Field::Cp)?, &r),
                 Field::K => div(&d(Field::Cp)?, &d(Field::Cv)?),
+                Field::W => gas_w(&d(Field::Cp)?, &d(Field::Cv)?, &r, &d(Field::T)?),
                 Field::X => return None,
             })
         }

@@ -35,6 +35,7 @@ mod sat;
 #[cfg(test)]
 mod tests;
 
+use super::fluid::{Critical, RealFluid, Saturation};
 use super::{Result, Spec, State, ThermoError};
 use forward::{Props, R3Point, Thermal, region1, region2, region5};
 
@@ -174,6 +175,71 @@ fn check_x(x: f64) -> Result<()> {
 
 // ------------------------------------------------------------ public API
 
+/// Water and steam as a registered real fluid.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Water;
+
+impl RealFluid for Water {
+    fn name(&self) -> &'static str {
+        "water"
+    }
+    fn describe(&self) -> &'static str {
+        MODEL
+    }
+    fn citation(&self) -> &'static str {
+        "IAPWS R7-97(2012), Revised Release on the IAPWS Industrial Formulation 1997 for the \
+         Thermodynamic Properties of Water and Steam, with the backward equations of IAPWS SR3-03(2014)"
+    }
+    fn range(&self) -> &'static str {
+        RANGE
+    }
+    fn reference_state(&self) -> &'static str {
+        "u = 0 and s = 0 for saturated liquid at the triple point (273.16 K)"
+    }
+    fn molar_mass(&self) -> f64 {
+        // IAPWS R7-97(2012) gives R = 461.526 J/(kg K) with R_u = 8.314371 J/(mol K)
+        // (the value used by the formulation): M = R_u / R.
+        M
+    }
+    fn critical(&self) -> Critical {
+        Critical {
+            t: T_CRIT,
+            p: P_CRIT,
+            rho: RHO_CRIT,
+        }
+    }
+    fn state(&self, spec: Spec) -> Result<State> {
+        state(spec)
+    }
+    fn saturation_t(&self, t: f64) -> Result<Saturation> {
+        let p = p_sat(t)?;
+        saturation(t, p)
+    }
+    fn saturation_p(&self, p: f64) -> Result<Saturation> {
+        let t = t_sat(p)?;
+        saturation(t, p)
+    }
+}
+
+/// Molar mass of water, kg/mol: R_u / R with the constants of IF97
+/// (R = 461.526 J/(kg K), R_u = 8.314371 J/(mol K), IAPWS R7-97(2012) Eq. (1)).
+pub const M: f64 = 8.314_371 / R;
+
+/// The saturated pair at (t, p) on the saturation line.
+fn saturation(t: f64, p: f64) -> Result<Saturation> {
+    let (l, v) = sat::sat_props(t, p)?;
+    let on_line = |pr: &Props, x: f64| State {
+        x: Some(x),
+        ..single(pr, p)
+    };
+    Ok(Saturation {
+        t,
+        p,
+        liquid: on_line(&l, 0.0),
+        vapour: on_line(&v, 1.0),
+    })
+}
+
 /// Fix a state of water/steam from a property pair.
 pub fn state(spec: Spec) -> Result<State> {
     match spec {
@@ -182,6 +248,11 @@ pub fn state(spec: Spec) -> Result<State> {
         Spec::PS { p, s } => state_ps(p, s),
         Spec::PX { p, x } => state_px(p, x),
         Spec::TX { t, x } => state_tx(t, x),
+        Spec::TH { .. } | Spec::HS { .. } | Spec::TS { .. } | Spec::TV { .. } => {
+            Err(ThermoError::Unsupported(format!(
+                "{MODEL} takes (T, p), (p, h), (p, s), (p, x) or (T, x)"
+            )))
+        }
     }
 }
 
@@ -294,6 +365,7 @@ fn single(pr: &Props, p: f64) -> State {
         cp: Some(pr.cp),
         cv: Some(pr.cv),
         x: None,
+        w: None,
     }
 }
 
@@ -312,6 +384,7 @@ fn two_phase(t: f64, p: f64, l: &Props, v: &Props, x: f64) -> State {
         cp: None,
         cv: None,
         x: Some(x),
+        w: None,
     }
 }
 
