@@ -26,6 +26,7 @@ macro_rules! outln {
 mod diagnostics;
 mod package;
 mod render;
+mod workbooks;
 
 use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
@@ -200,7 +201,11 @@ fn load(file: &Path) -> Result<(String, Model), u8> {
     let src = read(file)?;
     let name = file.display().to_string();
     let dir = file.parent().map_or_else(PathBuf::new, Path::to_path_buf);
-    match Model::with_base_dir(src.clone(), &dir) {
+    let checked = sheaf_engine::Parsed::new(src.clone()).and_then(|parsed| {
+        let externals = workbooks::read_cells(&dir, &parsed.cell_requests());
+        parsed.check(&externals)
+    });
+    match checked {
         Ok(m) => Ok((name, m)),
         Err(diags) => {
             diagnostics::emit(&name, &src, &diags);
@@ -467,15 +472,33 @@ fn cmd_units(word: Option<&str>) -> u8 {
 }
 
 fn cmd_functions() -> u8 {
-    outln!("functions");
-    for s in sheaf_engine::builtins::SIGNATURES {
-        outln!("  {:<72} {}", s.usage, s.description);
+    use sheaf_engine::builtins::{ALL, Family};
+    for family in [
+        Family::Math,
+        Family::Substances,
+        Family::Devices,
+        Family::SecondLaw,
+        Family::Cells,
+    ] {
+        outln!("{}", family.title());
+        for s in ALL.iter().filter(|b| b.family == family) {
+            outln!("  {:<72} {}", s.usage, s.description);
+        }
+        outln!();
+    }
+    outln!("real fluids (fluid(\"NAME\"))");
+    for e in sheaf_engine::thermo::fluid::FLUIDS {
+        let f = e.fluid;
+        outln!("  {:<16} {}", e.names.join(", "), f.describe());
+        outln!("  {:<16} source: {}", "", f.citation());
+        outln!("  {:<16} range: {}", "", f.range());
+        outln!("  {:<16} reference state: {}", "", f.reference_state());
     }
     outln!("\nconstants");
     for c in sheaf_engine::builtins::CONSTANTS {
         outln!("  {:<12} {}", c.name, c.description);
     }
-    outln!("\nstate fields: .T .p .h .u .s .v .rho .cp .cv .k .x");
+    outln!("\nstate fields: .T .p .h .u .s .v .rho .cp .cv .k .x .w");
     0
 }
 

@@ -212,12 +212,13 @@ fn cell_reads_a_workbook_beside_the_worksheet_whatever_the_working_folder() {
     std::fs::create_dir_all(&dir).unwrap();
     std::fs::write(
         dir.join("a.sheaf"),
-        "# A\ninput len = 2.5 m\ncheck len > 0 m\n",
+        "# A\ninput len = 2.5 m\ninput n = 2\ncheck len > 0 m\n",
     )
     .unwrap();
     std::fs::write(
         dir.join("b.sheaf"),
-        "# B\ninput x = cell(\"a.xlsx\", \"i_len\") * 1 m \"from the basis workbook\"\ncheck x > 0 m\n",
+        "# B\ninput x = cell(\"a.xlsx\", \"i_len\") * 1 m \"from the basis workbook\"\n\
+         area = (x)^cell(\"a.xlsx\", \"i_n\")\ncheck x > 0 m\n",
     )
     .unwrap();
     let a = dir.join("a.sheaf");
@@ -228,6 +229,10 @@ fn cell_reads_a_workbook_beside_the_worksheet_whatever_the_working_folder() {
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
     assert_eq!(v["quantities"][0]["si_value"].as_f64(), Some(2.5));
+    // A cell inside a constant exponent is read before checking, relative
+    // to the worksheet's folder (area = (2.5 m)^2).
+    assert_eq!(v["quantities"][1]["si_value"].as_f64(), Some(6.25));
+    assert_eq!(v["quantities"][1]["si_unit"].as_str(), Some("m^2"));
     let _ = std::fs::remove_dir_all(&dir);
 }
 

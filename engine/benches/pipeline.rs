@@ -8,7 +8,7 @@ use std::hint::black_box;
 use std::time::Duration;
 
 use criterion::{BatchSize, Criterion, SamplingMode, Throughput, criterion_group};
-use sheaf_engine::Model;
+use sheaf_engine::{Externals, Model, Parsed};
 
 #[path = "gen/mod.rs"]
 mod synth;
@@ -26,8 +26,8 @@ fn pipeline(c: &mut Criterion) {
     for n in sizes() {
         let s = synth::worksheet(n, SEED);
         let src = s.source.as_str();
-        let ws = match sheaf_grammar::parse(src) {
-            Ok(ws) => ws,
+        let parsed = match Parsed::new(src) {
+            Ok(p) => p,
             Err(e) => panic!("generated worksheet does not parse: {:?}", e.first()),
         };
         let new_model = || match Model::new(src) {
@@ -76,7 +76,11 @@ fn pipeline(c: &mut Criterion) {
 
         g.bench_function("parse", |b| b.iter(|| sheaf_grammar::parse(black_box(src))));
         g.bench_function("check", |b| {
-            b.iter(|| sheaf_engine::check::check(black_box(&ws), black_box(src)))
+            b.iter_batched(
+                || parsed.clone(),
+                |p| p.check(black_box(&Externals::none())),
+                BatchSize::LargeInput,
+            )
         });
         g.bench_function("evaluate", |b| {
             b.iter_batched(
@@ -154,7 +158,7 @@ fn profile(spec: &str) {
     let reps: usize = parts.next().and_then(|x| x.parse().ok()).unwrap_or(5);
     let s = synth::worksheet(n, SEED);
     let src = s.source.as_str();
-    let Ok(ws) = sheaf_grammar::parse(src) else {
+    let Ok(ws) = Parsed::new(src) else {
         panic!("generated worksheet does not parse")
     };
     let mut best = Duration::MAX;
@@ -166,7 +170,7 @@ fn profile(spec: &str) {
         let t = std::time::Instant::now();
         match phase.as_str() {
             "parse" => drop(black_box(sheaf_grammar::parse(src))),
-            "check" => drop(black_box(sheaf_engine::check::check(&ws, src))),
+            "check" => drop(black_box(ws.clone().check(&Externals::none()))),
             "evaluate" => {
                 if let Some(mut m) = model {
                     black_box(m.evaluate());

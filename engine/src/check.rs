@@ -10,9 +10,10 @@ use sheaf_grammar::{
     Arg, BinOp, Expr, ExprKind, Ident, Span, StatementKind, StringLit, UnitExpr, Worksheet,
 };
 
-use crate::builtins::{self, Builtin, Signature, TArg};
+use crate::builtins::{self, Builtin, TArg};
 use crate::diag::Diagnostic;
 use crate::eval::{CallSpans, Code};
+use crate::externals::Externals;
 use crate::graph;
 use crate::thermo::{Field, ModelKind};
 use crate::types::{QTy, Ty, describe_qty};
@@ -67,7 +68,7 @@ pub struct Checked {
 
 /// Check and compile a parsed worksheet. `src` is the source the spans
 /// point into.
-pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
+pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked, Vec<Diagnostic>> {
     let mut diags = Vec::new();
     let mut nodes: Vec<Node> = Vec::new();
     let mut names: HashMap<String, usize> = HashMap::default();
@@ -201,6 +202,7 @@ pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
         last_operand: None,
         last_display: None,
         unit_cache: HashMap::default(),
+        externals,
     };
     for &i in &order {
         let (value, right, unit) = exprs[i];
@@ -328,6 +330,8 @@ struct Cx<'a> {
     last_operand: Option<QTy>,
     /// Units resolved so far, by their text (worksheets repeat a few units).
     unit_cache: HashMap<&'a str, Unit>,
+    /// Values read by the caller for `cell()` calls.
+    externals: &'a Externals,
 }
 
 /// Static result of an expression.
@@ -558,9 +562,9 @@ impl Cx<'_> {
     }
 
     fn call(&mut self, func: &Ident, args: &[Arg], span: Span) -> Typed {
-        let Some(sig) = builtins::signature(&func.name) else {
+        let Some(sig) = builtins::lookup(&func.name) else {
             let d = Diagnostic::error(format!("unknown function `{}`", func.name), func.span);
-            let d = match closest(&func.name, builtins::SIGNATURES.iter().map(|s| s.name)) {
+            let d = match closest(&func.name, builtins::ALL.iter().map(|s| s.name)) {
                 Some(s) => d.with_note(format!("help: did you mean `{s}`?")),
                 None => d.with_note("help: `sheaf functions` lists the built-in functions"),
             };
@@ -598,17 +602,18 @@ impl Cx<'_> {
                 }
             }
         }
-        match builtins::type_call(sig, &targs) {
+        match (sig.typing)(sig, &targs) {
             Ok(Ty::Error) => ERR,
             Ok(ty) => {
                 let args = bound
                     .iter()
                     .map(|a| a.map_or(Span::default(), |e| e.span))
                     .collect();
-                (
-                    ty,
-                    Code::Call(sig.builtin, codes, CallSpans { call: span, args }),
-                )
+                let spans = CallSpans { call: span, args };
+                if std::ptr::eq(sig, &builtins::cells::CELL) {
+                    return self.external_cell(&targs, spans);
+                }
+                (ty, Code::Call(sig, codes, spans))
             }
             Err(e) => {
                 let at = e
@@ -619,6 +624,25 @@ impl Cx<'_> {
                     Diagnostic::error(e.message, at).with_note(format!("usage: {}", sig.usage)),
                 )
             }
+        }
+    }
+
+    /// A `cell(book, ref)` call (already typed: two string literals)
+    /// compiled to the value the caller read.
+    fn external_cell(&mut self, targs: &[Option<TArg>], spans: CallSpans) -> Typed {
+        let lit = |i: usize| {
+            targs
+                .get(i)
+                .and_then(|a| a.as_ref())
+                .and_then(|a| a.literal.clone())
+                .unwrap_or_default()
+        };
+        match self.externals.cell(&lit(0), &lit(1)) {
+            Ok(v) => (
+                Ty::Num(QTy::DIMENSIONLESS),
+                Code::Call(&builtins::cells::CELL, vec![Code::Const(v)], spans),
+            ),
+            Err(message) => self.error(Diagnostic::error(message, spans.call)),
         }
     }
 
@@ -940,7 +964,7 @@ fn affinity(op: BinOp, a: Affinity, b: Affinity) -> Result<Affinity, &'static st
 /// Bind call arguments to parameters. Returns one entry per parameter (or,
 /// for a variadic function, one per argument).
 fn bind<'a>(
-    sig: &Signature,
+    sig: &Builtin,
     args: &'a [Arg],
     fspan: Span,
     call_span: Span,
@@ -1013,7 +1037,8 @@ fn bind<'a>(
             }
         }
     }
-    if sig.builtin != Builtin::State {
+    // `state` words a missing substance itself.
+    if !std::ptr::eq(sig, &builtins::substances::STATE) {
         for (i, p) in sig.params.iter().enumerate() {
             if p.required && out[i].is_none() {
                 let how = if p.positional {
@@ -1089,6 +1114,7 @@ pub fn check_standalone(e: &Expr, src: &str) -> Result<(Ty, Code), Vec<Diagnosti
         last_operand: None,
         last_display: None,
         unit_cache: HashMap::default(),
+        externals: &Externals::default(),
     };
     let (ty, code) = cx.expr(e);
     diags.extend(cx.diags);
@@ -1129,7 +1155,7 @@ mod tests {
 
     fn checked(src: &str) -> Result<Checked, Vec<Diagnostic>> {
         let ws = sheaf_grammar::parse(src).unwrap();
-        check(&ws, src)
+        check(&ws, src, &Externals::none())
     }
 
     #[test]

@@ -57,7 +57,7 @@ pub enum Code {
     Field(Box<Code>, Field, Span),
     /// Built-in call; arguments in parameter order; where the call and its
     /// arguments are written.
-    Call(Builtin, Vec<Code>, CallSpans),
+    Call(&'static Builtin, Vec<Code>, CallSpans),
 }
 
 /// Where a call and each of its arguments (in parameter order; an empty
@@ -69,16 +69,10 @@ pub struct CallSpans {
 }
 
 impl CallSpans {
-    /// The span to blame for an error message from a built-in: the
-    /// argument the message starts by naming (`eta` must be ...), else the
-    /// whole call.
-    fn blame(&self, b: Builtin, message: &str) -> Span {
-        let named = builtins::signature_of(b).and_then(|sig| {
-            sig.params
-                .iter()
-                .position(|p| message.starts_with(&format!("`{}`", p.name)))
-        });
-        named
+    /// The span to blame for an error from a built-in: the argument at
+    /// fault when the error names one (and it is written), else the call.
+    fn blame(&self, param: Option<usize>) -> Span {
+        param
             .and_then(|i| self.args.get(i).copied())
             .filter(|s| s.end > s.start)
             .unwrap_or(self.call)
@@ -206,9 +200,9 @@ fn eval_inner(
             for a in args {
                 vals.push(eval_inner(a, slots, span, w)?);
             }
-            let v = builtins::call(*b, &vals, w).map_err(|m| EvalError {
-                span: s.blame(*b, &m),
-                message: m,
+            let v = builtins::call(b, &vals, w).map_err(|e| EvalError {
+                span: s.blame(e.param),
+                message: e.message,
             })?;
             if let Value::Num(x) = v
                 && !x.is_finite()

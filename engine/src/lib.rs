@@ -11,6 +11,7 @@ pub mod builtins;
 pub mod check;
 pub mod diag;
 pub mod eval;
+pub mod externals;
 pub mod files;
 pub mod graph;
 pub mod model;
@@ -21,5 +22,6 @@ pub mod units;
 pub mod xlsx;
 
 pub use diag::{Diagnostic, Label, Severity};
-pub use model::{Model, Status};
+pub use externals::{CellRequest, Externals};
+pub use model::{Model, Parsed, Status};
 pub use report::{CAUTION, Report};

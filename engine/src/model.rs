@@ -6,6 +6,7 @@ use sheaf_grammar::{Span, Worksheet};
 use crate::check::{self, Checked, DisplayUnit, Node, NodeKind};
 use crate::diag::Diagnostic;
 use crate::eval::{self, Code, Value};
+use crate::externals::{CellRequest, Externals, cell_requests};
 use crate::graph;
 use crate::types::{QTy, Ty, describe_qty};
 use crate::units::Affinity;
@@ -35,14 +36,54 @@ pub struct Model {
     dirty: Vec<bool>,
 }
 
-impl Model {
-    /// Parse and check a worksheet. All syntax errors, or else all checking
-    /// errors, are returned together.
-    pub fn new(source: impl Into<String>) -> Result<Model, Vec<Diagnostic>> {
+/// A parsed worksheet, not yet checked: the caller may read the external
+/// inputs it asks for ([`Parsed::cell_requests`]) and then check it
+/// ([`Parsed::check`]).
+#[derive(Clone, Debug)]
+pub struct Parsed {
+    source: String,
+    worksheet: Worksheet,
+}
+
+impl Parsed {
+    /// Parse a worksheet. All syntax errors are returned together.
+    pub fn new(source: impl Into<String>) -> Result<Parsed, Vec<Diagnostic>> {
         let source = source.into();
         let worksheet = sheaf_grammar::parse(&source)
             .map_err(|es| es.into_iter().map(Diagnostic::from).collect::<Vec<_>>())?;
-        let checked = check::check(&worksheet, &source)?;
+        Ok(Parsed { source, worksheet })
+    }
+
+    pub fn source(&self) -> &str {
+        &self.source
+    }
+
+    /// The workbook cells the worksheet reads (`cell()` calls).
+    pub fn cell_requests(&self) -> Vec<CellRequest> {
+        cell_requests(&self.worksheet)
+    }
+
+    /// Check and compile, with the values the caller read for the external
+    /// inputs. All checking errors are returned together.
+    pub fn check(self, externals: &Externals) -> Result<Model, Vec<Diagnostic>> {
+        Model::from_parts(self.source, self.worksheet, externals)
+    }
+}
+
+impl Model {
+    /// Parse and check a worksheet that reads no workbook cells (a `cell()`
+    /// call is an error; see [`Parsed`]). All syntax errors, or else all
+    /// checking errors, are returned together.
+    pub fn new(source: impl Into<String>) -> Result<Model, Vec<Diagnostic>> {
+        Parsed::new(source)?.check(&Externals::none())
+    }
+
+    fn from_parts(
+        source: String,
+        worksheet: Worksheet,
+        externals: &Externals,
+    ) -> Result<Model, Vec<Diagnostic>> {
+        let checked = check::check(&worksheet, &source, externals)?;
         let n = checked.nodes.len();
         Ok(Model {
             users: graph::users(checked.nodes.iter().map(|n| n.deps.as_slice())),
@@ -54,20 +95,6 @@ impl Model {
             warnings: vec![Vec::new(); n],
             dirty: vec![true; n],
         })
-    }
-
-    /// Parse and check a worksheet whose `cell("book.xlsx", ...)` paths are
-    /// relative to `dir` (the worksheet's folder). [`Model::new`] resolves
-    /// them against the current directory.
-    pub fn with_base_dir(
-        source: impl Into<String>,
-        dir: &std::path::Path,
-    ) -> Result<Model, Vec<Diagnostic>> {
-        let mut m = Model::new(source)?;
-        for node in &mut m.checked.nodes {
-            resolve_cell_paths(&mut node.code, dir);
-        }
-        Ok(m)
     }
 
     pub fn source(&self) -> &str {
@@ -243,33 +270,6 @@ impl Model {
     /// The display unit chosen for a node.
     pub fn display(&self, node: usize) -> &DisplayUnit {
         &self.checked.nodes[node].display
-    }
-}
-
-/// Make the workbook paths of `cell` calls relative to `dir`.
-fn resolve_cell_paths(code: &mut Code, dir: &std::path::Path) {
-    match code {
-        Code::Call(b, args, _) => {
-            if *b == crate::builtins::Builtin::Cell
-                && let Some(Code::Str(p)) = args.first_mut()
-                && std::path::Path::new(&**p).is_relative()
-            {
-                *p = std::sync::Arc::from(dir.join(&**p).to_string_lossy().as_ref());
-            }
-            for a in args {
-                resolve_cell_paths(a, dir);
-            }
-        }
-        Code::Neg(a) | Code::Field(a, _, _) => resolve_cell_paths(a, dir),
-        Code::Add(a, b) | Code::Sub(a, b) | Code::Mul(a, b) | Code::Cmp(_, a, b) => {
-            resolve_cell_paths(a, dir);
-            resolve_cell_paths(b, dir);
-        }
-        Code::Div(a, b, _) | Code::Pow(a, b, _) => {
-            resolve_cell_paths(a, dir);
-            resolve_cell_paths(b, dir);
-        }
-        Code::Const(_) | Code::Str(_) | Code::Absent | Code::Slot(_) => {}
     }
 }
 

@@ -168,22 +168,26 @@ fn pull_round_trip_equals_editing_the_text() {
 }
 
 #[test]
-fn cell_builtin_reads_workbooks() {
-    let dir = tmp_dir("xlsx-cell");
-    let mut wb = rust_xlsxwriter::Workbook::new();
-    let s = wb.add_worksheet();
-    s.set_name("Site").unwrap();
-    s.write_number(6, 2, 96.5).unwrap();
-    s.write_string(7, 2, "n/a").unwrap();
-    wb.define_name("site_p", "=Site!$C$7").unwrap();
-    wb.save(dir.join("basis.xlsx")).unwrap();
-    std::fs::write(dir.join("bad.xlsx"), b"this is not a zip").unwrap();
-
-    let src = "input p_site = cell(\"basis.xlsx\", \"Site!C7\") * 1 kPa\ninput p_n = cell(\"basis.xlsx\", \"site_p\") * 1 kPa\n";
-    let mut m = Model::with_base_dir(src, &dir).unwrap();
+fn cell_values_come_from_the_caller_before_checking() {
+    // The engine reads no files: the caller reads the cells the worksheet
+    // asks for and hands them in; a failure to read one is a located
+    // check-time error at the call.
+    let src = "input p_site = cell(\"basis.xlsx\", \"Site!C7\") * 1 kPa\n\
+               A = (2 m)^cell(\"basis.xlsx\", \"n\")\n\
+               input p_n = cell(\"basis.xlsx\", \"site_p\") * 1 kPa\n";
+    let parsed = sheaf_engine::Parsed::new(src).unwrap();
+    let req = parsed.cell_requests();
+    assert_eq!(req.len(), 3);
+    let mut ext = sheaf_engine::Externals::none();
+    ext.set_cell("basis.xlsx", "Site!C7", Ok(96.5));
+    ext.set_cell("basis.xlsx", "n", Ok(2.0));
+    ext.set_cell("basis.xlsx", "site_p", Ok(96.5));
+    let mut m = parsed.clone().check(&ext).unwrap();
     m.evaluate();
     assert_eq!(m.number("p_site"), Some(96_500.0));
     assert_eq!(m.number("p_n"), Some(96_500.0));
+    // A cell feeds a constant exponent: (2 m)^2 is an area.
+    assert_eq!(m.number("A"), Some(4.0));
     // Display unit from the literal unit.
     let r = m.report();
     let q = r.blocks.iter().find_map(|b| match b {
@@ -192,26 +196,17 @@ fn cell_builtin_reads_workbooks() {
     });
     assert_eq!(q.unwrap().unit, "kPa");
 
-    for (reference, book, want) in [
-        ("Site!C8", "basis.xlsx", "holds text"),
-        ("Site!C9", "basis.xlsx", "is empty"),
-        ("Plant!C7", "basis.xlsx", "no sheet `Plant`"),
-        ("nothing", "basis.xlsx", "no defined name"),
-        ("Site!C7", "missing.xlsx", "no such file"),
-        ("Site!C7", "bad.xlsx", "not a readable xlsx"),
-    ] {
-        let src = format!("input x = cell(\"{book}\", \"{reference}\") * 1 kPa\n");
-        let mut m = Model::with_base_dir(src, &dir).unwrap();
-        m.evaluate();
-        let errs = m.runtime_errors();
-        assert_eq!(errs.len(), 1, "{reference}");
-        let msg = &errs[0].message;
-        assert!(
-            msg.contains(want) && msg.contains(book),
-            "{reference}: {msg}"
-        );
-        assert!(errs[0].span().is_some());
-    }
+    ext.set_cell("basis.xlsx", "site_p", Err("the cell holds text".into()));
+    let errs = parsed.check(&ext).unwrap_err();
+    assert_eq!(errs.len(), 1);
+    assert_eq!(errs[0].message, "the cell holds text");
+    let span = errs[0].span().unwrap();
+    assert_eq!(
+        &src[span.start..span.end],
+        "cell(\"basis.xlsx\", \"site_p\")"
+    );
+    // Without values (e.g. `sheaf eval`), a cell() call is a located error.
+    assert!(Model::new("input y = cell(\"a.xlsx\", \"A1\")\n").is_err());
     // Typing: the arguments must be string literals.
     assert!(Model::new("input y = cell(2, \"A1\")\n").is_err());
 }

@@ -13,24 +13,27 @@ use super::{Result, State, Substance, ThermoError};
 /// Standard acceleration of gravity, m/s^2 (3rd CGPM 1901; NIST SP 811).
 pub const G_N: f64 = 9.80665;
 
-fn positive_t(name: &str, t: f64) -> Result<()> {
+fn positive_t(name: &'static str, t: f64) -> Result<()> {
     if t.is_finite() && t > 0.0 {
         Ok(())
     } else {
-        Err(ThermoError::InvalidArgument(format!(
-            "`{name}` must be a positive absolute temperature, got {} K",
-            fmt_num(t)
-        )))
+        Err(ThermoError::Parameter {
+            name,
+            message: format!(
+                "must be a positive absolute temperature, got {} K",
+                fmt_num(t)
+            ),
+        })
     }
 }
 
 /// Entropy change of an incompressible substance, J/(kg K): c ln(T2/T1).
 pub fn ds_incompressible(c: f64, t1: f64, t2: f64) -> Result<f64> {
     if !(c.is_finite() && c > 0.0) {
-        return Err(ThermoError::InvalidArgument(format!(
-            "`c` must be positive, got {}",
-            fmt_num(c)
-        )));
+        return Err(ThermoError::Parameter {
+            name: "c",
+            message: format!("must be positive, got {}", fmt_num(c)),
+        });
     }
     positive_t("T1", t1)?;
     positive_t("T2", t2)?;
@@ -73,9 +76,10 @@ pub fn heat_exergy(q: f64, t_b: f64, t0: f64) -> Result<f64> {
     positive_t("T_b", t_b)?;
     positive_t("T0", t0)?;
     if !q.is_finite() {
-        return Err(ThermoError::InvalidArgument(format!(
-            "`Q` must be finite, got {q}"
-        )));
+        return Err(ThermoError::Parameter {
+            name: "Q",
+            message: format!("must be finite, got {q}"),
+        });
     }
     Ok(q * (1.0 - t0 / t_b))
 }

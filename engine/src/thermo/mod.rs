@@ -15,6 +15,7 @@
 //! [`process`] holds the device models (isentropic, compressor, turbine,
 //! pump, nozzle, throttle) and [`exergy`] the entropy and exergy functions.
 
+pub mod consts;
 pub mod exergy;
 pub mod fluid;
 pub mod ideal_gas;
@@ -257,9 +258,13 @@ pub enum ThermoError {
         model: String,
         range: String,
     },
-    /// A bad argument: "`eta` must be in (0, 1], got 1.3".
+    /// A bad argument in general words.
     #[error("{0}")]
     InvalidArgument(String),
+    /// A bad value of one named parameter: "`eta` must be in (0, 1], got
+    /// 1.3" (the caller can point at that argument).
+    #[error("`{name}` {message}")]
+    Parameter { name: &'static str, message: String },
     /// The model cannot do this, e.g. quality for an ideal gas.
     #[error("{0}")]
     Unsupported(String),

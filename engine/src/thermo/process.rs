@@ -56,10 +56,10 @@ fn check_eta(eta: f64) -> Result<()> {
     if eta.is_finite() && eta > 0.0 && eta <= 1.0 {
         Ok(())
     } else {
-        Err(ThermoError::InvalidArgument(format!(
-            "`eta` must be in (0, 1], got {}",
-            fmt_num(eta)
-        )))
+        Err(ThermoError::Parameter {
+            name: "eta",
+            message: format!("must be in (0, 1], got {}", fmt_num(eta)),
+        })
     }
 }
 
@@ -402,7 +402,10 @@ mod tests {
         let e = compressor(&sub, &inlet, 800e3, 1.3).unwrap_err();
         assert_eq!(
             e,
-            ThermoError::InvalidArgument("`eta` must be in (0, 1], got 1.3".into())
+            ThermoError::Parameter {
+                name: "eta",
+                message: "must be in (0, 1], got 1.3".into()
+            }
         );
         for eta in [0.0, -0.5, f64::NAN] {
             assert!(turbine(&sub, &tp(&sub, 900.0, 1e6), 1e5, eta).is_err());

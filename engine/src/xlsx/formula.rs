@@ -13,7 +13,7 @@
 //! inversions, IAPWS-IF97, `cell`) gives `None` and the writer puts the
 //! engine's value in its place.
 
-use crate::builtins::Builtin;
+use crate::builtins::{Builtin, Rule, Sheet};
 use crate::eval::Code;
 use crate::thermo::Field;
 use crate::thermo::exergy::G_N;
@@ -158,7 +158,8 @@ pub enum SubSym {
     },
     /// Ideal gas by canonical name: its polynomial data is on the data sheet.
     Ideal(String),
-    Water,
+    /// A real fluid: no closed form.
+    RealFluid,
 }
 
 /// Where a state's fields come from.
@@ -245,7 +246,7 @@ impl Env<'_> {
                 Ex::bin(&self.num(a)?, sym, &self.num(b)?)
             }
             Code::Field(base, f, _) => self.field(base, *f)?,
-            Code::Call(b, args, _) => self.call(*b, args)?,
+            Code::Call(b, args, _) => self.call(b, args)?,
             Code::Str(_) | Code::Absent => return None,
         })
     }
@@ -267,42 +268,44 @@ impl Env<'_> {
         self.state_field(&st, f)
     }
 
-    fn call(&self, b: Builtin, args: &[Code]) -> Option<Ex> {
-        use Builtin as B;
+    /// A number-valued call, by the built-in's spreadsheet form.
+    fn call(&self, b: &Builtin, args: &[Code]) -> Option<Ex> {
+        match b.sheet {
+            Sheet::Function(name) => {
+                let xs: Option<Vec<Ex>> = args.iter().map(|c| self.num(c)).collect();
+                Some(Ex::call(name, &xs?))
+            }
+            Sheet::Rule(rule) => self.rule(rule, args),
+            Sheet::EngineOnly => None,
+        }
+    }
+
+    /// A number-valued call compiled by a formula rule. Rules of
+    /// substance- and state-valued built-ins give no number.
+    fn rule(&self, rule: Rule, args: &[Code]) -> Option<Ex> {
         let a = |i: usize| args.get(i).and_then(|c| self.num(c));
         let f1 = |name: &str| -> Option<Ex> { Some(Ex::call(name, &[a(0)?])) };
-        Some(match b {
-            B::Ln => f1("LN")?,
-            B::Exp => f1("EXP")?,
-            B::Log10 => f1("LOG10")?,
-            B::Sqrt => f1("SQRT")?,
-            B::Abs => f1("ABS")?,
-            B::Sin => f1("SIN")?,
-            B::Cos => f1("COS")?,
-            B::Tan => f1("TAN")?,
-            B::Asin => f1("ASIN")?,
-            B::Acos => f1("ACOS")?,
-            B::Atan => f1("ATAN")?,
+        Some(match rule {
             // Spreadsheets take ATAN2(x, y); the engine atan2(y, x).
-            B::Atan2 => Ex::call("ATAN2", &[a(1)?, a(0)?]),
-            B::Min | B::Max => {
+            Rule::Atan2 => Ex::call("ATAN2", &[a(1)?, a(0)?]),
+            Rule::Min | Rule::Max => {
                 let xs: Option<Vec<Ex>> = args.iter().map(|c| self.num(c)).collect();
-                Ex::call(if b == B::Min { "MIN" } else { "MAX" }, &xs?)
+                Ex::call(if rule == Rule::Min { "MIN" } else { "MAX" }, &xs?)
             }
-            B::Floor => f1("INT")?,
-            B::Ceil => Ex::neg(&Ex::call("INT", &[Ex::neg(&a(0)?)])),
+            Rule::Floor => f1("INT")?,
+            Rule::Ceil => Ex::neg(&Ex::call("INT", &[Ex::neg(&a(0)?)])),
             // Halves away from zero, like the engine (ROUND differs at
             // binary fractions close to a half).
-            B::Round => {
+            Rule::Round => {
                 let x = a(0)?;
                 mul(
                     &Ex::call("SIGN", std::slice::from_ref(&x)),
                     &Ex::call("INT", &[add(&Ex::call("ABS", &[x]), &n(0.5))]),
                 )
             }
-            B::DsIncompressible => mul(&a(0)?, &ln(&div(&a(2)?, &a(1)?))),
-            B::HeatExergy => mul(&a(0)?, &sub(&n(1.0), &div(&a(2)?, &a(1)?))),
-            B::DsIdealGas => {
+            Rule::DsIncompressible => mul(&a(0)?, &ln(&div(&a(2)?, &a(1)?))),
+            Rule::HeatExergy => mul(&a(0)?, &sub(&n(1.0), &div(&a(2)?, &a(1)?))),
+            Rule::DsIdealGas => {
                 let sub_sym = self.substance(args.first()?)?;
                 let s2 = self.state_field(
                     &StateRef {
@@ -320,7 +323,7 @@ impl Env<'_> {
                 )?;
                 sub(&s2, &s1)
             }
-            B::JetSpeed => {
+            Rule::JetSpeed => {
                 let s1 = self.state(args.first()?)?;
                 let s2 = self.state(args.get(1)?)?;
                 let dh = mul(
@@ -339,13 +342,13 @@ impl Env<'_> {
                 };
                 Ex::call("SQRT", &[inner])
             }
-            B::FlowExergy | B::ClosedExergy => {
+            Rule::FlowExergy | Rule::ClosedExergy => {
                 let st = self.state(args.first()?)?;
                 let d = self.state(args.get(1)?)?;
                 let fld = |s: &StateRef, f: Field| self.state_field(s, f);
                 let t0 = fld(&d, Field::T)?;
                 let ds = mul(&t0, &sub(&fld(&st, Field::S)?, &fld(&d, Field::S)?));
-                if b == B::FlowExergy {
+                if rule == Rule::FlowExergy {
                     let mut e = sub(&sub(&fld(&st, Field::H)?, &fld(&d, Field::H)?), &ds);
                     if !matches!(args.get(2), Some(Code::Absent) | None) {
                         let v = a(2)?;
@@ -364,7 +367,15 @@ impl Env<'_> {
                     sub(&add(&du, &pv), &ds)
                 }
             }
-            _ => return None,
+            Rule::PerfectGas
+            | Rule::Incompressible
+            | Rule::IdealGas
+            | Rule::RealFluid
+            | Rule::State
+            | Rule::Isentropic
+            | Rule::Throttle
+            | Rule::EtaDivides
+            | Rule::EtaMultiplies => return None,
         })
     }
 
@@ -377,7 +388,18 @@ impl Env<'_> {
                 .cloned()
                 .flatten()
                 .filter(|_| !(self.is_state)(*i)),
-            Code::Call(Builtin::PerfectGas, args, _) => {
+            Code::Call(b, args, _) => self.substance_call(b.sheet, args),
+            _ => None,
+        }
+    }
+
+    /// A substance built by a call, as formulas of its parameters.
+    fn substance_call(&self, sheet: Sheet, args: &[Code]) -> Option<SubSym> {
+        let Sheet::Rule(rule) = sheet else {
+            return None;
+        };
+        match rule {
+            Rule::PerfectGas => {
                 let r = self.num(args.first()?)?;
                 let cp = match (args.get(1), args.get(2)) {
                     (Some(c), _) if *c != Code::Absent => self.num(c)?,
@@ -389,17 +411,17 @@ impl Env<'_> {
                 };
                 Some(SubSym::Perfect { r, cp })
             }
-            Code::Call(Builtin::Incompressible, args, _) => Some(SubSym::Incompressible {
+            Rule::Incompressible => Some(SubSym::Incompressible {
                 c: self.num(args.first()?)?,
                 rho: self.num(args.get(1)?)?,
             }),
-            Code::Call(Builtin::IdealGas, args, _) => match args.first()? {
+            Rule::IdealGas => match args.first()? {
                 Code::Str(s) => crate::thermo::ideal_gas::IdealGas::by_name(s)
                     .ok()
                     .map(|g| SubSym::Ideal(g.name().to_string())),
                 _ => None,
             },
-            Code::Call(Builtin::Fluid, _, _) => Some(SubSym::Water),
+            Rule::RealFluid => Some(SubSym::RealFluid),
             _ => None,
         }
     }
@@ -426,7 +448,9 @@ impl Env<'_> {
     pub fn state_substance(&self, code: &Code) -> Option<SubSym> {
         match code {
             Code::Slot(i) => self.subs.get(*i).cloned().flatten(),
-            Code::Call(Builtin::State, args, _) => self.substance(args.first()?),
+            Code::Call(b, args, _) if b.sheet == Sheet::Rule(Rule::State) => {
+                self.substance(args.first()?)
+            }
             Code::Call(_, args, _) => self.state_substance(args.first()?),
             _ => None,
         }
@@ -434,22 +458,28 @@ impl Env<'_> {
 
     /// A state expression as formulas for T and p (closed forms only).
     pub fn state_def(&self, code: &Code) -> Option<StateDef> {
-        use Builtin as B;
-        match code {
-            Code::Slot(_) => {
+        let rule = match code {
+            Code::Call(b, _, _) => match b.sheet {
+                Sheet::Rule(r) => Some(r),
+                _ => None,
+            },
+            _ => None,
+        };
+        match (code, rule) {
+            (Code::Slot(_), _) => {
                 let st = self.state(code)?;
                 let t = self.state_field(&st, Field::T)?;
                 let p = self.state_field(&st, Field::P)?;
                 Some(StateDef { sub: st.sub, t, p })
             }
-            Code::Call(B::State, args, _) => {
+            (Code::Call(_, args, _), Some(Rule::State)) => {
                 let sub = self.substance(args.first()?)?;
                 let given = |i: usize| !matches!(args.get(i), Some(Code::Absent) | None);
                 let a = |i: usize| args.get(i).and_then(|c| self.num(c));
                 let p = a(2)?;
                 let t = match (given(1), given(3), given(4)) {
                     (true, false, false) if given(2) => match sub {
-                        SubSym::Water => return None,
+                        SubSym::RealFluid => return None,
                         _ => a(1)?,
                     },
                     (false, true, false) => t_from_ph(&sub, &p, &a(3)?)?,
@@ -458,20 +488,23 @@ impl Env<'_> {
                 };
                 Some(StateDef { sub, t, p })
             }
-            Code::Call(
-                b
-                @ (B::Isentropic | B::Throttle | B::Compressor | B::Turbine | B::Pump | B::Nozzle),
-                args,
-                _,
+            (
+                Code::Call(_, args, _),
+                Some(
+                    rule @ (Rule::Isentropic
+                    | Rule::Throttle
+                    | Rule::EtaDivides
+                    | Rule::EtaMultiplies),
+                ),
             ) => {
                 let inlet = self.state(args.first()?)?;
                 let sub = inlet.sub.clone();
                 let p2 = self.num(args.get(1)?)?;
                 let h1 = self.state_field(&inlet, Field::H)?;
                 let s1 = self.state_field(&inlet, Field::S)?;
-                let t = match b {
-                    B::Isentropic => t_from_ps(&sub, &p2, &s1)?,
-                    B::Throttle => t_from_ph(&sub, &p2, &h1)?,
+                let t = match rule {
+                    Rule::Isentropic => t_from_ps(&sub, &p2, &s1)?,
+                    Rule::Throttle => t_from_ph(&sub, &p2, &h1)?,
                     _ => {
                         let eta = self.num(args.get(2)?)?;
                         let t2s = t_from_ps(&sub, &p2, &s1)?;
@@ -485,8 +518,8 @@ impl Env<'_> {
                             },
                             Field::H,
                         )?;
-                        let h2 = match b {
-                            B::Compressor | B::Pump => add(&h1, &div(&sub_(&h2s, &h1), &eta)),
+                        let h2 = match rule {
+                            Rule::EtaDivides => add(&h1, &div(&sub_(&h2s, &h1), &eta)),
                             _ => sub_(&h1, &mul(&eta, &sub_(&h1, &h2s))),
                         };
                         t_from_ph(&sub, &p2, &h2)?
@@ -703,7 +736,7 @@ pub fn field_formula(sub: &SubSym, f: Field, own: &Own) -> Option<Ex> {
                 Field::X => return None,
             })
         }
-        SubSym::Water => None,
+        SubSym::RealFluid => None,
     }
 }
 
@@ -776,18 +809,26 @@ mod tests {
             Default::default(),
         );
         assert_eq!(env.num(&code).unwrap().text, "(q1_T1-273.15)/q_p_2");
-        let round = Code::Call(Builtin::Round, vec![Code::Slot(1)], Default::default());
+        let round = Code::Call(
+            &crate::builtins::math::ROUND,
+            vec![Code::Slot(1)],
+            Default::default(),
+        );
         assert_eq!(
             env.num(&round).unwrap().text,
             "SIGN(q_p_2)*INT(ABS(q_p_2)+0.5)"
         );
         let atan2 = Code::Call(
-            Builtin::Atan2,
+            &crate::builtins::math::ATAN2,
             vec![Code::Slot(0), Code::Slot(1)],
             Default::default(),
         );
         assert_eq!(env.num(&atan2).unwrap().text, "ATAN2(q_p_2,q1_T1)");
-        let ceil = Code::Call(Builtin::Ceil, vec![Code::Slot(1)], Default::default());
+        let ceil = Code::Call(
+            &crate::builtins::math::CEIL,
+            vec![Code::Slot(1)],
+            Default::default(),
+        );
         assert_eq!(env.num(&ceil).unwrap().text, "-INT(-q_p_2)");
         // No closed form: a string argument, an IF97 state.
         assert!(env.num(&Code::Str("x".into())).is_none());
@@ -812,6 +853,6 @@ mod tests {
             t_from_ps(&sub, &nm("p2"), &nm("s1")).unwrap().text,
             "298.15*EXP((s1+f_gas_R*LN(p2/100000))/f_gas_cp)"
         );
-        assert!(field_formula(&SubSym::Water, Field::H, &own).is_none());
+        assert!(field_formula(&SubSym::RealFluid, Field::H, &own).is_none());
     }
 }

@@ -50,7 +50,7 @@ pub fn tmp_dir(tag: &str) -> PathBuf {
 
 pub fn load(path: &Path) -> (String, Model) {
     let src = std::fs::read_to_string(path).unwrap();
-    let mut m = Model::with_base_dir(src.clone(), path.parent().unwrap()).unwrap();
+    let mut m = Model::new(src.clone()).unwrap();
     m.evaluate();
     assert!(
         m.runtime_errors().is_empty(),

@@ -1,0 +1,152 @@
+//! External inputs: values a worksheet takes from outside its own text.
+//!
+//! The engine reads no files. A worksheet's `cell("book.xlsx", "Sheet!C7")`
+//! calls are listed by [`cell_requests`] (both arguments are string
+//! literals, so this needs no evaluation); the caller reads the workbooks
+//! — relative to the worksheet's folder, under its own file-access policy —
+//! and hands the numbers in as [`Externals`] before the worksheet is
+//! checked, so that a cell may even feed a constant exponent.
+
+use std::collections::HashMap;
+
+use sheaf_grammar::{Expr, ExprKind, Span, StatementKind, Worksheet};
+
+/// One `cell()` call of a worksheet.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct CellRequest {
+    /// The workbook path as written (relative to the worksheet's folder).
+    pub book: String,
+    /// The cell (`Sheet!C7`) or defined name as written.
+    pub reference: String,
+    /// Where the call is written.
+    pub span: Span,
+}
+
+/// Values the caller read for a worksheet's external inputs.
+#[derive(Clone, Debug, Default)]
+pub struct Externals {
+    cells: HashMap<(String, String), Result<f64, String>>,
+    /// Whether the caller read workbooks at all (`sheaf eval` does not).
+    cells_read: bool,
+}
+
+impl Externals {
+    /// No external values: `cell()` calls are errors.
+    pub fn none() -> Externals {
+        Externals::default()
+    }
+
+    /// Record the value of `cell(book, reference)`, or why it could not be
+    /// read (a message in words, shown at the call).
+    pub fn set_cell(&mut self, book: &str, reference: &str, value: Result<f64, String>) {
+        self.cells_read = true;
+        self.cells
+            .insert((book.to_string(), reference.to_string()), value);
+    }
+
+    /// The value recorded for `cell(book, reference)`.
+    pub(crate) fn cell(&self, book: &str, reference: &str) -> Result<f64, String> {
+        match self.cells.get(&(book.to_string(), reference.to_string())) {
+            Some(v) => v.clone(),
+            None if self.cells_read => Err(format!(
+                "internal: the workbook cell `{book}` `{reference}` was not read"
+            )),
+            None => Err(
+                "workbook cells can be read only when a worksheet file is run (`sheaf run`, \
+                 `sheaf xlsx`), not here"
+                    .to_string(),
+            ),
+        }
+    }
+}
+
+/// Every `cell(book, ref)` call of a worksheet whose two arguments are
+/// string literals, in file order (repeats included). Calls written
+/// otherwise are left to the checker, which reports them.
+pub fn cell_requests(ws: &Worksheet) -> Vec<CellRequest> {
+    let mut out = Vec::new();
+    for stmt in &ws.statements {
+        match &stmt.kind {
+            StatementKind::Input { value, .. } | StatementKind::Define { value, .. } => {
+                collect(value, &mut out);
+            }
+            StatementKind::Check { left, right, .. } => {
+                collect(left, &mut out);
+                collect(right, &mut out);
+            }
+            _ => {}
+        }
+    }
+    out
+}
+
+fn collect(e: &Expr, out: &mut Vec<CellRequest>) {
+    // An explicit stack: expressions can be deep.
+    let mut stack = vec![e];
+    while let Some(e) = stack.pop() {
+        match &e.kind {
+            ExprKind::Call { func, args } => {
+                if func.name == "cell"
+                    && let [book, reference] = args.as_slice()
+                    && let (ExprKind::Str(b), ExprKind::Str(r)) =
+                        (&strip(&book.value).kind, &strip(&reference.value).kind)
+                {
+                    out.push(CellRequest {
+                        book: b.clone(),
+                        reference: r.clone(),
+                        span: e.span,
+                    });
+                }
+                stack.extend(args.iter().rev().map(|a| &a.value));
+            }
+            ExprKind::Neg(a) | ExprKind::Paren(a) => stack.push(a),
+            ExprKind::Binary { left, right, .. } => {
+                stack.push(right);
+                stack.push(left);
+            }
+            ExprKind::Field { base, .. } => stack.push(base),
+            ExprKind::Number { .. } | ExprKind::Str(_) | ExprKind::Name(_) => {}
+        }
+    }
+}
+
+fn strip(e: &Expr) -> &Expr {
+    match &e.kind {
+        ExprKind::Paren(a) => strip(a),
+        _ => e,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn cell_calls_are_listed_in_file_order() {
+        let ws = sheaf_grammar::parse(
+            "input a = cell(\"b.xlsx\", \"S!A1\") * 1 kPa\nx = (2 * cell(\"c.xlsx\", \"n\"))\n\
+             y = cell(a, \"n\")\n",
+        )
+        .unwrap();
+        let r = cell_requests(&ws);
+        assert_eq!(r.len(), 2);
+        assert_eq!(
+            (r[0].book.as_str(), r[0].reference.as_str()),
+            ("b.xlsx", "S!A1")
+        );
+        assert_eq!(
+            (r[1].book.as_str(), r[1].reference.as_str()),
+            ("c.xlsx", "n")
+        );
+    }
+
+    #[test]
+    fn values_are_looked_up_by_book_and_reference() {
+        let mut x = Externals::none();
+        assert!(x.cell("b.xlsx", "n").unwrap_err().contains("only when"));
+        x.set_cell("b.xlsx", "n", Ok(2.5));
+        x.set_cell("b.xlsx", "m", Err("no such cell".into()));
+        assert_eq!(x.cell("b.xlsx", "n"), Ok(2.5));
+        assert_eq!(x.cell("b.xlsx", "m"), Err("no such cell".into()));
+    }
+}
