@@ -6,35 +6,8 @@ use std::sync::Arc;
 use sheaf_grammar::{CompareOp, Span};
 
 use crate::builtins::{self, Builtin, Warnings};
-use crate::thermo::{Field, State, Substance};
-
-/// A state value: the state and the substance it belongs to.
-#[derive(Clone, Debug, PartialEq)]
-pub struct StateVal {
-    pub sub: Arc<Substance>,
-    pub st: State,
-}
-
-/// A run-time value. Numbers are SI `f64`.
-#[derive(Clone, Debug, PartialEq)]
-pub enum Value {
-    Num(f64),
-    Bool(bool),
-    Str(Arc<str>),
-    Substance(Arc<Substance>),
-    State(Arc<StateVal>),
-    /// An optional argument that was not given.
-    Absent,
-}
-
-impl Value {
-    pub fn as_num(&self) -> Option<f64> {
-        match self {
-            Value::Num(x) => Some(*x),
-            _ => None,
-        }
-    }
-}
+use crate::thermo::{Field, Substance};
+pub use crate::value::{StateVal, Value};
 
 /// A compiled expression: names resolved to node slots, units folded into
 /// SI constants, dimension checks already done.

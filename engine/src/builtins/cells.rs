@@ -7,8 +7,8 @@
 //! value. The function's own evaluation only passes that value on.
 
 use super::{Builtin, CallError, Family, Sheet, p, string_literal};
-use crate::eval::Value;
 use crate::types::{QTy, Ty};
+use crate::value::Value;
 
 pub static CELL: Builtin = Builtin {
     name: "cell",

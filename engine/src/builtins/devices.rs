@@ -4,10 +4,10 @@ use super::{
     Args, Builtin, CallError, Family, Param, Rule, Sheet, TArg, TypeErr, Warnings, err_at, named,
     new_state, opt_pos, p, unless_error, want_dimensionless, want_num, want_state,
 };
-use crate::eval::{StateVal, Value};
 use crate::thermo::{self, ModelKind, process};
 use crate::types::Ty;
 use crate::units::Dim;
+use crate::value::{StateVal, Value};
 
 const DEVICE: &[Param] = &[p("st"), named("p"), named("eta")];
 const NO_ETA: &[Param] = &[p("st"), named("p")];

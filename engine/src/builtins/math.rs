@@ -4,9 +4,9 @@ use super::{
     Args, Builtin, CallError, Family, Param, Rule, Sheet, TArg, TypeErr, Warnings, any_error,
     err_at, err_call, num_arg, p,
 };
-use crate::eval::Value;
 use crate::types::{QTy, Ty, describe_qty};
 use crate::units::Affinity;
+use crate::value::Value;
 
 const X: &[Param] = &[p("x")];
 

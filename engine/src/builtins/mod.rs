@@ -19,10 +19,10 @@ pub mod substances;
 use std::fmt;
 use std::sync::Arc;
 
-use crate::eval::{StateVal, Value};
 use crate::thermo::{self, ModelKind, Substance};
 use crate::types::{QTy, Ty, describe_qty};
 use crate::units::{Affinity, Dim};
+use crate::value::{StateVal, Value};
 
 pub use thermo::consts::{G_N, P_ATM, R_U};
 

@@ -4,10 +4,10 @@ use super::{
     Builtin, CallError, Family, Rule, Sheet, any_error, err_at, err_call, named, num_arg, opt, p,
     unless_error, want_num, want_state,
 };
-use crate::eval::Value;
 use crate::thermo::{ModelKind, exergy};
 use crate::types::Ty;
 use crate::units::Dim;
+use crate::value::Value;
 
 fn num(x: f64) -> Result<Value, CallError> {
     Ok(Value::Num(x))
@@ -106,7 +106,7 @@ fn exergy_typing(
 /// The state and the dead state, which must be of one substance.
 fn with_dead_state<'a>(
     a: &'a super::Args<'_>,
-) -> Result<(&'a crate::eval::StateVal, &'a crate::eval::StateVal), CallError> {
+) -> Result<(&'a crate::value::StateVal, &'a crate::value::StateVal), CallError> {
     let (st, dead) = (a.state(0)?, a.state(1)?);
     if st.sub != dead.sub {
         return Err(CallError::at(

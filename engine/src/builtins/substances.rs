@@ -6,7 +6,6 @@ use super::{
     Builtin, CallError, Family, Rule, Sheet, TypeErr, err_at, err_call, named, new_state, opt, p,
     string_literal, unless_error, want_dimensionless, want_num,
 };
-use crate::eval::Value;
 use crate::thermo::{
     ModelKind, Spec, SpecKind, Substance,
     fluid::{self, FluidRef},
@@ -16,6 +15,7 @@ use crate::thermo::{
 };
 use crate::types::Ty;
 use crate::units::Dim;
+use crate::value::Value;
 
 fn substance(s: Substance) -> Result<Value, CallError> {
     Ok(Value::Substance(Arc::new(s)))

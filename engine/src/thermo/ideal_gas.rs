@@ -658,11 +658,11 @@ impl IdealGas {
              compressibility Z = {:.3} (real-gas departure about {} %); \
              common practice: check the ideal-gas model when p/p_c > 0.1 or |Z - 1| > 0.01",
             self.name,
-            crate::units::format_sig(st.t, 4),
-            crate::units::format_sig(st.p / 1e6, 4),
+            fmt_num(st.t),
+            fmt_num(st.p / 1e6),
             pr,
             z,
-            crate::units::format_sig(departure * 100.0, 2),
+            fmt_num(departure * 100.0),
         ))
     }
 }
