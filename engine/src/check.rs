@@ -95,12 +95,31 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
                 unit.as_ref(),
                 description,
             ),
-            StatementKind::Check {
-                left,
-                right,
-                description,
-                ..
-            } => (NodeKind::Check, None, left, Some(right), None, description),
+            StatementKind::Check { cond, description } => match cond.as_single_comparison() {
+                Some((left, _, _, right)) => {
+                    (NodeKind::Check, None, left, Some(right), None, description)
+                }
+                None => {
+                    diags.push(not_supported_yet("this form of check", cond.span));
+                    continue;
+                }
+            },
+            StatementKind::Case { name, .. } => {
+                diags.push(not_supported_yet("`case`", name.span));
+                continue;
+            }
+            StatementKind::Sweep { input, .. } | StatementKind::Find { input, .. } => {
+                diags.push(not_supported_yet("`sweep` / `find`", input.span));
+                continue;
+            }
+            StatementKind::Use { path, .. } => {
+                diags.push(not_supported_yet("`use`", path.span));
+                continue;
+            }
+            StatementKind::Gauge { value, .. } => {
+                diags.push(not_supported_yet("`gauge`", value.span));
+                continue;
+            }
             _ => continue,
         };
         if let Some(n) = name {
@@ -238,15 +257,36 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
     }
 }
 
+/// A located error for a construct the grammar accepts and the checker
+/// does not handle yet.
+fn not_supported_yet(what: &str, span: Span) -> Diagnostic {
+    Diagnostic::error(format!("{what} is not supported yet"), span)
+}
+
 /// Names referenced by an expression (not function names, field names or
 /// argument names), with their spans.
 fn collect_names<'a>(e: &'a Expr, out: &mut Vec<(&'a str, Span)>) {
     match &e.kind {
         ExprKind::Name(n) => out.push((n, e.span)),
         ExprKind::Number { .. } | ExprKind::Str(_) => {}
-        ExprKind::Neg(a) | ExprKind::Paren(a) => collect_names(a, out),
+        ExprKind::Neg(a) | ExprKind::Paren(a) | ExprKind::Not(a) => collect_names(a, out),
         ExprKind::Field { base, .. } => collect_names(base, out),
-        ExprKind::Binary { left, right, .. } => {
+        ExprKind::Compare { first, rest } => {
+            collect_names(first, out);
+            for l in rest {
+                collect_names(&l.operand, out);
+            }
+        }
+        ExprKind::If {
+            cond,
+            then_branch,
+            else_branch,
+        } => {
+            collect_names(cond, out);
+            collect_names(then_branch, out);
+            collect_names(else_branch, out);
+        }
+        ExprKind::Binary { left, right, .. } | ExprKind::Logic { left, right, .. } => {
             collect_names(left, out);
             collect_names(right, out);
         }
@@ -384,6 +424,13 @@ impl Cx<'_> {
             ExprKind::Binary { op, left, right } => self.binary(*op, left, right, e.span),
             ExprKind::Call { func, args } => self.call(func, args, e.span),
             ExprKind::Field { base, field } => self.field(base, field),
+            ExprKind::Compare { .. }
+            | ExprKind::Logic { .. }
+            | ExprKind::Not(_)
+            | ExprKind::If { .. } => self.error(not_supported_yet(
+                "this expression (a condition or `if`)",
+                e.span,
+            )),
         }
     }
 
@@ -721,7 +768,10 @@ impl Cx<'_> {
         right: Option<&Expr>,
     ) -> Typed {
         let (op, op_span) = match &ws.statements[node.stmt].kind {
-            StatementKind::Check { op, op_span, .. } => (*op, *op_span),
+            StatementKind::Check { cond, .. } => match cond.as_single_comparison() {
+                Some((_, op, op_span, _)) => (op, op_span),
+                None => return ERR,
+            },
             _ => return ERR,
         };
         let Some(right) = right else { return ERR };
@@ -910,7 +960,13 @@ fn last_literal_unit(e: &Expr, dim: Dim) -> Option<&UnitExpr> {
             Ok(unit) if unit.dim == dim => Some(u),
             _ => None,
         },
-        ExprKind::Number { .. } | ExprKind::Str(_) | ExprKind::Name(_) => None,
+        ExprKind::Number { .. }
+        | ExprKind::Str(_)
+        | ExprKind::Name(_)
+        | ExprKind::Compare { .. }
+        | ExprKind::Logic { .. }
+        | ExprKind::Not(_)
+        | ExprKind::If { .. } => None,
         ExprKind::Neg(a) | ExprKind::Paren(a) => last_literal_unit(a, dim),
         ExprKind::Field { base, .. } => last_literal_unit(base, dim),
         ExprKind::Binary { left, right, .. } => {

@@ -200,6 +200,8 @@ impl Model {
                     r.checks.push(self.check_row(i, line));
                 }
                 StatementKind::Comment { .. } | StatementKind::Blank => {}
+                // Refused by the checker for now.
+                _ => {}
             }
         }
         for &i in self.order() {
@@ -334,9 +336,9 @@ impl Model {
             _ => None,
         };
         let (mut left, mut right) = (None, None);
-        if let Some(StatementKind::Check {
-            left: l, right: rt, ..
-        }) = self.worksheet().statements.get(node.stmt).map(|s| &s.kind)
+        if let Some(StatementKind::Check { cond, .. }) =
+            self.worksheet().statements.get(node.stmt).map(|s| &s.kind)
+            && let Some((l, _, _, rt)) = cond.as_single_comparison()
             && let (crate::eval::Code::Cmp(_, lc, rc), Some(_)) = (&node.code, passed)
         {
             let mut w = Vec::new();

@@ -71,16 +71,71 @@ pub enum StatementKind {
         value: Expr,
         description: Option<StringLit>,
     },
-    /// `check EXPR OP EXPR ["description"]`
+    /// `check COND ["description"]`: `cond` is a condition: a comparison
+    /// (`T2 <= 220 degC`), a chain (`0.88 <= x2 <= 1`), or conditions joined
+    /// by `and` / `or` / `not` (any boolean expression is accepted by the
+    /// grammar; the checker decides what it supports).
     Check {
+        cond: Expr,
+        description: Option<StringLit>,
+    },
+    /// `case NAME: INPUT = EXPR, INPUT = EXPR ... ["description"]`
+    Case {
+        name: Ident,
+        settings: Vec<CaseSetting>,
+        description: Option<StringLit>,
+    },
+    /// `sweep INPUT from A to B step D show NAME, ... ["description"]`,
+    /// `sweep INPUT from A to B count N show ...`,
+    /// `sweep INPUT over A, B, C show ...`
+    Sweep {
+        input: Ident,
+        points: SweepPoints,
+        /// The shown quantities (at least one); each a name path.
+        show: Vec<Ident>,
+        description: Option<StringLit>,
+    },
+    /// `find INPUT in LOW .. HIGH where LEFT = RIGHT ["description"]`
+    Find {
+        input: Ident,
+        low: Expr,
+        high: Expr,
         left: Expr,
-        op: CompareOp,
-        op_span: Span,
+        /// Span of the `=` between `left` and `right`.
+        eq_span: Span,
         right: Expr,
+        description: Option<StringLit>,
+    },
+    /// `use "OTHER.sheaf" as PREFIX`
+    Use { path: StringLit, prefix: Ident },
+    /// `gauge EXPR ["description"]`: reference pressure of gauge units.
+    Gauge {
+        value: Expr,
         description: Option<StringLit>,
     },
     /// An empty line (kept so the formatter can preserve paragraphing).
     Blank,
+}
+
+/// One `INPUT = EXPR` of a `case`.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CaseSetting {
+    /// The input set (a name path, e.g. `p2` or `site.T_amb`).
+    pub input: Ident,
+    pub value: Expr,
+    /// From the input's first character to the value's last.
+    pub span: Span,
+}
+
+/// The points of a `sweep`.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub enum SweepPoints {
+    /// `from A to B step D`
+    Step { from: Expr, to: Expr, step: Expr },
+    /// `from A to B count N`
+    Count { from: Expr, to: Expr, count: Expr },
+    /// `over A, B, C`
+    Over(Vec<Expr>),
 }
 
 /// A string literal; `value` has escapes resolved, `span` includes the quotes.
@@ -113,6 +168,30 @@ impl CompareOp {
     }
 }
 
+/// `and` / `or`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+pub enum LogicOp {
+    And,
+    Or,
+}
+
+impl LogicOp {
+    pub fn keyword(self) -> &'static str {
+        match self {
+            LogicOp::And => "and",
+            LogicOp::Or => "or",
+        }
+    }
+}
+
+/// One link `OP operand` of a comparison chain.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CompareLink {
+    pub op: CompareOp,
+    pub op_span: Span,
+    pub operand: Expr,
+}
+
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
 pub enum BinOp {
     Add,
@@ -138,6 +217,74 @@ impl BinOp {
 pub struct Expr {
     pub kind: ExprKind,
     pub span: Span,
+}
+
+impl Expr {
+    /// `(left, op, op_span, right)` when this is one comparison `left OP
+    /// right` (not a chain, not parenthesised).
+    pub fn as_single_comparison(&self) -> Option<(&Expr, CompareOp, Span, &Expr)> {
+        match &self.kind {
+            ExprKind::Compare { first, rest } => match rest.as_slice() {
+                [link] => Some((first, link.op, link.op_span, &link.operand)),
+                _ => None,
+            },
+            _ => None,
+        }
+    }
+}
+
+/// Dropping an expression does not recurse: a left-associative chain
+/// (`a1 + a2 + ... + a100000`) is a tree as deep as it is long, and a
+/// recursive drop of it would exhaust the stack.
+impl Drop for Expr {
+    fn drop(&mut self) {
+        if !has_children(&self.kind) {
+            return;
+        }
+        let mut stack = Vec::new();
+        take_children(&mut self.kind, &mut stack);
+        while let Some(mut e) = stack.pop() {
+            take_children(&mut e.kind, &mut stack);
+            // `e` is dropped here with no children left.
+        }
+    }
+}
+
+fn has_children(k: &ExprKind) -> bool {
+    !matches!(
+        k,
+        ExprKind::Number { .. } | ExprKind::Str(_) | ExprKind::Name(_)
+    )
+}
+
+/// Moves the sub-expressions of `kind` onto `stack`, leaving a leaf.
+fn take_children(kind: &mut ExprKind, stack: &mut Vec<Expr>) {
+    if !has_children(kind) {
+        return;
+    }
+    match std::mem::replace(kind, ExprKind::Name(String::new())) {
+        ExprKind::Number { .. } | ExprKind::Str(_) | ExprKind::Name(_) => {}
+        ExprKind::Neg(a) | ExprKind::Not(a) | ExprKind::Paren(a) => stack.push(*a),
+        ExprKind::Field { base, .. } => stack.push(*base),
+        ExprKind::Binary { left, right, .. } | ExprKind::Logic { left, right, .. } => {
+            stack.push(*left);
+            stack.push(*right);
+        }
+        ExprKind::Call { args, .. } => stack.extend(args.into_iter().map(|a| a.value)),
+        ExprKind::Compare { first, rest } => {
+            stack.push(*first);
+            stack.extend(rest.into_iter().map(|l| l.operand));
+        }
+        ExprKind::If {
+            cond,
+            then_branch,
+            else_branch,
+        } => {
+            stack.push(*cond);
+            stack.push(*then_branch);
+            stack.push(*else_branch);
+        }
+    }
 }
 
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -166,6 +313,29 @@ pub enum ExprKind {
     Field { base: Box<Expr>, field: Ident },
     /// `( inner )` — kept so spans and the formatter see the parentheses.
     Paren(Box<Expr>),
+    /// A comparison or a comparison chain: `a < b` is `first` = a and one
+    /// link (`<`, b); `0.88 <= x2 <= 1` has two links. A chain means every
+    /// adjacent pair holds.
+    Compare {
+        first: Box<Expr>,
+        rest: Vec<CompareLink>,
+    },
+    /// `left and right`, `left or right` (left-associative; `and` binds
+    /// tighter than `or`).
+    Logic {
+        op: LogicOp,
+        op_span: Span,
+        left: Box<Expr>,
+        right: Box<Expr>,
+    },
+    /// `not x` (binds looser than a comparison: `not a < b` is `not (a < b)`).
+    Not(Box<Expr>),
+    /// `if cond then then_branch else else_branch` (lowest precedence).
+    If {
+        cond: Box<Expr>,
+        then_branch: Box<Expr>,
+        else_branch: Box<Expr>,
+    },
 }
 
 #[derive(Clone, Debug, PartialEq, Serialize)]

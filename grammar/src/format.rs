@@ -1,9 +1,17 @@
 //! Canonical layout of a worksheet (`sheaf fmt`).
 //!
 //! The layout, decided here and documented for users:
-//! - one statement per line; continuation lines are joined;
-//! - one space around `=` and around the binary operators `+ - * / ^` and
-//!   the comparison in a check; unary minus is written tight (`-x`);
+//! - one statement per line; a statement the user continued over several
+//!   lines with `\` keeps its line breaks where they were (before the token
+//!   that started each continuation line), each continuation line indented
+//!   by four spaces; no new breaks are added (no automatic wrapping);
+//! - one space around `=` and around the binary operators `+ - * / ^`, the
+//!   comparisons and `and` / `or`; unary minus is written tight (`-x`),
+//!   `not` with one space; `if C then A else B` with single spaces;
+//! - `case NAME: A = 1, B = 2`, `sweep X from A to B step D show P, Q`,
+//!   `sweep X over A, B show P`, `find X in A .. B where L = R`,
+//!   `use "FILE" as P`, `gauge EXPR`: single spaces, `, ` between list items,
+//!   ` .. ` between the bounds of a `find`;
 //! - calls as `f(a, b, name: value)`: no spaces inside parentheses, `, `
 //!   between arguments, `name: value` for named arguments, no trailing comma;
 //! - field access tight (`st1.h`);
@@ -32,7 +40,6 @@ use crate::parser::parse_lines_norm;
 
 pub(crate) fn format(src: &str) -> Result<String, Vec<ParseError>> {
     let (norm, lines) = parse_lines_norm(src)?;
-    let f = Fmt { norm: &norm };
     // Render each line as its code part, description and trailing comment;
     // descriptions are aligned afterwards.
     let mut rendered: Vec<Rendered> = Vec::with_capacity(lines.len());
@@ -42,25 +49,36 @@ pub(crate) fn format(src: &str) -> Result<String, Vec<ParseError>> {
             pending_blank = !rendered.is_empty();
             continue;
         }
-        let mut code = String::new();
-        f.statement(&line.stmt, &mut code);
+        let end = line.trailing_comment.map_or(line.stmt.span.end, |c| c.end);
+        let mut f = Fmt {
+            norm: &norm,
+            breaks: continuation_breaks(src, line.stmt.span.start, end),
+            next_break: 0,
+            out: String::new(),
+        };
+        f.statement(&line.stmt);
         let desc = description_of(&line.stmt).map(|d| {
             let mut q = String::new();
+            if f.break_before(d.span.start) {
+                q.push_str(CONT);
+            }
             push_string(&d.value, &mut q);
             q
         });
-        if let Some(q) = &desc {
-            // `statement` wrote " " + the description last; keep it apart.
-            code.truncate(code.len().saturating_sub(q.len() + 1));
-        }
+        let comment = line.trailing_comment.map(|c| {
+            let mut q = String::new();
+            if f.break_before(c.start) {
+                q.push_str(CONT);
+            }
+            q.push_str(c.slice(&norm).trim_end());
+            q
+        });
         rendered.push(Rendered {
             blank_before: pending_blank,
             statement: desc.is_some() || is_statement(&line.stmt),
-            code,
+            code: f.out,
             desc,
-            comment: line
-                .trailing_comment
-                .map(|c| c.slice(&norm).trim_end().to_string()),
+            comment,
         });
         pending_blank = false;
     }
@@ -72,13 +90,19 @@ pub(crate) fn format(src: &str) -> Result<String, Vec<ParseError>> {
         }
         out.push_str(&r.code);
         if let Some(d) = &r.desc {
-            let width = r.code.chars().count();
-            let pad = if width < col { col - width } else { 1 };
-            out.extend(std::iter::repeat_n(' ', pad));
-            out.push_str(d);
+            if d.starts_with(CONT) {
+                out.push_str(d);
+            } else {
+                let width = last_line_width(&r.code);
+                let pad = if width < col { col - width } else { 1 };
+                out.extend(std::iter::repeat_n(' ', pad));
+                out.push_str(d);
+            }
         }
         if let Some(c) = &r.comment {
-            out.push(' ');
+            if !c.starts_with(CONT) {
+                out.push(' ');
+            }
             out.push_str(c);
         }
         out.push('\n');
@@ -86,13 +110,46 @@ pub(crate) fn format(src: &str) -> Result<String, Vec<ParseError>> {
     Ok(out)
 }
 
+/// What ends a line that continues: a space, `\`, the line end and the
+/// continuation line's indentation.
+const CONT: &str = " \\\n    ";
+
+/// Byte offsets of the line breaks inside a logical line (each one was a
+/// `\` continuation).
+fn continuation_breaks(src: &str, start: usize, end: usize) -> Vec<usize> {
+    let Some(text) = src.get(start..end) else {
+        return Vec::new();
+    };
+    let b = text.as_bytes();
+    let mut out = Vec::new();
+    let mut i = 0;
+    while let Some(k) = b[i..].iter().position(|c| *c == b'\n' || *c == b'\r') {
+        out.push(start + i + k);
+        // CR LF is one break.
+        i += k + if b[i + k] == b'\r' && b.get(i + k + 1) == Some(&b'\n') {
+            2
+        } else {
+            1
+        };
+    }
+    out
+}
+
+fn last_line_width(code: &str) -> usize {
+    code.rsplit('\n').next().unwrap_or(code).chars().count()
+}
+
 /// One formatted line before alignment.
 struct Rendered {
     blank_before: bool,
-    /// An input, definition or check (these align their descriptions).
+    /// A statement that can carry a description (these align their
+    /// descriptions).
     statement: bool,
     code: String,
+    /// The description, starting with `CONT` when the user put it on a
+    /// continuation line (then it is not aligned).
     desc: Option<String>,
+    /// The trailing comment, starting with `CONT` likewise.
     comment: Option<String>,
 }
 
@@ -103,7 +160,8 @@ const ALIGN_LIMIT: usize = 48;
 /// The column at which each line's description starts: within a block of
 /// consecutive statements (no blank line, heading, note or comment
 /// between), two spaces after the widest code part of the block that has a
-/// description and is not wider than `ALIGN_LIMIT`.
+/// description and is not wider than `ALIGN_LIMIT` (for a continued
+/// statement, the width of its last line).
 fn description_columns(lines: &[Rendered]) -> Vec<usize> {
     let mut cols = vec![0; lines.len()];
     let mut start = 0;
@@ -116,8 +174,8 @@ fn description_columns(lines: &[Rendered]) -> Vec<usize> {
         }
         let col = lines[start..end]
             .iter()
-            .filter(|l| l.desc.is_some())
-            .map(|l| l.code.chars().count())
+            .filter(|l| l.desc.as_ref().is_some_and(|d| !d.starts_with(CONT)))
+            .map(|l| last_line_width(&l.code))
             .filter(|&w| w <= ALIGN_LIMIT)
             .max()
             .map_or(0, |w| w + 2);
@@ -132,7 +190,13 @@ fn description_columns(lines: &[Rendered]) -> Vec<usize> {
 fn is_statement(st: &Statement) -> bool {
     matches!(
         st.kind,
-        StatementKind::Input { .. } | StatementKind::Define { .. } | StatementKind::Check { .. }
+        StatementKind::Input { .. }
+            | StatementKind::Define { .. }
+            | StatementKind::Check { .. }
+            | StatementKind::Case { .. }
+            | StatementKind::Sweep { .. }
+            | StatementKind::Find { .. }
+            | StatementKind::Gauge { .. }
     )
 }
 
@@ -140,7 +204,11 @@ fn description_of(st: &Statement) -> Option<&StringLit> {
     match &st.kind {
         StatementKind::Input { description, .. }
         | StatementKind::Define { description, .. }
-        | StatementKind::Check { description, .. } => description.as_ref(),
+        | StatementKind::Check { description, .. }
+        | StatementKind::Case { description, .. }
+        | StatementKind::Sweep { description, .. }
+        | StatementKind::Find { description, .. }
+        | StatementKind::Gauge { description, .. } => description.as_ref(),
         _ => None,
     }
 }
@@ -148,6 +216,11 @@ fn description_of(st: &Statement) -> Option<&StringLit> {
 struct Fmt<'a> {
     /// Source with continuations blanked (same offsets as the original).
     norm: &'a str,
+    /// Continuation line breaks of this statement (source offsets), and the
+    /// first one not yet written.
+    breaks: Vec<usize>,
+    next_break: usize,
+    out: String,
 }
 
 fn collapse_ws(s: &str) -> String {
@@ -166,126 +239,323 @@ fn push_string(value: &str, out: &mut String) {
 }
 
 impl Fmt<'_> {
-    fn statement(&self, st: &Statement, out: &mut String) {
+    /// Whether a continuation break lies before source offset `pos`
+    /// (consumes it).
+    fn break_before(&mut self, pos: usize) -> bool {
+        let mut any = false;
+        while self.breaks.get(self.next_break).is_some_and(|&b| b < pos) {
+            self.next_break += 1;
+            any = true;
+        }
+        any
+    }
+
+    /// Before writing the token that starts at source offset `pos`: write
+    /// the user's continuation break if one lies before it.
+    fn at(&mut self, pos: usize) {
+        if self.break_before(pos) {
+            let n = self.out.trim_end_matches(' ').len();
+            self.out.truncate(n);
+            self.out.push_str(CONT);
+        }
+    }
+
+    fn push(&mut self, s: &str) {
+        self.out.push_str(s);
+    }
+
+    /// A single space, unless a continuation line just started.
+    fn space(&mut self) {
+        if !self.out.ends_with(CONT) {
+            self.out.push(' ');
+        }
+    }
+
+    /// Source offset of the first non-blank character in `from..to` (where
+    /// an operator or keyword between two spans stands).
+    fn token_between(&self, from: usize, to: usize) -> usize {
+        self.norm
+            .get(from..to)
+            .and_then(|t| t.find(|c: char| c != ' ' && c != '\t'))
+            .map_or(from, |i| from + i)
+    }
+
+    /// ` WORD ` (an operator or keyword) standing between `from` and `to`.
+    fn infix(&mut self, word: &str, from: usize, to: usize) {
+        let at = self.token_between(from, to);
+        self.at(at);
+        self.space();
+        self.push(word);
+        self.push(" ");
+    }
+
+    fn ident(&mut self, id: &Ident) {
+        self.at(id.span.start);
+        self.push(&id.name);
+    }
+
+    fn statement(&mut self, st: &Statement) {
         match &st.kind {
             StatementKind::Heading { level, text } => {
                 for _ in 0..*level {
-                    out.push('#');
+                    self.push("#");
                 }
                 if !text.is_empty() {
-                    out.push(' ');
-                    out.push_str(text);
+                    self.push(" ");
+                    self.push(text);
                 }
             }
             StatementKind::Note { .. } | StatementKind::Comment { .. } => {
-                out.push_str(st.span.slice(self.norm).trim());
+                let t = st.span.slice(self.norm).trim();
+                self.out.push_str(t);
             }
             StatementKind::Meta { key, value } => {
-                out.push_str("meta ");
-                out.push_str(&key.name);
-                out.push_str(" = ");
-                push_string(&value.value, out);
+                self.push("meta ");
+                self.ident(key);
+                self.infix("=", key.span.end, value.span.start);
+                self.at(value.span.start);
+                push_string(&value.value, &mut self.out);
             }
-            StatementKind::Input {
-                name,
-                value,
-                description,
-            } => {
-                out.push_str("input ");
-                out.push_str(&name.name);
-                out.push_str(" = ");
-                self.expr(value, out);
-                self.description(description, out);
+            StatementKind::Input { name, value, .. } => {
+                self.push("input ");
+                self.ident(name);
+                self.infix("=", name.span.end, value.span.start);
+                self.expr(value);
             }
             StatementKind::Define {
-                name,
-                unit,
-                value,
-                description,
+                name, unit, value, ..
             } => {
-                out.push_str(&name.name);
+                self.ident(name);
+                let mut after = name.span.end;
                 if let Some(u) = unit {
-                    out.push_str(": ");
-                    out.push_str(&collapse_ws(u.span.slice(self.norm)));
+                    let colon = self.token_between(name.span.end, u.span.start);
+                    self.at(colon);
+                    self.push(": ");
+                    self.at(u.span.start);
+                    let text = collapse_ws(u.span.slice(self.norm));
+                    self.push(&text);
+                    after = u.span.end;
                 }
-                out.push_str(" = ");
-                self.expr(value, out);
-                self.description(description, out);
+                self.infix("=", after, value.span.start);
+                self.expr(value);
             }
-            StatementKind::Check {
-                left,
-                op,
-                right,
-                description,
+            StatementKind::Check { cond, .. } => {
+                self.push("check ");
+                self.expr(cond);
+            }
+            StatementKind::Gauge { value, .. } => {
+                self.push("gauge ");
+                self.expr(value);
+            }
+            StatementKind::Case { name, settings, .. } => {
+                self.push("case ");
+                self.ident(name);
+                self.push(":");
+                for (i, s) in settings.iter().enumerate() {
+                    if i > 0 {
+                        self.push(",");
+                    }
+                    self.at(s.span.start);
+                    self.space();
+                    self.ident(&s.input);
+                    self.infix("=", s.input.span.end, s.value.span.start);
+                    self.expr(&s.value);
+                }
+            }
+            StatementKind::Sweep {
+                input,
+                points,
+                show,
                 ..
             } => {
-                out.push_str("check ");
-                self.expr(left, out);
-                out.push(' ');
-                out.push_str(op.symbol());
-                out.push(' ');
-                self.expr(right, out);
-                self.description(description, out);
+                self.push("sweep ");
+                self.ident(input);
+                let mut prev = input.span.end;
+                match points {
+                    SweepPoints::Step { from, to, step }
+                    | SweepPoints::Count {
+                        from,
+                        to,
+                        count: step,
+                    } => {
+                        let last = if matches!(points, SweepPoints::Step { .. }) {
+                            "step"
+                        } else {
+                            "count"
+                        };
+                        for (word, e) in [("from", from), ("to", to), (last, step)] {
+                            self.infix(word, prev, e.span.start);
+                            self.expr(e);
+                            prev = e.span.end;
+                        }
+                    }
+                    SweepPoints::Over(values) => {
+                        for (i, e) in values.iter().enumerate() {
+                            if i == 0 {
+                                self.infix("over", prev, e.span.start);
+                            } else {
+                                self.push(", ");
+                            }
+                            self.expr(e);
+                            prev = e.span.end;
+                        }
+                    }
+                }
+                for (i, n) in show.iter().enumerate() {
+                    if i == 0 {
+                        self.infix("show", prev, n.span.start);
+                    } else {
+                        self.push(", ");
+                    }
+                    self.ident(n);
+                }
+            }
+            StatementKind::Find {
+                input,
+                low,
+                high,
+                left,
+                eq_span,
+                right,
+                ..
+            } => {
+                self.push("find ");
+                self.ident(input);
+                self.infix("in", input.span.end, low.span.start);
+                self.expr(low);
+                self.infix("..", low.span.end, high.span.start);
+                self.expr(high);
+                self.infix("where", high.span.end, left.span.start);
+                self.expr(left);
+                self.at(eq_span.start);
+                self.space();
+                self.push("= ");
+                self.expr(right);
+            }
+            StatementKind::Use { path, prefix } => {
+                self.push("use ");
+                self.at(path.span.start);
+                push_string(&path.value, &mut self.out);
+                self.infix("as", path.span.end, prefix.span.start);
+                self.ident(prefix);
             }
             StatementKind::Blank => {}
         }
     }
 
-    fn description(&self, d: &Option<StringLit>, out: &mut String) {
-        if let Some(d) = d {
-            out.push(' ');
-            push_string(&d.value, out);
+    /// Recursion depth is bounded by the nesting the parser accepts
+    /// (`MAX_NESTING`); a left-associative chain, which is as deep as it is
+    /// long, is walked in a loop.
+    fn expr(&mut self, e: &Expr) {
+        // The left spine of a chain of infix operators, outermost first.
+        let mut spine = Vec::new();
+        let mut cur = e;
+        loop {
+            match &cur.kind {
+                ExprKind::Binary { left, .. } | ExprKind::Logic { left, .. } => {
+                    spine.push(cur);
+                    cur = left;
+                }
+                _ => break,
+            }
+        }
+        self.operand(cur);
+        for node in spine.iter().rev() {
+            match &node.kind {
+                ExprKind::Binary { op, left, right } => {
+                    self.infix(op.symbol(), left.span.end, right.span.start);
+                    self.expr(right);
+                }
+                ExprKind::Logic {
+                    op, op_span, right, ..
+                } => {
+                    self.at(op_span.start);
+                    self.space();
+                    self.push(op.keyword());
+                    self.push(" ");
+                    self.expr(right);
+                }
+                _ => {}
+            }
         }
     }
 
-    /// Recursion depth is bounded: the parser never builds a tree deeper
-    /// than `MAX_NESTING`.
-    fn expr(&self, e: &Expr, out: &mut String) {
+    /// An expression that is not an infix chain (or whose chain `expr`
+    /// walks).
+    fn operand(&mut self, e: &Expr) {
+        self.at(e.span.start);
         match &e.kind {
             ExprKind::Number { text, unit, .. } => {
-                out.push_str(text);
+                self.push(text);
                 if let Some(u) = unit {
-                    out.push(' ');
-                    out.push_str(&collapse_ws(u.span.slice(self.norm)));
+                    self.at(u.span.start);
+                    self.space();
+                    let t = collapse_ws(u.span.slice(self.norm));
+                    self.push(&t);
                 }
             }
-            ExprKind::Str(s) => push_string(s, out),
-            ExprKind::Name(n) => out.push_str(n),
+            ExprKind::Str(s) => push_string(s, &mut self.out),
+            ExprKind::Name(n) => self.push(n),
             ExprKind::Neg(x) => {
-                out.push('-');
-                self.expr(x, out);
+                self.push("-");
+                self.expr(x);
             }
-            ExprKind::Binary { op, left, right } => {
-                self.expr(left, out);
-                out.push(' ');
-                out.push_str(op.symbol());
-                out.push(' ');
-                self.expr(right, out);
+            ExprKind::Not(x) => {
+                self.push("not ");
+                self.expr(x);
+            }
+            ExprKind::Binary { .. } | ExprKind::Logic { .. } => self.expr(e),
+            ExprKind::Compare { first, rest } => {
+                self.expr(first);
+                for l in rest {
+                    self.at(l.op_span.start);
+                    self.space();
+                    self.push(l.op.symbol());
+                    self.push(" ");
+                    self.expr(&l.operand);
+                }
+            }
+            ExprKind::If {
+                cond,
+                then_branch,
+                else_branch,
+            } => {
+                self.push("if ");
+                self.expr(cond);
+                self.infix("then", cond.span.end, then_branch.span.start);
+                self.expr(then_branch);
+                self.infix("else", then_branch.span.end, else_branch.span.start);
+                self.expr(else_branch);
             }
             ExprKind::Call { func, args } => {
-                out.push_str(&func.name);
-                out.push('(');
+                self.push(&func.name);
+                self.push("(");
                 for (i, a) in args.iter().enumerate() {
                     if i > 0 {
-                        out.push_str(", ");
+                        self.push(",");
+                        self.at(a.span.start);
+                        self.space();
                     }
                     if let Some(n) = &a.name {
-                        out.push_str(&n.name);
-                        out.push_str(": ");
+                        self.ident(n);
+                        self.push(": ");
                     }
-                    self.expr(&a.value, out);
+                    self.expr(&a.value);
                 }
-                out.push(')');
+                self.at(e.span.end.saturating_sub(1));
+                self.push(")");
             }
             ExprKind::Field { base, field } => {
-                self.expr(base, out);
-                out.push('.');
-                out.push_str(&field.name);
+                self.expr(base);
+                self.at(field.span.start);
+                self.push(".");
+                self.push(&field.name);
             }
             ExprKind::Paren(x) => {
-                out.push('(');
-                self.expr(x, out);
-                out.push(')');
+                self.push("(");
+                self.expr(x);
+                self.at(e.span.end.saturating_sub(1));
+                self.push(")");
             }
         }
     }

@@ -16,14 +16,19 @@ use pest::iterators::Pair;
 use pest_derive::Parser;
 
 use crate::ast::*;
-use crate::{MAX_NESTING, ParseError, line_col};
+use crate::{MAX_NESTING, MAX_SOURCE_BYTES, MAX_STATEMENT_BYTES, ParseError, line_col};
 
 #[derive(Parser)]
 #[grammar = "worksheet.pest"]
 struct WsParser;
 
-/// Words that start statements and therefore cannot be names.
-pub const KEYWORDS: [&str; 3] = ["input", "check", "meta"];
+/// Keywords: never a name (statement names, references, calls, named
+/// arguments, fields, case/sweep/find targets) and, except `in` and `as`,
+/// never a unit (`in` is the inch and `as` the attosecond after a number).
+pub const KEYWORDS: [&str; 23] = [
+    "input", "check", "meta", "case", "sweep", "find", "from", "to", "step", "count", "over",
+    "show", "where", "use", "gauge", "if", "then", "else", "and", "or", "not", "in", "as",
+];
 
 /// One parsed logical line plus what the AST does not keep but the formatter
 /// needs.
@@ -41,8 +46,28 @@ enum Ctx {
     Input,
     Check,
     Define,
+    Case,
+    Sweep,
+    Find,
+    Use,
+    Gauge,
     Expr,
     Unit,
+}
+
+/// The statement kind chosen by the first word of a statement line.
+fn ctx_of_word(word: &str) -> Ctx {
+    match word {
+        "input" => Ctx::Input,
+        "check" => Ctx::Check,
+        "meta" => Ctx::Meta,
+        "case" => Ctx::Case,
+        "sweep" => Ctx::Sweep,
+        "find" => Ctx::Find,
+        "use" => Ctx::Use,
+        "gauge" => Ctx::Gauge,
+        _ => Ctx::Define,
+    }
 }
 
 // ------------------------------------------------------------------ lines
@@ -65,18 +90,16 @@ fn split_lines(src: &str) -> (String, Vec<Logical>) {
             *b = b' ';
         }
     }
-    // Physical lines: (start, content_end, next_start).
+    // Physical lines: (start, content_end, next_start). A line ends at
+    // LF, CR LF or a lone CR.
     let mut phys = Vec::new();
     let mut pos = 0;
     while pos < src.len() {
-        let nl = src[pos..].find('\n').map(|i| pos + i);
-        let le = nl.unwrap_or(src.len());
-        let ce = if le > pos && bytes[le - 1] == b'\r' {
-            le - 1
-        } else {
-            le
+        let (ce, next) = match src[pos..].find(['\n', '\r']).map(|i| pos + i) {
+            None => (src.len(), src.len()),
+            Some(i) if bytes[i] == b'\r' && bytes.get(i + 1) == Some(&b'\n') => (i, i + 2),
+            Some(i) => (i, i + 1),
         };
-        let next = nl.map_or(src.len(), |i| i + 1);
         phys.push((pos, ce, next));
         pos = next;
     }
@@ -161,6 +184,21 @@ pub(crate) fn parse_lines(src: &str) -> Result<Vec<ParsedLine>, Vec<ParseError>>
 /// Like [`parse_lines`], also returning the source with continuations
 /// blanked (same byte offsets), for the formatter.
 pub(crate) fn parse_lines_norm(src: &str) -> Result<(String, Vec<ParsedLine>), Vec<ParseError>> {
+    if src.len() > MAX_SOURCE_BYTES {
+        let mut at = MAX_SOURCE_BYTES;
+        while !src.is_char_boundary(at) {
+            at -= 1;
+        }
+        let end = src[at..].chars().next().map_or(at, |c| at + c.len_utf8());
+        return Err(vec![ParseError {
+            span: Span::new(at, end),
+            message: format!(
+                "the worksheet is too large ({}); the limit is {} (split it and `use` the parts)",
+                mib(src.len()),
+                mib(MAX_SOURCE_BYTES)
+            ),
+        }]);
+    }
     let (norm, lines) = split_lines(src);
     let mut out = Vec::with_capacity(lines.len());
     let mut errors = Vec::new();
@@ -177,7 +215,33 @@ pub(crate) fn parse_lines_norm(src: &str) -> Result<(String, Vec<ParsedLine>), V
     }
 }
 
+/// A size in MiB for messages.
+fn mib(bytes: usize) -> String {
+    format!("{:.1} MiB", bytes as f64 / (1 << 20) as f64)
+}
+
+/// The statement-length limit, checked before any parsing.
+fn check_length(text: &str, start: usize) -> Result<(), ParseError> {
+    if text.len() <= MAX_STATEMENT_BYTES {
+        return Ok(());
+    }
+    let first = first_non_ws(text.as_bytes()).unwrap_or(0);
+    let end = text[first..]
+        .chars()
+        .next()
+        .map_or(first, |c| first + c.len_utf8());
+    Err(ParseError {
+        span: Span::new(start + first, start + end),
+        message: format!(
+            "this statement is too long ({}); the limit is {} (split it into named intermediate values)",
+            mib(text.len()),
+            mib(MAX_STATEMENT_BYTES)
+        ),
+    })
+}
+
 pub(crate) fn parse_expr(src: &str) -> Result<Expr, ParseError> {
+    check_length(src, 0)?;
     let depth = prescan(src, 0, false)?;
     with_stack(depth, Span::new(0, src.len()), || parse_expr_inner(src))
 }
@@ -189,6 +253,7 @@ fn parse_expr_inner(src: &str) -> Result<Expr, ParseError> {
 }
 
 pub(crate) fn parse_unit(src: &str) -> Result<UnitExpr, ParseError> {
+    check_length(src, 0)?;
     let depth = prescan(src, 0, false)?;
     with_stack(depth, Span::new(0, src.len()), || parse_unit_inner(src))
 }
@@ -238,6 +303,7 @@ fn nesting_error(span: Span) -> ParseError {
 
 fn parse_line(src: &str, norm: &str, l: Logical) -> Result<ParsedLine, ParseError> {
     let text = &norm[l.start..l.end];
+    check_length(text, l.start)?;
     let Some(f) = first_non_ws(text.as_bytes()) else {
         return Ok(ParsedLine {
             stmt: Statement {
@@ -300,12 +366,7 @@ fn dispatch(content: &str) -> Option<Ctx> {
         .bytes()
         .take_while(|b| b.is_ascii_alphanumeric() || *b == b'_')
         .count();
-    let ctx = match &content[..word_len] {
-        "input" => Ctx::Input,
-        "check" => Ctx::Check,
-        "meta" => Ctx::Meta,
-        _ => Ctx::Define,
-    };
+    let ctx = ctx_of_word(&content[..word_len]);
     if ctx != Ctx::Define {
         let after = content[word_len..].trim_start();
         if (after.starts_with('=') && !after.starts_with("==")) || after.starts_with(':') {
@@ -325,7 +386,9 @@ fn fast_statement(src: &str, text: &str, start: usize, content: &str) -> Option<
         Ctx::Input => Rule::f_input,
         Ctx::Check => Rule::f_check,
         Ctx::Meta => Rule::f_meta,
-        _ => Rule::f_define,
+        Ctx::Define => Rule::f_define,
+        // Rare statements have no fast-path rules.
+        _ => return None,
     };
     let pairs = WsParser::parse(rule, text).ok()?;
     let b = Builder { base: start, src };
@@ -345,12 +408,7 @@ fn parse_statement(
         .take_while(|b| b.is_ascii_alphanumeric() || *b == b'_')
         .count();
     let word = &content[..word_len];
-    let ctx = match word {
-        "input" => Ctx::Input,
-        "check" => Ctx::Check,
-        "meta" => Ctx::Meta,
-        _ => Ctx::Define,
-    };
+    let ctx = ctx_of_word(word);
     if ctx != Ctx::Define {
         let after = content[word_len..].trim_start();
         if (after.starts_with('=') && !after.starts_with("==")) || after.starts_with(':') {
@@ -364,6 +422,11 @@ fn parse_statement(
         Ctx::Input => Rule::stmt_input,
         Ctx::Check => Rule::stmt_check,
         Ctx::Meta => Rule::stmt_meta,
+        Ctx::Case => Rule::stmt_case,
+        Ctx::Sweep => Rule::stmt_sweep,
+        Ctx::Find => Rule::stmt_find,
+        Ctx::Use => Rule::stmt_use,
+        Ctx::Gauge => Rule::stmt_gauge,
         _ => Rule::stmt_define,
     };
     let b = Builder { base: start, src };
@@ -426,12 +489,40 @@ fn describe_char(c: char) -> String {
 /// Checks a statement line before pest sees it: characters that can never be
 /// valid, unterminated strings, and parenthesis depth (so that the grammar's
 /// recursion and the tree's depth stay bounded).
+///
+/// The depth returned counts parentheses and, conservatively, every `if`
+/// as one more level until the parenthesis it stands in closes (the
+/// grammar recurses once per `if`).
 fn prescan(text: &str, base: usize, comments: bool) -> Result<usize, ParseError> {
     let mut depth = 0usize;
     let mut max_depth = 0usize;
+    // `if`s opened at each open parenthesis level (index 0: outside).
+    let mut ifs: Vec<usize> = vec![0];
     let mut str_start: Option<usize> = None;
+    let mut prev_word = false;
+    let bytes = text.as_bytes();
     let mut chars = text.char_indices().peekable();
     while let Some((i, c)) = chars.next() {
+        let word = c.is_ascii_alphanumeric() || c == '_';
+        if word
+            && !prev_word
+            && c == 'i'
+            && bytes.get(i + 1) == Some(&b'f')
+            && !bytes
+                .get(i + 2)
+                .is_some_and(|b| b.is_ascii_alphanumeric() || *b == b'_')
+            && str_start.is_none()
+        {
+            depth += 1;
+            if let Some(n) = ifs.last_mut() {
+                *n += 1;
+            }
+            max_depth = max_depth.max(depth);
+            if depth > MAX_NESTING {
+                return Err(nesting_error(Span::new(base + i, base + i + 2)));
+            }
+        }
+        prev_word = word;
         if str_start.is_some() {
             match c {
                 '\\' => {
@@ -448,12 +539,20 @@ fn prescan(text: &str, base: usize, comments: bool) -> Result<usize, ParseError>
             '/' if comments && matches!(chars.peek(), Some((_, '/'))) => break,
             '(' => {
                 depth += 1;
+                ifs.push(0);
                 max_depth = max_depth.max(depth);
                 if depth > MAX_NESTING {
                     return Err(nesting_error(Span::new(base + i, base + i + 1)));
                 }
             }
-            ')' => depth = depth.saturating_sub(1),
+            ')' => {
+                let opened = if ifs.len() > 1 {
+                    ifs.pop().unwrap_or(0) + 1
+                } else {
+                    1
+                };
+                depth = depth.saturating_sub(opened);
+            }
             c if allowed_char(c) => {}
             c => {
                 return Err(ParseError {
@@ -517,25 +616,60 @@ struct Builder<'a> {
     src: &'a str,
 }
 
-enum StackOp {
-    Prefix { neg: bool, span: Span },
-    Infix { op: BinOp, span: Span },
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum Prefix {
+    Neg,
+    Pos,
+    Not,
 }
 
+#[derive(Clone, Copy)]
+enum Infix {
+    Bin(BinOp),
+    Cmp(CompareOp),
+    Logic(LogicOp),
+}
+
+enum StackOp {
+    Prefix { op: Prefix, span: Span },
+    Infix { op: Infix, span: Span },
+}
+
+// Binding strength, loosest first: `or`, `and`, `not`, comparisons,
+// `+ -`, `* /`, unary `-` / `+`, `^`. (`if` is not an operator here: the
+// grammar only allows it where a whole expression starts.)
 impl StackOp {
     fn prec(&self) -> u8 {
         match self {
-            StackOp::Prefix { .. } => 3,
-            StackOp::Infix { op, .. } => binop_prec(*op),
+            StackOp::Prefix {
+                op: Prefix::Not, ..
+            } => 3,
+            StackOp::Prefix { .. } => 7,
+            StackOp::Infix { op, .. } => infix_prec(*op),
         }
     }
 }
 
-fn binop_prec(op: BinOp) -> u8 {
+fn infix_prec(op: Infix) -> u8 {
     match op {
-        BinOp::Add | BinOp::Sub => 1,
-        BinOp::Mul | BinOp::Div => 2,
-        BinOp::Pow => 4,
+        Infix::Logic(LogicOp::Or) => 1,
+        Infix::Logic(LogicOp::And) => 2,
+        Infix::Cmp(_) => 4,
+        Infix::Bin(BinOp::Add | BinOp::Sub) => 5,
+        Infix::Bin(BinOp::Mul | BinOp::Div) => 6,
+        Infix::Bin(BinOp::Pow) => 8,
+    }
+}
+
+/// Whether `e` continues a left-associative chain of `op` (same binding
+/// strength), so that adding one more operand adds no nesting level.
+fn continues_chain(e: &Expr, op: Infix) -> bool {
+    match (&e.kind, op) {
+        (ExprKind::Binary { op: l, .. }, Infix::Bin(r)) => {
+            r != BinOp::Pow && infix_prec(Infix::Bin(*l)) == infix_prec(Infix::Bin(r))
+        }
+        (ExprKind::Logic { op: l, .. }, Infix::Logic(r)) => *l == r,
+        _ => false,
     }
 }
 
@@ -559,73 +693,252 @@ impl Builder<'_> {
 
     fn statement(&self, pair: Pair<'_, Rule>, ctx: Ctx) -> Result<ParsedLine, ParseError> {
         let whole = self.span(&pair);
-        let mut start: Option<usize> = None;
-        let mut end = whole.start;
         let mut trailing_comment = None;
-        let mut ident = None;
-        let mut exprs: Vec<Expr> = Vec::new();
-        let mut unit = None;
-        let mut strings: Vec<StringLit> = Vec::new();
-        let mut op = None;
+        let mut parts = Vec::new();
         for p in pair.into_inner() {
-            let sp = self.span(&p);
             match p.as_rule() {
-                Rule::EOI => continue,
-                Rule::trailing_comment => {
-                    trailing_comment = Some(sp);
-                    continue;
-                }
-                Rule::ident => ident = Some(self.ident(p)?),
-                Rule::expr | Rule::f_expr => exprs.push(self.expr(p)?.0),
-                Rule::unit_loose => unit = Some(self.unit(p)?.0),
-                Rule::string => strings.push(self.string(p)?),
-                Rule::cmp_op | Rule::f_cmp => op = Some((cmp_op(&p), sp)),
-                _ => {}
+                Rule::EOI => {}
+                Rule::trailing_comment => trailing_comment = Some(self.span(&p)),
+                _ => parts.push(p),
             }
-            start.get_or_insert(sp.start);
-            end = sp.end;
         }
-        let span = Span::new(start.unwrap_or(whole.start), end);
-        let mut strings = strings.into_iter();
-        let mut exprs = exprs.into_iter();
+        let span = match (parts.first(), parts.last()) {
+            (Some(f), Some(l)) => Span::new(self.span(f).start, self.span(l).end),
+            _ => whole,
+        };
         let kind = match ctx {
-            Ctx::Meta => match (ident, strings.next()) {
-                (Some(key), Some(value)) => StatementKind::Meta { key, value },
-                _ => return Err(internal(span)),
-            },
-            Ctx::Input => match (ident, exprs.next()) {
-                (Some(name), Some(value)) => StatementKind::Input {
-                    name,
-                    value,
-                    description: strings.next(),
-                },
-                _ => return Err(internal(span)),
-            },
-            Ctx::Define => match (ident, exprs.next()) {
-                (Some(name), Some(value)) => StatementKind::Define {
-                    name,
-                    unit,
-                    value,
-                    description: strings.next(),
-                },
-                _ => return Err(internal(span)),
-            },
-            Ctx::Check => match (exprs.next(), op, exprs.next()) {
-                (Some(left), Some((op, op_span)), Some(right)) => StatementKind::Check {
-                    left,
-                    op,
-                    op_span,
-                    right,
-                    description: strings.next(),
-                },
-                _ => return Err(internal(span)),
-            },
-            Ctx::Expr | Ctx::Unit => return Err(internal(span)),
+            Ctx::Case => self.case(parts, span)?,
+            Ctx::Sweep => self.sweep(parts, span)?,
+            Ctx::Find => self.find(parts, span)?,
+            Ctx::Use => self.use_stmt(parts, span)?,
+            _ => self.simple_statement(parts, ctx, span)?,
         };
         Ok(ParsedLine {
             stmt: Statement { kind, span },
             trailing_comment,
         })
+    }
+
+    /// `meta`, `input`, definitions, `check`, `gauge`.
+    fn simple_statement(
+        &self,
+        parts: Vec<Pair<'_, Rule>>,
+        ctx: Ctx,
+        span: Span,
+    ) -> Result<StatementKind, ParseError> {
+        let mut ident = None;
+        let mut expr = None;
+        let mut unit = None;
+        let mut string = None;
+        for p in parts {
+            match p.as_rule() {
+                Rule::ident => ident = Some(self.ident(p)?),
+                Rule::expr | Rule::f_expr => expr = Some(self.expr(p)?.0),
+                Rule::unit_loose => unit = Some(self.unit(p)?.0),
+                Rule::string => string = Some(self.string(p)?),
+                _ => {}
+            }
+        }
+        Ok(match (ctx, ident, expr) {
+            (Ctx::Meta, Some(key), None) => match string {
+                Some(value) => StatementKind::Meta { key, value },
+                None => return Err(internal(span)),
+            },
+            (Ctx::Input, Some(name), Some(value)) => StatementKind::Input {
+                name,
+                value,
+                description: string,
+            },
+            (Ctx::Define, Some(name), Some(value)) => StatementKind::Define {
+                name,
+                unit,
+                value,
+                description: string,
+            },
+            (Ctx::Check, None, Some(cond)) => StatementKind::Check {
+                cond,
+                description: string,
+            },
+            (Ctx::Gauge, None, Some(value)) => StatementKind::Gauge {
+                value,
+                description: string,
+            },
+            _ => return Err(internal(span)),
+        })
+    }
+
+    /// `case NAME: INPUT = EXPR, ... ["description"]`
+    fn case(&self, parts: Vec<Pair<'_, Rule>>, span: Span) -> Result<StatementKind, ParseError> {
+        let mut name = None;
+        let mut settings = Vec::new();
+        let mut description = None;
+        for p in parts {
+            match p.as_rule() {
+                Rule::ident => name = Some(self.ident(p)?),
+                Rule::string => description = Some(self.string(p)?),
+                Rule::case_set => {
+                    let sspan = self.span(&p);
+                    let mut input = None;
+                    let mut value = None;
+                    for q in p.into_inner() {
+                        match q.as_rule() {
+                            Rule::target => input = Some(self.target(q)),
+                            Rule::expr => value = Some(self.expr(q)?.0),
+                            _ => {}
+                        }
+                    }
+                    match (input, value) {
+                        (Some(input), Some(value)) => settings.push(CaseSetting {
+                            input,
+                            value,
+                            span: sspan,
+                        }),
+                        _ => return Err(internal(sspan)),
+                    }
+                }
+                _ => {}
+            }
+        }
+        match name {
+            Some(name) if !settings.is_empty() => Ok(StatementKind::Case {
+                name,
+                settings,
+                description,
+            }),
+            _ => Err(internal(span)),
+        }
+    }
+
+    /// `sweep INPUT (from A to B (step D | count N) | over A, B, ...) show NAME, ...`
+    fn sweep(&self, parts: Vec<Pair<'_, Rule>>, span: Span) -> Result<StatementKind, ParseError> {
+        let mut input = None;
+        let mut points = None;
+        let mut show = Vec::new();
+        let mut description = None;
+        for p in parts {
+            match p.as_rule() {
+                Rule::target if input.is_none() => input = Some(self.target(p)),
+                Rule::target => show.push(self.target(p)),
+                Rule::string => description = Some(self.string(p)?),
+                Rule::sweep_over => {
+                    let mut values = Vec::new();
+                    for q in p.into_inner() {
+                        if q.as_rule() == Rule::expr {
+                            values.push(self.expr(q)?.0);
+                        }
+                    }
+                    points = Some(SweepPoints::Over(values));
+                }
+                Rule::sweep_range => {
+                    let rspan = self.span(&p);
+                    let mut ends = Vec::new();
+                    let mut last = None;
+                    for q in p.into_inner() {
+                        match q.as_rule() {
+                            Rule::expr => ends.push(self.expr(q)?.0),
+                            Rule::sweep_step | Rule::sweep_count => {
+                                let is_step = q.as_rule() == Rule::sweep_step;
+                                let e = q.into_inner().find(|r| r.as_rule() == Rule::expr);
+                                match e {
+                                    Some(e) => last = Some((is_step, self.expr(e)?.0)),
+                                    None => return Err(internal(rspan)),
+                                }
+                            }
+                            _ => {}
+                        }
+                    }
+                    let mut ends = ends.into_iter();
+                    points = Some(match (ends.next(), ends.next(), last) {
+                        (Some(from), Some(to), Some((true, step))) => {
+                            SweepPoints::Step { from, to, step }
+                        }
+                        (Some(from), Some(to), Some((false, count))) => {
+                            SweepPoints::Count { from, to, count }
+                        }
+                        _ => return Err(internal(rspan)),
+                    });
+                }
+                _ => {}
+            }
+        }
+        match (input, points) {
+            (Some(input), Some(points)) if !show.is_empty() => Ok(StatementKind::Sweep {
+                input,
+                points,
+                show,
+                description,
+            }),
+            _ => Err(internal(span)),
+        }
+    }
+
+    /// `find INPUT in LOW .. HIGH where LEFT = RIGHT ["description"]`
+    fn find(&self, parts: Vec<Pair<'_, Rule>>, span: Span) -> Result<StatementKind, ParseError> {
+        let mut input = None;
+        let mut exprs = Vec::new();
+        let mut eq_span = None;
+        let mut description = None;
+        for p in parts {
+            match p.as_rule() {
+                Rule::target => input = Some(self.target(p)),
+                Rule::expr => exprs.push(self.expr(p)?.0),
+                Rule::eq => eq_span = Some(self.span(&p)),
+                Rule::string => description = Some(self.string(p)?),
+                _ => {}
+            }
+        }
+        let mut exprs = exprs.into_iter();
+        match (
+            input,
+            exprs.next(),
+            exprs.next(),
+            exprs.next(),
+            eq_span,
+            exprs.next(),
+        ) {
+            (Some(input), Some(low), Some(high), Some(left), Some(eq_span), Some(right)) => {
+                Ok(StatementKind::Find {
+                    input,
+                    low,
+                    high,
+                    left,
+                    eq_span,
+                    right,
+                    description,
+                })
+            }
+            _ => Err(internal(span)),
+        }
+    }
+
+    /// `use "OTHER.sheaf" as PREFIX`
+    fn use_stmt(
+        &self,
+        parts: Vec<Pair<'_, Rule>>,
+        span: Span,
+    ) -> Result<StatementKind, ParseError> {
+        let mut path = None;
+        let mut prefix = None;
+        for p in parts {
+            match p.as_rule() {
+                Rule::string => path = Some(self.string(p)?),
+                Rule::ident => prefix = Some(self.ident(p)?),
+                _ => {}
+            }
+        }
+        match (path, prefix) {
+            (Some(path), Some(prefix)) => Ok(StatementKind::Use { path, prefix }),
+            _ => Err(internal(span)),
+        }
+    }
+
+    /// A name path (`p2`, `site.T_amb`) as one identifier; the grammar has
+    /// already refused keywords in every part.
+    fn target(&self, p: Pair<'_, Rule>) -> Ident {
+        Ident {
+            name: p.as_str().to_string(),
+            span: self.span(&p),
+        }
     }
 
     fn ident(&self, p: Pair<'_, Rule>) -> Result<Ident, ParseError> {
@@ -671,61 +984,99 @@ impl Builder<'_> {
         Ok(StringLit { value, span })
     }
 
-    /// Operator-precedence pass over the flat `term (op term)*` sequence,
+    /// Operator-precedence pass over the flat operand/operator sequence,
     /// with explicit stacks (no recursion per operator).
+    ///
+    /// Depth (for [`MAX_NESTING`]) counts nesting, not operands: each
+    /// parenthesis, call, field, prefix operator, power, comparison and `if`
+    /// adds a level, but a left-associative chain (`a + b - c + ...`,
+    /// `a * b / c`, `p and q and r`) is one level however long it is.
     fn expr(&self, pair: Pair<'_, Rule>) -> Result<Node, ParseError> {
         let mut out: Vec<Node> = Vec::new();
         let mut ops: Vec<StackOp> = Vec::new();
+        // `+` then `-` then a number (`0.78 +- 0.02`): start of the `+`.
+        let mut last_add: Option<Span> = None;
+        let mut tolerance: Option<Span> = None;
         for p in pair.into_inner() {
             let sp = self.span(&p);
-            let binop = match p.as_rule() {
-                Rule::neg | Rule::pos => {
-                    ops.push(StackOp::Prefix {
-                        neg: p.as_rule() == Rule::neg,
-                        span: sp,
-                    });
-                    continue;
-                }
-                Rule::f_prefix => {
-                    ops.push(StackOp::Prefix {
-                        neg: p.as_str() == "-",
-                        span: sp,
-                    });
-                    continue;
-                }
-                Rule::postfix => {
-                    out.push(self.postfix(p)?);
-                    continue;
-                }
-                // Fast-path operands: a primary, then its fields.
-                Rule::num_lit | Rule::string | Rule::f_call | Rule::f_paren => {
-                    out.push(self.primary(p)?);
-                    continue;
-                }
-                Rule::field => {
-                    let Some(base) = out.pop() else {
-                        return Err(internal(sp));
-                    };
-                    out.push(self.field(base, p)?);
-                    continue;
-                }
-                Rule::f_binop => match p.as_str() {
+            let rule = p.as_rule();
+            let prefix = match rule {
+                Rule::neg => Some(Prefix::Neg),
+                Rule::pos => Some(Prefix::Pos),
+                Rule::kw_not | Rule::f_not => Some(Prefix::Not),
+                Rule::f_prefix if p.as_str() == "-" => Some(Prefix::Neg),
+                Rule::f_prefix => Some(Prefix::Pos),
+                _ => None,
+            };
+            if let Some(op) = prefix {
+                tolerance = match (op, last_add) {
+                    (Prefix::Neg, Some(add)) => Some(add),
+                    _ => None,
+                };
+                last_add = None;
+                ops.push(StackOp::Prefix { op, span: sp });
+                continue;
+            }
+            if matches!(
+                rule,
+                Rule::postfix
+                    | Rule::num_lit
+                    | Rule::string
+                    | Rule::f_call
+                    | Rule::f_paren
+                    | Rule::cond_if
+                    | Rule::f_if
+                    | Rule::field
+            ) {
+                let n = match rule {
+                    Rule::postfix => self.postfix(p, tolerance)?,
+                    Rule::cond_if | Rule::f_if => self.cond_if(p)?,
+                    Rule::field => {
+                        let Some(base) = out.pop() else {
+                            return Err(internal(sp));
+                        };
+                        self.field(base, p)?
+                    }
+                    // Fast-path operands: a primary, then its fields.
+                    _ => {
+                        if rule == Rule::num_lit
+                            && let Some(t) = tolerance
+                        {
+                            return Err(self.tolerance_error(t, &p));
+                        }
+                        self.primary(p)?
+                    }
+                };
+                out.push(n);
+                last_add = None;
+                tolerance = None;
+                continue;
+            }
+            let op = match rule {
+                Rule::f_binop => Infix::Bin(match p.as_str() {
                     "+" => BinOp::Add,
                     "-" => BinOp::Sub,
                     "*" => BinOp::Mul,
                     "/" => BinOp::Div,
                     "^" => BinOp::Pow,
                     _ => return Err(internal(sp)),
-                },
-                Rule::add => BinOp::Add,
-                Rule::sub => BinOp::Sub,
-                Rule::mul => BinOp::Mul,
-                Rule::div => BinOp::Div,
-                Rule::pow => BinOp::Pow,
+                }),
+                Rule::add => Infix::Bin(BinOp::Add),
+                Rule::sub => Infix::Bin(BinOp::Sub),
+                Rule::mul => Infix::Bin(BinOp::Mul),
+                Rule::div => Infix::Bin(BinOp::Div),
+                Rule::pow => Infix::Bin(BinOp::Pow),
+                Rule::cmp_op | Rule::f_cmp => Infix::Cmp(cmp_op(&p)),
+                Rule::kw_and => Infix::Logic(LogicOp::And),
+                Rule::kw_or => Infix::Logic(LogicOp::Or),
+                Rule::f_logic if p.as_str() == "and" => Infix::Logic(LogicOp::And),
+                Rule::f_logic => Infix::Logic(LogicOp::Or),
                 _ => return Err(internal(sp)),
             };
-            let prec = binop_prec(binop);
-            let right_assoc = binop == BinOp::Pow;
+            last_add = matches!(op, Infix::Bin(BinOp::Add)).then_some(sp);
+            tolerance = None;
+            let prec = infix_prec(op);
+            let right_assoc = matches!(op, Infix::Bin(BinOp::Pow));
             while let Some(top) = ops.last() {
                 let tp = top.prec();
                 if tp > prec || (tp == prec && !right_assoc) {
@@ -734,10 +1085,7 @@ impl Builder<'_> {
                     break;
                 }
             }
-            ops.push(StackOp::Infix {
-                op: binop,
-                span: sp,
-            });
+            ops.push(StackOp::Infix { op, span: sp });
         }
         while !ops.is_empty() {
             self.reduce(&mut out, &mut ops)?;
@@ -748,64 +1096,131 @@ impl Builder<'_> {
         }
     }
 
+    /// `+ -NUMBER` after a value: most likely a tolerance (`0.78 +- 0.02`).
+    fn tolerance_error(&self, add: Span, num: &Pair<'_, Rule>) -> ParseError {
+        let ns = self.span(num);
+        let text = num.as_str().trim_end();
+        ParseError {
+            span: Span::new(add.start, ns.end),
+            message: format!(
+                "a tolerance notation (`+-`) is not supported (it may come later); write the value alone, or use parentheses `+ (-{text})` if you mean a negative addend"
+            ),
+        }
+    }
+
+    /// `if C then A else B`.
+    fn cond_if(&self, p: Pair<'_, Rule>) -> Result<Node, ParseError> {
+        let span = self.span(&p);
+        let mut parts = Vec::with_capacity(3);
+        for q in p.into_inner() {
+            if matches!(q.as_rule(), Rule::expr | Rule::f_expr) {
+                parts.push(self.expr(q)?);
+            }
+        }
+        let mut parts = parts.into_iter();
+        let (Some((c, cd)), Some((t, td)), Some((e, ed))) =
+            (parts.next(), parts.next(), parts.next())
+        else {
+            return Err(internal(span));
+        };
+        let d = self.check_depth(
+            cd.max(td).max(ed) + 1,
+            Span::new(span.start, span.start + 2),
+        )?;
+        Ok((
+            Expr {
+                kind: ExprKind::If {
+                    cond: Box::new(c),
+                    then_branch: Box::new(t),
+                    else_branch: Box::new(e),
+                },
+                span,
+            },
+            d,
+        ))
+    }
+
     fn reduce(&self, out: &mut Vec<Node>, ops: &mut Vec<StackOp>) -> Result<(), ParseError> {
         let Some(op) = ops.pop() else {
             return Err(internal(Span::default()));
         };
         match op {
-            StackOp::Prefix { neg, span } => {
-                let Some((e, d)) = out.pop() else {
+            StackOp::Prefix { op, span } => {
+                let Some((mut e, d)) = out.pop() else {
                     return Err(internal(span));
                 };
                 let full = span.join(e.span);
-                if neg {
-                    let d = self.check_depth(d + 1, span)?;
-                    out.push((
-                        Expr {
-                            kind: ExprKind::Neg(Box::new(e)),
-                            span: full,
-                        },
-                        d,
-                    ));
-                } else {
+                let kind = match op {
                     // Unary plus has no node of its own; the operand's span
                     // grows to cover the `+`.
-                    out.push((
-                        Expr {
-                            kind: e.kind,
-                            span: full,
-                        },
-                        d,
-                    ));
-                }
+                    Prefix::Pos => {
+                        e.span = full;
+                        out.push((e, d));
+                        return Ok(());
+                    }
+                    Prefix::Neg => ExprKind::Neg(Box::new(e)),
+                    Prefix::Not => ExprKind::Not(Box::new(e)),
+                };
+                let d = self.check_depth(d + 1, span)?;
+                out.push((Expr { kind, span: full }, d));
             }
             StackOp::Infix { op, span } => {
-                let (Some((r, rd)), Some((l, ld))) = (out.pop(), out.pop()) else {
+                let (Some((r, rd)), Some((mut l, ld))) = (out.pop(), out.pop()) else {
                     return Err(internal(span));
                 };
-                let d = self.check_depth(ld.max(rd) + 1, span)?;
                 let full = l.span.join(r.span);
-                out.push((
-                    Expr {
-                        kind: ExprKind::Binary {
-                            op,
-                            left: Box::new(l),
-                            right: Box::new(r),
-                        },
-                        span: full,
+                if let (Infix::Cmp(cop), ExprKind::Compare { rest, .. }) = (op, &mut l.kind) {
+                    // A chain `a < b <= c`: one more link.
+                    rest.push(CompareLink {
+                        op: cop,
+                        op_span: span,
+                        operand: r,
+                    });
+                    l.span = full;
+                    let d = self.check_depth(ld.max(rd + 1), span)?;
+                    out.push((l, d));
+                    return Ok(());
+                }
+                let ld = if continues_chain(&l, op) { ld } else { ld + 1 };
+                let d = self.check_depth(ld.max(rd + 1), span)?;
+                let (l, r) = (Box::new(l), Box::new(r));
+                let kind = match op {
+                    Infix::Bin(op) => ExprKind::Binary {
+                        op,
+                        left: l,
+                        right: r,
                     },
-                    d,
-                ));
+                    Infix::Logic(op) => ExprKind::Logic {
+                        op,
+                        op_span: span,
+                        left: l,
+                        right: r,
+                    },
+                    Infix::Cmp(op) => ExprKind::Compare {
+                        first: l,
+                        rest: vec![CompareLink {
+                            op,
+                            op_span: span,
+                            operand: *r,
+                        }],
+                    },
+                };
+                out.push((Expr { kind, span: full }, d));
             }
         }
         Ok(())
     }
 
-    fn postfix(&self, pair: Pair<'_, Rule>) -> Result<Node, ParseError> {
+    fn postfix(&self, pair: Pair<'_, Rule>, tolerance: Option<Span>) -> Result<Node, ParseError> {
         let mut inner = pair.into_inner();
         let Some(first) = inner.next() else {
             return Err(internal(Span::default()));
         };
+        if first.as_rule() == Rule::num_lit
+            && let Some(t) = tolerance
+        {
+            return Err(self.tolerance_error(t, &first));
+        }
         let mut node = self.primary(first)?;
         for f in inner {
             node = self.field(node, f)?;
@@ -1233,6 +1648,27 @@ fn open_paren(text: &str, pos: usize) -> Option<usize> {
     stack.pop()
 }
 
+/// The word a statement form needs at this point, for rules that stand for
+/// one fixed token. Optional continuations (`and`, `or`, `not`) are left
+/// out: they are never the only thing that can follow.
+fn needed_word(r: Rule) -> Option<&'static str> {
+    Some(match r {
+        Rule::kw_then => "then",
+        Rule::kw_else => "else",
+        Rule::kw_from => "from",
+        Rule::kw_to => "to",
+        Rule::kw_step => "step",
+        Rule::kw_count => "count",
+        Rule::kw_over => "over",
+        Rule::kw_show => "show",
+        Rule::kw_where => "where",
+        Rule::kw_in => "in",
+        Rule::kw_as => "as",
+        Rule::dots => "..",
+        _ => return None,
+    })
+}
+
 const COMPARISONS: &str = "(`<`, `<=`, `>`, `>=`, `==`, `!=`)";
 
 impl Builder<'_> {
@@ -1266,14 +1702,32 @@ impl Builder<'_> {
                 "expected `)` to close the `(` opened at line {line}"
             ));
         }
-        let expects_operand =
-            has(Rule::number) || has(Rule::postfix) || has(Rule::neg) || has(Rule::expr);
+        // (pest names `arg` rather than its parts when a keyword stands
+        // where an argument's name or value should.)
+        let expects_operand = has(Rule::number)
+            || has(Rule::postfix)
+            || has(Rule::neg)
+            || has(Rule::expr)
+            || (has(Rule::arg) && matches!(found, Found::Word(_)));
         let expects_unit = has(Rule::unit_atom)
             || has(Rule::unit_factor)
             || has(Rule::unit_juxt)
             || has(Rule::unit_loose);
         let after_operand = has(Rule::add) || has(Rule::pow);
         if let Found::Word(w) = &found {
+            if expects_operand && w == "if" {
+                return err(
+                    "`if ... then ... else ...` has the lowest precedence: write it in parentheses here, e.g. `2 * (if a > b then a else b)`".into(),
+                );
+            }
+            if expects_operand && w == "not" {
+                return err(
+                    "`not` applies to a whole condition: write it in parentheses here, e.g. `a == (not b)`".into(),
+                );
+            }
+            if expects_operand && has(Rule::kw_not) && matches!(w.as_str(), "and" | "or") {
+                return err(format!("expected a condition before `{w}`"));
+            }
             if KEYWORDS.contains(&w.as_str()) && (expects_operand || has(Rule::ident)) {
                 return err(format!("`{w}` is a keyword and cannot be a name"));
             }
@@ -1293,6 +1747,28 @@ impl Builder<'_> {
                 _ => format!("expected an expression{}", after(&prev)),
             });
         }
+        // A keyword (or `..`, `:`) that the statement form needs next.
+        let mut words: Vec<&str> = positives.iter().filter_map(|r| needed_word(*r)).collect();
+        if ctx == Ctx::Case && has(Rule::colon) {
+            words.push(":");
+        }
+        if !words.is_empty() {
+            let list = match words.as_slice() {
+                [one] => format!("`{one}`"),
+                [rest @ .., last] => format!(
+                    "{} or `{last}`",
+                    rest.iter()
+                        .map(|w| format!("`{w}`"))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+                [] => String::new(),
+            };
+            return err(format!(
+                "expected {list}{}, found {found_desc}",
+                after(&prev)
+            ));
+        }
         if after_operand && let Found::Word(w) = &found {
             if w.starts_with(|c: char| c.is_ascii_digit()) {
                 return err(format!("expected an operator before `{w}`"));
@@ -1304,25 +1780,13 @@ impl Builder<'_> {
             }
             return err("a unit can only follow a number or `:`".into());
         }
-        if has(Rule::cmp_op) {
-            if let Found::Other(o) = &found
-                && o == "="
-            {
-                return err(format!(
-                    "expected a comparison {COMPARISONS} in a check; use `==` to test equality"
-                ));
-            }
-            return err(format!("expected a comparison {COMPARISONS} in a check"));
-        }
-        if let Found::Other(o) = &found
-            && matches!(o.as_str(), "<" | ">" | "<=" | ">=" | "==" | "!=")
-            && after_operand
+        if has(Rule::cmp_op)
+            && let Found::Other(o) = &found
+            && o == "="
         {
-            return err(if ctx == Ctx::Check {
-                "a check has exactly one comparison".into()
-            } else {
-                format!("a comparison {COMPARISONS} can only be used in a `check`")
-            });
+            return err(format!(
+                "`=` is not a comparison {COMPARISONS}; use `==` to test equality"
+            ));
         }
         if has(Rule::rparen)
             && let Some(open) = open_paren(text, pos)
@@ -1355,7 +1819,7 @@ impl Builder<'_> {
             }
             return err(match (ctx, &prev) {
                 (Ctx::Define, None) => format!(
-                    "expected a statement (a name, `input`, `check`, `meta`, `#` heading, `>` note or `//` comment), found {found_desc}"
+                    "expected a statement (a name, `input`, `check`, `meta`, `case`, `sweep`, `find`, `use`, `gauge`, `#` heading, `>` note or `//` comment), found {found_desc}"
                 ),
                 _ => format!("expected a name{}, found {found_desc}", after(&prev)),
             });

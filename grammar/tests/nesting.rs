@@ -37,9 +37,36 @@ fn ten_thousand_unary_minus() {
 }
 
 #[test]
-fn ten_thousand_term_sum() {
-    let src = format!("x = a{}", "+a".repeat(9_999));
-    one_nesting_error(&src);
+fn long_flat_chains_are_not_nesting() {
+    // A chain of one operator family is one level, however long; the
+    // tree is as deep as the chain, so building, formatting and dropping it
+    // must not recurse per operand (this runs on a 2 MiB test thread).
+    for (op, n) in [
+        ("+", 100_000),
+        ("-", 1_000),
+        ("*", 10_000),
+        ("/", 258),
+        (" and ", 10_000),
+    ] {
+        let src = format!("x = a{}", format!("{op}a").repeat(n));
+        let w = parse(&src).unwrap_or_else(|e| panic!("{op}: {:?}", &e[..1]));
+        assert_eq!(w.statements.len(), 1);
+        let out = sheaf_grammar::format(&src).unwrap_or_else(|e| panic!("{op}: {:?}", &e[..1]));
+        assert_eq!(
+            out.len(),
+            src.len() + 2 * n + 1 - if op == " and " { 2 * n } else { 0 }
+        );
+        drop(w);
+    }
+    let src = format!(
+        "x = a1{}",
+        (2..=1000).map(|i| format!(" + a{i}")).collect::<String>()
+    );
+    assert!(parse(&src).is_ok());
+    let e = parse_expr(&format!("a{}", " or a".repeat(50_000))).unwrap();
+    drop(e);
+    // A comparison chain is a list.
+    assert!(parse_expr(&format!("a{}", " < a".repeat(10_000))).is_ok());
 }
 
 #[test]
@@ -74,10 +101,18 @@ fn exactly_at_the_limit_is_accepted() {
     assert!(parse(&src).is_ok());
     let src = format!("x = {}1{}", "(".repeat(n + 1), ")".repeat(n + 1));
     one_nesting_error(&src);
-    // A sum of MAX_NESTING + 1 terms has depth MAX_NESTING.
-    let src = format!("x = a{}", "+a".repeat(n));
+    // Operator families nest: `a + a * (...)` is three levels (sum,
+    // product, parenthesis) per repetition; 85 * 3 = 255, 86 * 3 = 258.
+    let src = format!("x = {}a{}", "a + a * (".repeat(85), ")".repeat(85));
     assert!(parse(&src).is_ok());
-    let src = format!("x = a{}", "+a".repeat(n + 1));
+    let src = format!("x = {}a{}", "a + a * (".repeat(86), ")".repeat(86));
+    one_nesting_error(&src);
+    // `if` nests like a parenthesis.
+    let src = format!("x = {}1{}", "if c then 1 else ".repeat(n), "");
+    assert!(parse(&src).is_ok());
+    let src = format!("x = {}1", "if c then 1 else ".repeat(n + 1));
+    one_nesting_error(&src);
+    let src = format!("x = {}1", "not ".repeat(n + 1));
     one_nesting_error(&src);
     // Mixed nesting at the limit: calls inside parentheses inside minus.
     let src = format!("x = {}1{}", "-(f(".repeat(n / 3), "))".repeat(n / 3));
