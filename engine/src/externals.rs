@@ -9,7 +9,7 @@
 
 use std::collections::HashMap;
 
-use sheaf_grammar::{Expr, ExprKind, Span, StatementKind, Worksheet};
+use sheaf_grammar::{Expr, ExprKind, Span, StatementKind, SweepPoints, Worksheet};
 
 /// One `cell()` call of a worksheet.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -67,14 +67,49 @@ pub fn cell_requests(ws: &Worksheet) -> Vec<CellRequest> {
     let mut out = Vec::new();
     for stmt in &ws.statements {
         match &stmt.kind {
-            StatementKind::Input { value, .. } | StatementKind::Define { value, .. } => {
-                collect(value, &mut out);
+            StatementKind::Input { value, .. }
+            | StatementKind::Define { value, .. }
+            | StatementKind::Check { cond: value, .. }
+            | StatementKind::Gauge { value, .. } => collect(value, &mut out),
+            StatementKind::Case { settings, .. } => {
+                for s in settings {
+                    collect(&s.value, &mut out);
+                }
             }
-            StatementKind::Check { left, right, .. } => {
-                collect(left, &mut out);
-                collect(right, &mut out);
+            StatementKind::Sweep { points, .. } => match points {
+                SweepPoints::Step { from, to, step } => {
+                    for e in [from, to, step] {
+                        collect(e, &mut out);
+                    }
+                }
+                SweepPoints::Count { from, to, count } => {
+                    for e in [from, to, count] {
+                        collect(e, &mut out);
+                    }
+                }
+                SweepPoints::Over(values) => {
+                    for e in values {
+                        collect(e, &mut out);
+                    }
+                }
+            },
+            StatementKind::Find {
+                low,
+                high,
+                left,
+                right,
+                ..
+            } => {
+                for e in [low, high, left, right] {
+                    collect(e, &mut out);
+                }
             }
-            _ => {}
+            StatementKind::Heading { .. }
+            | StatementKind::Note { .. }
+            | StatementKind::Comment { .. }
+            | StatementKind::Meta { .. }
+            | StatementKind::Use { .. }
+            | StatementKind::Blank => {}
         }
     }
     out
@@ -99,10 +134,23 @@ fn collect(e: &Expr, out: &mut Vec<CellRequest>) {
                 }
                 stack.extend(args.iter().rev().map(|a| &a.value));
             }
-            ExprKind::Neg(a) | ExprKind::Paren(a) => stack.push(a),
-            ExprKind::Binary { left, right, .. } => {
+            ExprKind::Neg(a) | ExprKind::Paren(a) | ExprKind::Not(a) => stack.push(a),
+            ExprKind::Binary { left, right, .. } | ExprKind::Logic { left, right, .. } => {
                 stack.push(right);
                 stack.push(left);
+            }
+            ExprKind::Compare { first, rest } => {
+                stack.extend(rest.iter().rev().map(|l| &l.operand));
+                stack.push(first);
+            }
+            ExprKind::If {
+                cond,
+                then_branch,
+                else_branch,
+            } => {
+                stack.push(else_branch);
+                stack.push(then_branch);
+                stack.push(cond);
             }
             ExprKind::Field { base, .. } => stack.push(base),
             ExprKind::Number { .. } | ExprKind::Str(_) | ExprKind::Name(_) => {}
