@@ -248,21 +248,26 @@ fn shown(s: &Shown, sig: usize) -> String {
     }
 }
 
+/// A check's operand values, "334 degC vs 220 degC" (all evaluated), else
+/// None.
+fn operands_text(c: &CheckRow, sig: usize) -> Option<String> {
+    let parts: Option<Vec<String>> = c
+        .operands
+        .iter()
+        .map(|o| o.shown.as_ref().map(|s| shown(s, sig)))
+        .collect();
+    parts.filter(|p| !p.is_empty()).map(|p| p.join(" vs "))
+}
+
 fn check_line(c: &CheckRow, st: &Style, sig: usize) -> String {
     let verdict = match c.passed {
         Some(true) => format!("{}PASS{}", st.pass, st.reset),
         Some(false) => format!("{}FAIL{}", st.fail, st.reset),
         None => "----".to_string(),
     };
-    let values = match (&c.left, &c.right) {
-        (Some(l), Some(r)) => format!(
-            "  {}[{} vs {}]{}",
-            st.dim,
-            shown(l, sig),
-            shown(r, sig),
-            st.reset
-        ),
-        _ => String::new(),
+    let values = match operands_text(c, sig) {
+        Some(v) => format!("  {}[{v}]{}", st.dim, st.reset),
+        None => String::new(),
     };
     let desc = c
         .description
@@ -290,15 +295,19 @@ pub fn json(report: &Report) -> Json {
         })
         .flat_map(|q| q.flatten())
         .map(|q| {
-            json!({
+            let mut o = json!({
                 "name": q.name,
                 "kind": q.kind,
-                "value": opt_num(q.value),
+                "value": q.boolean.map_or_else(|| opt_num(q.value), Json::from),
                 "unit": q.unit,
                 "si_value": opt_num(q.si_value),
                 "si_unit": q.si_unit,
                 "description": q.description.clone().unwrap_or_default(),
-            })
+            });
+            if let Some(p) = &q.problem {
+                o["error"] = json!(p);
+            }
+            o
         })
         .collect();
     let checks: Vec<Json> = report
@@ -310,6 +319,11 @@ pub fn json(report: &Report) -> Json {
                 "text": c.text,
                 "passed": c.passed,
                 "description": c.description.clone().unwrap_or_default(),
+                "operands": c.operands.iter().map(|o| json!({
+                    "text": o.text,
+                    "value": o.shown.as_ref().map(|s| s.value),
+                    "unit": o.shown.as_ref().map_or("", |s| s.unit.as_str()),
+                })).collect::<Vec<_>>(),
             })
         })
         .collect();
@@ -393,15 +407,9 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
                 out.push_str(&format!(
                     "- {v} `{}`{}{}\n\n",
                     c.text,
-                    match (&c.left, &c.right) {
-                        (Some(l), Some(r)) => {
-                            format!(
-                                " ({} vs {})",
-                                md_escape(&shown(l, sig)),
-                                md_escape(&shown(r, sig))
-                            )
-                        }
-                        _ => String::new(),
+                    match operands_text(c, sig) {
+                        Some(v) => format!(" ({})", md_escape(&v)),
+                        None => String::new(),
                     },
                     c.description
                         .as_ref()

@@ -111,7 +111,16 @@ fn run_json_keys_are_the_documented_ones() {
     let c = &v["checks"][0];
     let mut ck: Vec<&str> = c.as_object().unwrap().keys().map(String::as_str).collect();
     ck.sort();
-    assert_eq!(ck, ["description", "line", "passed", "text"]);
+    assert_eq!(ck, ["description", "line", "operands", "passed", "text"]);
+    // Operands (DESIGN §5): every operand of the check's comparisons, each
+    // with its value in the comparison's display unit.
+    let ops = c["operands"].as_array().unwrap();
+    assert_eq!(ops.len(), 2);
+    for o in ops {
+        let mut ok: Vec<&str> = o.as_object().unwrap().keys().map(String::as_str).collect();
+        ok.sort();
+        assert_eq!(ok, ["text", "unit", "value"]);
+    }
     // T_start = 12 degC is 285.15 K in SI (degC offset 273.15 K, NIST SP 811 §4.2.1.1).
     let t = v["quantities"]
         .as_array()

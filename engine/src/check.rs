@@ -7,7 +7,8 @@ use rustc_hash::FxHashMap as HashMap;
 use std::sync::Arc;
 
 use sheaf_grammar::{
-    Arg, BinOp, Expr, ExprKind, Ident, Span, StatementKind, StringLit, UnitExpr, Worksheet,
+    Arg, BinOp, CompareLink, Expr, ExprKind, Ident, LogicOp, Span, StatementKind, StringLit,
+    UnitExpr, Worksheet,
 };
 
 use crate::builtins::{self, Builtin, TArg};
@@ -53,8 +54,21 @@ pub struct Node {
     /// Span of the defining expression (for a check: the whole comparison).
     pub expr_span: Span,
     pub description: Option<String>,
-    /// For a check: the quantity its two sides are (for showing them).
-    pub operand: Option<QTy>,
+    /// For a check: every operand of its comparisons, in order, with the
+    /// display unit the checker chose for it (for showing actual values and
+    /// limits).
+    pub operands: Vec<Operand>,
+}
+
+/// One operand of a comparison in a check.
+#[derive(Clone, Debug)]
+pub struct Operand {
+    /// Where it is written.
+    pub span: Span,
+    pub code: Code,
+    pub dim: Dim,
+    /// Common to the operands of one comparison (chain).
+    pub display: DisplayUnit,
 }
 
 /// The checked and compiled worksheet.
@@ -72,16 +86,16 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
     let mut diags = Vec::new();
     let mut nodes: Vec<Node> = Vec::new();
     let mut names: HashMap<String, usize> = HashMap::default();
-    let mut exprs: Vec<(&Expr, Option<&Expr>, Option<&UnitExpr>)> = Vec::new();
+    let mut exprs: Vec<(&Expr, Option<&UnitExpr>)> = Vec::new();
 
     // 1. Collect named nodes and checks.
     for (i, stmt) in ws.statements.iter().enumerate() {
-        let (kind, name, value, right, unit, desc) = match &stmt.kind {
+        let (kind, name, value, unit, desc) = match &stmt.kind {
             StatementKind::Input {
                 name,
                 value,
                 description,
-            } => (NodeKind::Input, Some(name), value, None, None, description),
+            } => (NodeKind::Input, Some(name), value, None, description),
             StatementKind::Define {
                 name,
                 unit,
@@ -91,19 +105,12 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
                 NodeKind::Computed,
                 Some(name),
                 value,
-                None,
                 unit.as_ref(),
                 description,
             ),
-            StatementKind::Check { cond, description } => match cond.as_single_comparison() {
-                Some((left, _, _, right)) => {
-                    (NodeKind::Check, None, left, Some(right), None, description)
-                }
-                None => {
-                    diags.push(not_supported_yet("this form of check", cond.span));
-                    continue;
-                }
-            },
+            StatementKind::Check { cond, description } => {
+                (NodeKind::Check, None, cond, None, description)
+            }
             StatementKind::Case { name, .. } => {
                 diags.push(not_supported_yet("`case`", name.span));
                 continue;
@@ -148,10 +155,7 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
             }
             names.insert(n.name.clone(), nodes.len());
         }
-        let expr_span = match (kind, right) {
-            (NodeKind::Check, Some(r)) => value.span.join(r.span),
-            _ => value.span,
-        };
+        let expr_span = value.span;
         nodes.push(Node {
             kind,
             name: name.cloned(),
@@ -162,20 +166,17 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
             deps: Vec::new(),
             expr_span,
             description: desc.as_ref().map(|d: &StringLit| d.value.clone()),
-            operand: None,
+            operands: Vec::new(),
         });
-        exprs.push((value, right, unit));
+        exprs.push((value, unit));
     }
 
     // 2. Dependencies (by name), unknown names.
     let mut all_deps: Vec<Vec<usize>> = Vec::with_capacity(nodes.len());
     let mut refs = Vec::new();
-    for (value, right, _) in &exprs {
+    for (value, _) in &exprs {
         refs.clear();
         collect_names(value, &mut refs);
-        if let Some(r) = right {
-            collect_names(r, &mut refs);
-        }
         let mut deps = Vec::new();
         for &(name, span) in &refs {
             if let Some(&j) = names.get(name) {
@@ -198,12 +199,8 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
         Ok(o) => o,
         Err(cycle) => {
             let refs_of = |i: usize| {
-                let (value, right, _) = exprs[i];
                 let mut refs = Vec::new();
-                collect_names(value, &mut refs);
-                if let Some(r) = right {
-                    collect_names(r, &mut refs);
-                }
+                collect_names(exprs[i].0, &mut refs);
                 refs
             };
             diags.push(cycle_diagnostic(&cycle, &nodes, &names, refs_of));
@@ -217,29 +214,32 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
         names: &names,
         types: vec![Ty::Error; nodes.len()],
         displays: vec![None; nodes.len()],
+        display_of: vec![DisplayUnit::Auto; nodes.len()],
         diags: Vec::new(),
-        last_operand: None,
-        last_display: None,
+        operands: None,
         unit_cache: HashMap::default(),
         externals,
     };
     for &i in &order {
-        let (value, right, unit) = exprs[i];
+        let (value, unit) = exprs[i];
         let node_kind = nodes[i].kind;
         let (ty, code, display) = match node_kind {
             NodeKind::Check => {
-                let (ty, code) = cx.check_comparison(ws, &nodes[i], value, right);
-                nodes[i].operand = cx.last_operand.take();
+                cx.operands = Some(Vec::new());
+                let (ty, code) = cx.condition(value);
+                nodes[i].operands = cx.operands.take().unwrap_or_default();
                 (ty, code, DisplayUnit::Auto)
             }
             NodeKind::Input | NodeKind::Computed => {
                 let (ty, code) = cx.expr(value);
-                let display = cx.display_unit(ty, value, unit, node_kind == NodeKind::Input);
+                let (display, written) =
+                    cx.display_unit(ty, value, unit, node_kind == NodeKind::Input);
+                cx.displays[i] = written;
                 (ty, code, display)
             }
         };
         cx.types[i] = ty;
-        cx.displays[i] = cx.last_display.take();
+        cx.display_of[i] = display.clone();
         nodes[i].ty = ty;
         nodes[i].code = code;
         nodes[i].display = display;
@@ -363,11 +363,12 @@ struct Cx<'a> {
     types: Vec<Ty>,
     /// Fixed display unit text of nodes checked so far (for messages).
     displays: Vec<Option<Span>>,
-    /// Span of the unit text the last `display_unit` call fixed.
-    last_display: Option<Span>,
+    /// Display units of nodes checked so far.
+    display_of: Vec<DisplayUnit>,
     diags: Vec<Diagnostic>,
-    /// Operand quantity of the last comparison checked.
-    last_operand: Option<QTy>,
+    /// While a check's condition is compiled: the operands of its
+    /// comparisons so far.
+    operands: Option<Vec<Operand>>,
     /// Units resolved so far, by their text (worksheets repeat a few units).
     unit_cache: HashMap<&'a str, Unit>,
     /// Values read by the caller for `cell()` calls.
@@ -424,13 +425,62 @@ impl Cx<'_> {
             ExprKind::Binary { op, left, right } => self.binary(*op, left, right, e.span),
             ExprKind::Call { func, args } => self.call(func, args, e.span),
             ExprKind::Field { base, field } => self.field(base, field),
-            ExprKind::Compare { .. }
-            | ExprKind::Logic { .. }
-            | ExprKind::Not(_)
-            | ExprKind::If { .. } => self.error(not_supported_yet(
-                "this expression (a condition or `if`)",
-                e.span,
-            )),
+            ExprKind::Compare { first, rest } => self.compare(first, rest),
+            ExprKind::Logic {
+                op,
+                op_span,
+                left,
+                right,
+            } => {
+                let (lt, lc) = self.expr(left);
+                let (rt, rc) = self.expr(right);
+                match (lt, rt) {
+                    (Ty::Error, _) | (_, Ty::Error) => ERR,
+                    (Ty::Bool, Ty::Bool) => {
+                        let (a, b) = (Box::new(lc), Box::new(rc));
+                        let code = match op {
+                            LogicOp::And => Code::And(a, b),
+                            LogicOp::Or => Code::Or(a, b),
+                        };
+                        (Ty::Bool, code)
+                    }
+                    (a, b) => {
+                        let (span, ty) = if a == Ty::Bool {
+                            (right.span, b)
+                        } else {
+                            (left.span, a)
+                        };
+                        self.error(
+                            Diagnostic::error(
+                                format!(
+                                    "`{}` joins true/false values, but this is {}",
+                                    op.keyword(),
+                                    ty.describe()
+                                ),
+                                span,
+                            )
+                            .with_secondary(*op_span, "joined here")
+                            .with_note("help: compare it first, e.g. `x > 0 m`"),
+                        )
+                    }
+                }
+            }
+            ExprKind::Not(a) => match self.expr(a) {
+                (Ty::Error, _) => ERR,
+                (Ty::Bool, c) => (Ty::Bool, Code::Not(Box::new(c))),
+                (ty, _) => self.error(Diagnostic::error(
+                    format!(
+                        "`not` takes a true/false value, but this is {}",
+                        ty.describe()
+                    ),
+                    a.span,
+                )),
+            },
+            ExprKind::If {
+                cond,
+                then_branch,
+                else_branch,
+            } => self.if_then_else(cond, then_branch, else_branch),
         }
     }
 
@@ -760,87 +810,218 @@ impl Cx<'_> {
         (fty, Code::Field(Box::new(code), f, field.span))
     }
 
-    fn check_comparison(
-        &mut self,
-        ws: &Worksheet,
-        node: &Node,
-        left: &Expr,
-        right: Option<&Expr>,
-    ) -> Typed {
-        let (op, op_span) = match &ws.statements[node.stmt].kind {
-            StatementKind::Check { cond, .. } => match cond.as_single_comparison() {
-                Some((_, op, op_span, _)) => (op, op_span),
-                None => return ERR,
-            },
-            _ => return ERR,
-        };
-        let Some(right) = right else { return ERR };
-        let (lt, lc) = self.expr(left);
-        let (rt, rc) = self.expr(right);
-        match (lt, rt) {
-            (Ty::Error, _) | (_, Ty::Error) => ERR,
-            (Ty::Num(a), Ty::Num(b)) => {
-                if a.dim != b.dim {
-                    return self.error(
-                        Diagnostic::error(
-                            format!(
-                                "cannot compare quantities of different dimensions: left is {}, right is {}",
-                                self.side(left, a),
-                                self.side(right, b)
-                            ),
-                            op_span,
-                        )
-                        .with_secondary(left.span, self.side(left, a))
-                        .with_secondary(right.span, self.side(right, b)),
-                    );
-                }
-                if matches!(
-                    (a.aff, b.aff),
-                    (Affinity::Absolute, Affinity::Difference)
-                        | (Affinity::Difference, Affinity::Absolute)
-                ) {
-                    return self.error(
-                        Diagnostic::error(
-                            format!(
-                                "cannot compare an absolute {q} with a {q} difference",
-                                q = units::quantity_name(a.dim)
-                            ),
-                            op_span,
-                        )
-                        .with_secondary(left.span, self.side(left, a))
-                        .with_secondary(right.span, self.side(right, b)),
-                    );
-                }
-                self.last_operand = Some(a);
-                (Ty::Bool, Code::Cmp(op, Box::new(lc), Box::new(rc)))
-            }
-            (a, b) => {
-                let bad = if matches!(a, Ty::Num(_)) {
-                    (right.span, b)
-                } else {
-                    (left.span, a)
-                };
-                self.error(Diagnostic::error(
-                    format!("a check compares numbers, but this is {}", bad.1.describe()),
-                    bad.0,
-                ))
-            }
+    /// A check's condition: a true/false expression.
+    fn condition(&mut self, e: &Expr) -> Typed {
+        match self.expr(e) {
+            (Ty::Error, _) => ERR,
+            (Ty::Bool, c) => (Ty::Bool, c),
+            (ty, _) => self.error(
+                Diagnostic::error(
+                    format!("a check needs a condition, but this is {}", ty.describe()),
+                    e.span,
+                )
+                .with_note("help: compare values, e.g. `check T2 <= 220 degC`"),
+            ),
         }
     }
 
+    /// A comparison or a chain of comparisons (`0.88 <= x2 <= 1`): numbers
+    /// of one dimension, no absolute value compared with a difference.
+    fn compare(&mut self, first: &Expr, rest: &[CompareLink]) -> Typed {
+        let mut exprs: Vec<&Expr> = vec![first];
+        exprs.extend(rest.iter().map(|l| &l.operand));
+        let typed: Vec<Typed> = exprs.iter().map(|e| self.expr(e)).collect();
+        if typed.iter().any(|(t, _)| *t == Ty::Error) {
+            return ERR;
+        }
+        let mut qs = Vec::with_capacity(typed.len());
+        for ((ty, _), e) in typed.iter().zip(&exprs) {
+            match ty {
+                Ty::Num(q) => qs.push(*q),
+                other => {
+                    return self.error(Diagnostic::error(
+                        format!(
+                            "a comparison takes numbers, but this is {}",
+                            other.describe()
+                        ),
+                        e.span,
+                    ));
+                }
+            }
+        }
+        for (k, link) in rest.iter().enumerate() {
+            let (l, r) = (exprs[k], exprs[k + 1]);
+            let (a, b) = (qs[k], qs[k + 1]);
+            if a.dim != b.dim {
+                return self.error(
+                    Diagnostic::error(
+                        format!(
+                            "cannot compare quantities of different dimensions: left is {}, right is {}",
+                            self.side(l, a),
+                            self.side(r, b)
+                        ),
+                        link.op_span,
+                    )
+                    .with_secondary(l.span, self.side(l, a))
+                    .with_secondary(r.span, self.side(r, b)),
+                );
+            }
+            if matches!(
+                (a.aff, b.aff),
+                (Affinity::Absolute, Affinity::Difference)
+                    | (Affinity::Difference, Affinity::Absolute)
+            ) {
+                return self.error(
+                    Diagnostic::error(
+                        format!(
+                            "cannot compare an absolute {q} with a {q} difference",
+                            q = units::quantity_name(a.dim)
+                        ),
+                        link.op_span,
+                    )
+                    .with_secondary(l.span, self.side(l, a))
+                    .with_secondary(r.span, self.side(r, b)),
+                );
+            }
+        }
+        let mut codes: Vec<Code> = typed.into_iter().map(|(_, c)| c).collect();
+        if self.operands.is_some() {
+            let display = self.comparison_display(&exprs);
+            let dim = qs[0].dim;
+            if let Some(ops) = self.operands.as_mut() {
+                for (e, c) in exprs.iter().zip(&codes) {
+                    ops.push(Operand {
+                        span: e.span,
+                        code: c.clone(),
+                        dim,
+                        display: display.clone(),
+                    });
+                }
+            }
+        }
+        let code = if let ([_, _], [link]) = (codes.as_slice(), rest) {
+            let b = codes.pop().unwrap_or(Code::Absent);
+            let a = codes.pop().unwrap_or(Code::Absent);
+            Code::Cmp(link.op, Box::new(a), Box::new(b))
+        } else {
+            let mut it = codes.into_iter();
+            let first = it.next().unwrap_or(Code::Absent);
+            Code::Chain(Box::new(first), rest.iter().map(|l| l.op).zip(it).collect())
+        };
+        (Ty::Bool, code)
+    }
+
+    /// The unit in which the operands of one comparison are shown: the
+    /// last unit written in a literal (a limit is usually written on the
+    /// right), else the display unit of the first named operand.
+    fn comparison_display(&mut self, exprs: &[&Expr]) -> DisplayUnit {
+        for e in exprs.iter().rev() {
+            if let ExprKind::Number { unit: Some(u), .. } = &inner(e).kind
+                && let Some(unit) = self.unit(u)
+            {
+                return DisplayUnit::Fixed {
+                    unit,
+                    text: normalise_unit_text(u.span.slice(self.src)),
+                };
+            }
+        }
+        exprs
+            .iter()
+            .find_map(|e| match &inner(e).kind {
+                ExprKind::Name(n) => self.names.get(n).map(|&i| self.display_of[i].clone()),
+                _ => None,
+            })
+            .unwrap_or(DisplayUnit::Auto)
+    }
+
+    /// `if C then A else B`: C true/false; A and B of one type (numbers:
+    /// one dimension, affinities that agree as for `+`).
+    fn if_then_else(&mut self, cond: &Expr, a: &Expr, b: &Expr) -> Typed {
+        let (ct, cc) = self.expr(cond);
+        let (at, ac) = self.expr(a);
+        let (bt, bc) = self.expr(b);
+        if ct != Ty::Bool && ct != Ty::Error {
+            return self.error(
+                Diagnostic::error(
+                    format!(
+                        "`if` needs a true/false condition, but this is {}",
+                        ct.describe()
+                    ),
+                    cond.span,
+                )
+                .with_note("help: compare values, e.g. `if p2 > 5 bar then ... else ...`"),
+            );
+        }
+        let ty = match (at, bt) {
+            (Ty::Error, _) | (_, Ty::Error) => return ERR,
+            (Ty::Num(x), Ty::Num(y)) => {
+                if x.dim != y.dim {
+                    return self.error(
+                        Diagnostic::error(
+                            format!(
+                                "the branches of `if` must be one quantity: `then` is {}, `else` is {}",
+                                self.side(a, x),
+                                self.side(b, y)
+                            ),
+                            b.span,
+                        )
+                        .with_secondary(a.span, self.side(a, x)),
+                    );
+                }
+                let aff = match (x.aff, y.aff) {
+                    (p, q) if p == q => p,
+                    (Affinity::Neutral, q) => q,
+                    (p, Affinity::Neutral) => p,
+                    _ => {
+                        return self.error(
+                            Diagnostic::error(
+                                format!(
+                                    "the branches of `if` mix an absolute {} with a difference",
+                                    units::quantity_name(x.dim)
+                                ),
+                                b.span,
+                            )
+                            .with_secondary(a.span, self.side(a, x)),
+                        );
+                    }
+                };
+                Ty::Num(QTy { dim: x.dim, aff })
+            }
+            (x, y) if x == y => x,
+            (x, y) => {
+                return self.error(
+                    Diagnostic::error(
+                        format!(
+                            "the branches of `if` must be of one kind: `then` is {}, `else` is {}",
+                            x.describe(),
+                            y.describe()
+                        ),
+                        b.span,
+                    )
+                    .with_secondary(a.span, x.describe()),
+                );
+            }
+        };
+        if ct == Ty::Error {
+            return ERR;
+        }
+        (ty, Code::If(Box::new(cc), Box::new(ac), Box::new(bc)))
+    }
+
     /// The display unit of a named value: its annotation, else for an
-    /// input (or a plain literal) the unit of its literal, else automatic.
+    /// input (or a plain literal) the unit of its literal, else automatic;
+    /// with the span of the unit text that fixed it.
     fn display_unit(
         &mut self,
         ty: Ty,
         value: &Expr,
         annotation: Option<&UnitExpr>,
         input: bool,
-    ) -> DisplayUnit {
+    ) -> (DisplayUnit, Option<Span>) {
         let text_of = |u: &UnitExpr| normalise_unit_text(u.span.slice(self.src));
         if let Some(ann) = annotation {
             let Some(unit) = self.unit(ann) else {
-                return DisplayUnit::Auto;
+                return (DisplayUnit::Auto, None);
             };
             match ty {
                 Ty::Error => {}
@@ -901,14 +1082,16 @@ impl Cx<'_> {
                     ));
                 }
             }
-            self.last_display = Some(ann.span);
-            return DisplayUnit::Fixed {
-                unit,
-                text: text_of(ann),
-            };
+            return (
+                DisplayUnit::Fixed {
+                    unit,
+                    text: text_of(ann),
+                },
+                Some(ann.span),
+            );
         }
         let Ty::Num(q) = ty else {
-            return DisplayUnit::Auto;
+            return (DisplayUnit::Auto, None);
         };
         let literal = if input {
             last_literal_unit(value, q.dim)
@@ -922,15 +1105,17 @@ impl Cx<'_> {
                         && !(q.aff == Affinity::Difference
                             && unit.affinity == Affinity::Absolute) =>
                 {
-                    self.last_display = Some(u.span);
-                    DisplayUnit::Fixed {
-                        unit,
-                        text: text_of(u),
-                    }
+                    (
+                        DisplayUnit::Fixed {
+                            unit,
+                            text: text_of(u),
+                        },
+                        Some(u.span),
+                    )
                 }
-                _ => DisplayUnit::Auto,
+                _ => (DisplayUnit::Auto, None),
             },
-            None => DisplayUnit::Auto,
+            None => (DisplayUnit::Auto, None),
         }
     }
 }
@@ -1121,9 +1306,15 @@ pub fn const_value(code: &Code) -> Option<f64> {
             Code::Slot(_) => true,
             Code::Const(_) | Code::Str(_) | Code::Absent => false,
             Code::Neg(a) => has_slot(a),
-            Code::Add(a, b) | Code::Sub(a, b) | Code::Mul(a, b) | Code::Cmp(_, a, b) => {
-                has_slot(a) || has_slot(b)
-            }
+            Code::Add(a, b)
+            | Code::Sub(a, b)
+            | Code::Mul(a, b)
+            | Code::Cmp(_, a, b)
+            | Code::And(a, b)
+            | Code::Or(a, b) => has_slot(a) || has_slot(b),
+            Code::Not(a) => has_slot(a),
+            Code::If(c, a, b) => has_slot(c) || has_slot(a) || has_slot(b),
+            Code::Chain(first, rest) => has_slot(first) || rest.iter().any(|(_, c)| has_slot(c)),
             Code::Div(a, b, _) | Code::Pow(a, b, _) => has_slot(a) || has_slot(b),
             Code::Field(a, _, _) => has_slot(a),
             Code::Call(_, args, _) => args.iter().any(has_slot),
@@ -1166,9 +1357,9 @@ pub fn check_standalone(e: &Expr, src: &str) -> Result<(Ty, Code), Vec<Diagnosti
         names: &names,
         types: Vec::new(),
         displays: Vec::new(),
+        display_of: Vec::new(),
         diags: Vec::new(),
-        last_operand: None,
-        last_display: None,
+        operands: None,
         unit_cache: HashMap::default(),
         externals: &Externals::default(),
     };

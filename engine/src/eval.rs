@@ -26,6 +26,14 @@ pub enum Code {
     Div(Box<Code>, Box<Code>, Span),
     Pow(Box<Code>, Box<Code>, Span),
     Cmp(CompareOp, Box<Code>, Box<Code>),
+    /// A comparison chain `a < b <= c`: every adjacent pair holds.
+    Chain(Box<Code>, Vec<(CompareOp, Code)>),
+    /// `and`, `or` (the right side is evaluated only when needed), `not`.
+    And(Box<Code>, Box<Code>),
+    Or(Box<Code>, Box<Code>),
+    Not(Box<Code>),
+    /// `if c then a else b`: only the branch taken is evaluated.
+    If(Box<Code>, Box<Code>, Box<Code>),
     /// Field of a state (span of the field name, for "no quality" errors).
     Field(Box<Code>, Field, Span),
     /// Built-in call; arguments in parameter order; where the call and its
@@ -90,6 +98,25 @@ fn number(code: &Code, slots: &[Value], span: Span, w: &mut Warnings) -> Result<
     }
 }
 
+fn boolean(code: &Code, slots: &[Value], span: Span, w: &mut Warnings) -> Result<bool, EvalError> {
+    match eval_inner(code, slots, span, w)? {
+        Value::Bool(b) => Ok(b),
+        _ => fail(span, "internal: expected a true/false value"),
+    }
+}
+
+/// `x OP y` on plain numbers.
+pub fn compare(op: CompareOp, x: f64, y: f64) -> bool {
+    match op {
+        CompareOp::Lt => x < y,
+        CompareOp::Le => x <= y,
+        CompareOp::Gt => x > y,
+        CompareOp::Ge => x >= y,
+        CompareOp::Eq => x == y,
+        CompareOp::Ne => x != y,
+    }
+}
+
 fn eval_inner(
     code: &Code,
     slots: &[Value],
@@ -138,14 +165,32 @@ fn eval_inner(
         Code::Cmp(op, a, b) => {
             let x = number(a, slots, span, w)?;
             let y = number(b, slots, span, w)?;
-            Ok(Value::Bool(match op {
-                CompareOp::Lt => x < y,
-                CompareOp::Le => x <= y,
-                CompareOp::Gt => x > y,
-                CompareOp::Ge => x >= y,
-                CompareOp::Eq => x == y,
-                CompareOp::Ne => x != y,
-            }))
+            Ok(Value::Bool(compare(*op, x, y)))
+        }
+        Code::Chain(first, rest) => {
+            // Every operand is evaluated (an error in any is an error).
+            let mut x = number(first, slots, span, w)?;
+            let mut holds = true;
+            for (op, c) in rest {
+                let y = number(c, slots, span, w)?;
+                holds &= compare(*op, x, y);
+                x = y;
+            }
+            Ok(Value::Bool(holds))
+        }
+        Code::And(a, b) => Ok(Value::Bool(
+            boolean(a, slots, span, w)? && boolean(b, slots, span, w)?,
+        )),
+        Code::Or(a, b) => Ok(Value::Bool(
+            boolean(a, slots, span, w)? || boolean(b, slots, span, w)?,
+        )),
+        Code::Not(a) => Ok(Value::Bool(!boolean(a, slots, span, w)?)),
+        Code::If(c, a, b) => {
+            if boolean(c, slots, span, w)? {
+                eval_inner(a, slots, span, w)
+            } else {
+                eval_inner(b, slots, span, w)
+            }
         }
         Code::Field(base, field, s) => match eval_inner(base, slots, span, w)? {
             Value::State(st) => match st.st.get(*field) {

@@ -33,6 +33,9 @@ pub struct Model {
     values: Vec<Value>,
     status: Vec<Status>,
     warnings: Vec<Vec<String>>,
+    /// For each check: the values of its comparisons' operands (SI), kept
+    /// for reports (actual value and limit).
+    operand_values: Vec<Vec<Option<f64>>>,
     dirty: Vec<bool>,
 }
 
@@ -93,6 +96,7 @@ impl Model {
             values: vec![Value::Absent; n],
             status: vec![Status::Pending; n],
             warnings: vec![Vec::new(); n],
+            operand_values: vec![Vec::new(); n],
             dirty: vec![true; n],
         })
     }
@@ -131,6 +135,11 @@ impl Model {
         &self.status[node]
     }
 
+    /// The operand values (SI) of a check's comparisons, in order.
+    pub fn operand_values(&self, node: usize) -> &[Option<f64>] {
+        &self.operand_values[node]
+    }
+
     pub fn warnings(&self, node: usize) -> &[String] {
         &self.warnings[node]
     }
@@ -167,6 +176,17 @@ impl Model {
                 Ok(v) => {
                     self.values[i] = v;
                     self.status[i] = Status::Ok;
+                    if !node.operands.is_empty() {
+                        self.operand_values[i] = node
+                            .operands
+                            .iter()
+                            .map(|o| {
+                                eval::eval(&o.code, &self.values, o.span, &mut Vec::new())
+                                    .ok()
+                                    .and_then(|v| v.as_num())
+                            })
+                            .collect();
+                    }
                 }
                 Err(e) => {
                     self.values[i] = Value::Absent;

@@ -57,8 +57,11 @@ pub struct QuantityRow {
     pub description: Option<String>,
     /// 1-based line of the statement.
     pub line: usize,
-    /// For values that are not numbers: what they are ("ideal gas air").
+    /// For values that are not numbers: what they are ("ideal gas air",
+    /// "yes" / "no" for a true/false value).
     pub text: Option<String>,
+    /// A true/false value.
+    pub boolean: Option<bool>,
     /// Why there is no value ("not evaluated: ..."), if so.
     pub problem: Option<String>,
     /// States and substances: their fields as `name.field` rows.
@@ -74,11 +77,18 @@ pub struct CheckRow {
     /// None when it could not be evaluated.
     pub passed: Option<bool>,
     pub description: Option<String>,
-    /// Both sides in a common display unit (the unit written on the right,
-    /// else on the left, else the left name's display unit).
-    pub left: Option<Shown>,
-    pub right: Option<Shown>,
+    /// Every operand of its comparisons, in order, each comparison's
+    /// operands in one display unit (the unit of the last literal, usually
+    /// the limit, else the first name's display unit).
+    pub operands: Vec<OperandRow>,
     pub node: usize,
+}
+
+/// One operand of a check: as written, and its value when evaluated.
+#[derive(Clone, Debug, Serialize)]
+pub struct OperandRow {
+    pub text: String,
+    pub shown: Option<Shown>,
 }
 
 /// A value in a display unit, at full precision.
@@ -140,6 +150,7 @@ fn number_row(
         description: None,
         line,
         text: None,
+        boolean: None,
         problem: None,
         fields: Vec::new(),
         node,
@@ -315,7 +326,10 @@ impl Model {
                 );
                 row.text = Some(match v {
                     Value::Str(s) => format!("\"{s}\""),
-                    Value::Bool(b) => b.to_string(),
+                    Value::Bool(b) => {
+                        row.boolean = Some(*b);
+                        if *b { "yes" } else { "no" }.to_string()
+                    }
                     _ => ty.describe(),
                 });
                 row.unit = String::new();
@@ -335,61 +349,28 @@ impl Model {
             Value::Bool(b) => Some(*b),
             _ => None,
         };
-        let (mut left, mut right) = (None, None);
-        if let Some(StatementKind::Check { cond, .. }) =
-            self.worksheet().statements.get(node.stmt).map(|s| &s.kind)
-            && let Some((l, _, _, rt)) = cond.as_single_comparison()
-            && let (crate::eval::Code::Cmp(_, lc, rc), Some(_)) = (&node.code, passed)
-        {
-            let mut w = Vec::new();
-            let lv = crate::eval::eval(lc, self.values(), node.expr_span, &mut w)
-                .ok()
-                .and_then(|v| v.as_num());
-            let rv = crate::eval::eval(rc, self.values(), node.expr_span, &mut w)
-                .ok()
-                .and_then(|v| v.as_num());
-            // Show both sides in the unit written on the right (or the left).
-            let unit_src = [rt, l].into_iter().find_map(|e| match &e.kind {
-                sheaf_grammar::ExprKind::Number { unit: Some(u), .. } => Some(u),
-                _ => None,
-            });
-            let display = unit_src
-                .and_then(|u| {
-                    units::resolve(u).ok().map(|unit| DisplayUnit::Fixed {
-                        unit,
-                        text: crate::check::normalise_unit_text(u.span.slice(src)),
-                    })
-                })
-                .or_else(|| {
-                    [l, rt].into_iter().find_map(|e| match &e.kind {
-                        sheaf_grammar::ExprKind::Name(n) => {
-                            self.node_index(n).map(|j| self.display(j).clone())
-                        }
-                        _ => None,
-                    })
-                })
-                .unwrap_or(DisplayUnit::Auto);
-            if let (Some(lv), Some(rv)) = (lv, rv) {
-                let dim = node.operand.map_or(Dim::NONE, |q| q.dim);
-                let fmt = |x: f64| {
-                    let (value, unit) = match (&display, dim == Dim::NONE) {
-                        (DisplayUnit::Fixed { .. }, _) => shown(&display, dim, x),
+        let values = self.operand_values(i);
+        let operands = node
+            .operands
+            .iter()
+            .enumerate()
+            .map(|(k, o)| OperandRow {
+                text: o.span.slice(src).to_string(),
+                shown: values.get(k).copied().flatten().map(|x| {
+                    let (value, unit) = match (&o.display, o.dim == Dim::NONE) {
                         (DisplayUnit::Auto, true) => (x, String::new()),
-                        (DisplayUnit::Auto, false) => units::auto_display(dim, x),
+                        _ => shown(&o.display, o.dim, x),
                     };
                     Shown { value, unit }
-                };
-                left = Some(fmt(lv));
-                right = Some(fmt(rv));
-            }
-        }
+                }),
+            })
+            .collect();
         CheckRow {
             line,
             text: node.expr_span.slice(src).to_string(),
             passed,
             description: node.description.clone(),
-            left,
-            right,
+            operands,
             node: i,
         }
     }

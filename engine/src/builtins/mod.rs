@@ -249,6 +249,7 @@ pub static ALL: &[&Builtin] = &[
     &substances::INCOMPRESSIBLE,
     &substances::FLUID,
     &substances::STATE,
+    &substances::IS_TWO_PHASE,
     &devices::ISENTROPIC,
     &devices::COMPRESSOR,
     &devices::TURBINE,

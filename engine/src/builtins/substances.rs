@@ -243,3 +243,19 @@ pub static STATE: Builtin = Builtin {
     },
     sheet: Sheet::Rule(Rule::State),
 };
+
+pub static IS_TWO_PHASE: Builtin = Builtin {
+    name: "is_two_phase",
+    family: Family::Substances,
+    params: &[p("st")],
+    variadic: false,
+    usage: "if is_two_phase(st2) then st2.x else 1",
+    description: "true when a state is inside the saturation dome or on its edge (it has a \
+                  quality `.x`); lets a worksheet branch on the phase of an outlet",
+    typing: |b, args| {
+        super::want_state(b, args, 0)?;
+        Ok(unless_error(args, Ty::Bool))
+    },
+    eval: |a, _| Ok(Value::Bool(a.state(0)?.st.x.is_some())),
+    sheet: Sheet::EngineOnly,
+};

@@ -140,6 +140,18 @@ fn ln(a: &Ex) -> Ex {
 fn exp(a: &Ex) -> Ex {
     Ex::call("EXP", std::slice::from_ref(a))
 }
+/// A comparison operator in spreadsheet notation.
+fn cmp_symbol(op: CompareOp) -> &'static str {
+    match op {
+        CompareOp::Lt => "<",
+        CompareOp::Le => "<=",
+        CompareOp::Gt => ">",
+        CompareOp::Ge => ">=",
+        CompareOp::Eq => "=",
+        CompareOp::Ne => "<>",
+    }
+}
+
 /// Speed of sound of a gas, sqrt(cp/cv R T) (engine: same operation order).
 fn gas_w(cp: &Ex, cv: &Ex, r: &Ex, t: &Ex) -> Ex {
     Ex::call("SQRT", &[mul(&mul(&div(cp, cv), r), t)])
@@ -234,17 +246,21 @@ impl Env<'_> {
             Code::Mul(a, b) => mul(&self.num(a)?, &self.num(b)?),
             Code::Div(a, b, _) => div(&self.num(a)?, &self.num(b)?),
             Code::Pow(a, b, _) => Ex::pow(&self.num(a)?, &self.num(b)?),
-            Code::Cmp(op, a, b) => {
-                let sym = match op {
-                    CompareOp::Lt => "<",
-                    CompareOp::Le => "<=",
-                    CompareOp::Gt => ">",
-                    CompareOp::Ge => ">=",
-                    CompareOp::Eq => "=",
-                    CompareOp::Ne => "<>",
-                };
-                Ex::bin(&self.num(a)?, sym, &self.num(b)?)
+            Code::Cmp(op, a, b) => Ex::bin(&self.num(a)?, cmp_symbol(*op), &self.num(b)?),
+            Code::Chain(first, rest) => {
+                let mut parts = Vec::with_capacity(rest.len());
+                let mut x = self.num(first)?;
+                for (op, c) in rest {
+                    let y = self.num(c)?;
+                    parts.push(Ex::bin(&x, cmp_symbol(*op), &y));
+                    x = y;
+                }
+                Ex::call("AND", &parts)
             }
+            Code::And(a, b) => Ex::call("AND", &[self.num(a)?, self.num(b)?]),
+            Code::Or(a, b) => Ex::call("OR", &[self.num(a)?, self.num(b)?]),
+            Code::Not(a) => Ex::call("NOT", &[self.num(a)?]),
+            Code::If(c, a, b) => Ex::call("IF", &[self.num(c)?, self.num(a)?, self.num(b)?]),
             Code::Field(base, f, _) => self.field(base, *f)?,
             Code::Call(b, args, _) => self.call(b, args)?,
             Code::Str(_) | Code::Absent => return None,
