@@ -317,7 +317,7 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
         }
     };
     for w in &warnings {
-        eprintln!("warning: {w}");
+        eprintln!("warning: {}", w.message);
     }
     match (ty, value) {
         (Ty::Num(q), Value::Num(si)) => {

@@ -331,7 +331,7 @@ pub fn json(report: &Report) -> Json {
         "title": report.title.clone().unwrap_or_default(),
         "quantities": quantities,
         "checks": checks,
-        "warnings": report.warnings,
+        "warnings": report.warnings.iter().map(|w| w.to_string()).collect::<Vec<_>>(),
     })
 }
 
@@ -423,7 +423,7 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
     if !report.warnings.is_empty() {
         out.push_str("## Warnings\n\n");
         for w in &report.warnings {
-            out.push_str(&format!("- {}\n", md_escape(w)));
+            out.push_str(&format!("- {}\n", md_escape(&w.to_string())));
         }
         out.push('\n');
     }

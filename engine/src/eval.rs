@@ -5,7 +5,11 @@ use std::sync::Arc;
 
 use sheaf_grammar::{CompareOp, Span};
 
-use crate::builtins::{self, Builtin, Warnings};
+use crate::builtins::{self, Builtin};
+use crate::diag::Diagnostic;
+
+/// Warnings met while evaluating, located (severity warning).
+pub type Warnings = Vec<Diagnostic>;
 use crate::thermo::{Field, Substance};
 pub use crate::value::{StateVal, Value};
 
@@ -218,10 +222,12 @@ fn eval_inner(
             for a in args {
                 vals.push(eval_inner(a, slots, span, w)?);
             }
-            let v = builtins::call(b, &vals, w).map_err(|e| EvalError {
+            let mut msgs = Vec::new();
+            let v = builtins::call(b, &vals, &mut msgs).map_err(|e| EvalError {
                 span: s.blame(e.param),
                 message: e.message,
             })?;
+            w.extend(msgs.into_iter().map(|m| Diagnostic::warning(m, s.call)));
             if let Value::Num(x) = v
                 && !x.is_finite()
             {

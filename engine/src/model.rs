@@ -32,7 +32,7 @@ pub struct Model {
     users: Vec<Vec<usize>>,
     values: Vec<Value>,
     status: Vec<Status>,
-    warnings: Vec<Vec<String>>,
+    warnings: Vec<Vec<Diagnostic>>,
     /// For each check: the values of its comparisons' operands (SI), kept
     /// for reports (actual value and limit).
     operand_values: Vec<Vec<Option<f64>>>,
@@ -140,7 +140,8 @@ impl Model {
         &self.operand_values[node]
     }
 
-    pub fn warnings(&self, node: usize) -> &[String] {
+    /// Located warnings (severity warning) of a node's last evaluation.
+    pub fn warnings(&self, node: usize) -> &[Diagnostic] {
         &self.warnings[node]
     }
 

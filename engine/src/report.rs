@@ -3,7 +3,9 @@
 //! full precision; rounding is the renderer's business.
 
 use serde::Serialize;
-use sheaf_grammar::{StatementKind, line_col};
+use sheaf_grammar::StatementKind;
+
+use crate::diag::LineIndex;
 
 use crate::check::{DisplayUnit, NodeKind};
 use crate::eval::{Value, substance_field};
@@ -27,9 +29,31 @@ pub struct Report {
     pub meta: Vec<(String, String)>,
     pub blocks: Vec<Block>,
     pub checks: Vec<CheckRow>,
-    pub warnings: Vec<String>,
+    /// Warnings in file order: the located diagnostic and its line.
+    pub warnings: Vec<WarningRow>,
     /// Whether any gauge unit appears (the report then says what gauge means).
     pub uses_gauge: bool,
+}
+
+/// A warning of the report.
+#[derive(Clone, Debug, Serialize)]
+pub struct WarningRow {
+    /// 1-based line of the place it points at.
+    pub line: usize,
+    /// The quantity it belongs to (`check` for a check).
+    pub name: String,
+    pub diagnostic: crate::diag::Diagnostic,
+}
+
+/// "line 12, `st2`: message".
+impl std::fmt::Display for WarningRow {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "line {}, `{}`: {}",
+            self.line, self.name, self.diagnostic.message
+        )
+    }
 }
 
 #[derive(Clone, Debug, Serialize)]
@@ -171,6 +195,7 @@ impl Model {
     /// Build the report of the current values.
     pub fn report(&self) -> Report {
         let src = self.source();
+        let lines = LineIndex::new(src);
         let ws = self.worksheet();
         let mut node_of_stmt = vec![None; ws.statements.len()];
         for (i, n) in self.nodes().iter().enumerate() {
@@ -185,7 +210,7 @@ impl Model {
             uses_gauge: ["barg", "psig", "kPag"].iter().any(|g| src.contains(g)),
         };
         for (si, stmt) in ws.statements.iter().enumerate() {
-            let line = line_col(src, stmt.span.start).0;
+            let line = lines.line(stmt.span.start);
             match &stmt.kind {
                 StatementKind::Heading { level, text } => {
                     if *level == 1 && r.title.is_none() {
@@ -221,10 +246,14 @@ impl Model {
                     .name
                     .as_ref()
                     .map_or("check".to_string(), |n| n.name.clone());
-                let line = line_col(src, self.nodes()[i].expr_span.start).0;
-                let msg = format!("line {line}, `{name}`: {w}");
-                if !r.warnings.contains(&msg) {
-                    r.warnings.push(msg);
+                let at = w.span().unwrap_or(self.nodes()[i].expr_span);
+                let row = WarningRow {
+                    line: lines.line(at.start),
+                    name,
+                    diagnostic: w.clone(),
+                };
+                if !r.warnings.iter().any(|x| x.to_string() == row.to_string()) {
+                    r.warnings.push(row);
                 }
             }
         }

@@ -132,7 +132,9 @@ fn warnings_for_model_limits_reach_the_report() {
          b = compressor(a, p: 20 bar, eta: 0.8)\n");
     let r = m.report();
     assert!(
-        r.warnings.iter().any(|w| w.contains("constant cp")),
+        r.warnings
+            .iter()
+            .any(|w| w.diagnostic.message.contains("constant cp")),
         "{:?}",
         r.warnings
     );
