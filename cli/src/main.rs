@@ -24,6 +24,7 @@ macro_rules! outln {
 }
 
 mod diagnostics;
+mod files;
 mod package;
 mod render;
 
@@ -497,10 +498,10 @@ fn cmd_fmt(file: &Path, write: bool) -> u8 {
         out!("{formatted}");
         return 0;
     }
-    match sheaf_engine::files::write_atomic(file, formatted.as_bytes()) {
+    match files::write_file(file, formatted.as_bytes()) {
         Ok(()) => 0,
         Err(e) => {
-            eprintln!("error: cannot write {name}: {e}");
+            eprintln!("error: {e}; {name} not changed");
             EXIT_USAGE
         }
     }

@@ -11,7 +11,6 @@ pub mod builtins;
 pub mod check;
 pub mod diag;
 pub mod eval;
-pub mod files;
 pub mod graph;
 pub mod model;
 pub mod report;
