@@ -169,3 +169,63 @@ fn xlsx_new_file_and_failed_write_leave_no_temporary() {
     assert!(leftovers(p).is_empty());
     let _ = stdout(&o);
 }
+
+const FAILING: &str = "# Tank\ninput V = 2 m^3\ncheck V > 3 m^3 \"big enough\"\n";
+
+#[cfg(target_os = "linux")]
+#[test]
+fn a_full_stdout_is_exit_2() {
+    let d = tempfile::tempdir().unwrap();
+    let p = d.path();
+    fs::write(p.join("fail.sheaf"), FAILING).unwrap();
+    for args in [
+        &["run", "fail.sheaf"][..],
+        &["run", "fail.sheaf", "--format", "json"],
+        &["units"],
+        &["check", "fail.sheaf"],
+    ] {
+        let full = fs::OpenOptions::new()
+            .write(true)
+            .open("/dev/full")
+            .unwrap();
+        let o = Command::new(env!("CARGO_BIN_EXE_sheaf"))
+            .current_dir(p)
+            .args(args)
+            .stdout(full)
+            .output()
+            .unwrap();
+        assert_eq!(o.status.code(), Some(2), "{args:?}: {}", stderr(&o));
+        assert!(
+            stderr(&o).contains("cannot write to standard output"),
+            "{args:?}: {}",
+            stderr(&o)
+        );
+    }
+}
+
+#[cfg(unix)]
+#[test]
+fn a_closed_pipe_keeps_the_run_status_quietly() {
+    let d = tempfile::tempdir().unwrap();
+    let p = d.path();
+    fs::write(p.join("fail.sheaf"), FAILING).unwrap();
+    fs::write(p.join("ok.sheaf"), WS).unwrap();
+    for (file, want) in [("fail.sheaf", 3), ("ok.sheaf", 0)] {
+        let mut child = Command::new(env!("CARGO_BIN_EXE_sheaf"))
+            .current_dir(p)
+            .args(["run", file])
+            .stdout(Stdio::piped())
+            .stderr(Stdio::piped())
+            .spawn()
+            .unwrap();
+        // The reader goes away before reading anything (`| head -0`).
+        drop(child.stdout.take());
+        let o = child.wait_with_output().unwrap();
+        assert_eq!(o.status.code(), Some(want), "{file}: {}", stderr(&o));
+        assert!(
+            !stderr(&o).contains("cannot write"),
+            "a closed pipe is quiet: {}",
+            stderr(&o)
+        );
+    }
+}
