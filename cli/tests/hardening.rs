@@ -229,3 +229,34 @@ fn a_closed_pipe_keeps_the_run_status_quietly() {
         );
     }
 }
+
+#[test]
+fn terminal_escapes_and_html_are_neutralised() {
+    let d = tempfile::tempdir().unwrap();
+    let p = d.path();
+    // A description that would erase the FAIL line and draw a fake PASS;
+    // a title with a bell and a bidi override; raw HTML.
+    let ws = "# Tank\u{7}\u{202e} <b>x</b>\ninput V = 2 m^3 \"<img src=x onerror=alert(1)> & co\"\n\
+              check V > 3 m^3 \"\u{1b}[2K\u{1b}[1G\u{8}  PASS  check fine\u{1b}[8m\"\n";
+    fs::write(p.join("evil.sheaf"), ws).unwrap();
+    let o = sheaf_in(p, &["run", "evil.sheaf"]);
+    assert_eq!(o.status.code(), Some(3), "{}", stderr(&o));
+    let text = stdout(&o);
+    assert!(!text.contains('\u{1b}'), "{text:?}");
+    assert!(!text.contains('\r'), "{text:?}");
+    assert!(
+        !text.contains('\u{7}') && !text.contains('\u{202e}'),
+        "{text:?}"
+    );
+    assert!(text.contains("FAIL"), "{text}");
+    assert!(!text.contains('\u{8}'), "{text:?}");
+    assert!(text.contains("\\u{1b}[2K"), "visible escapes: {text}");
+    let o = sheaf_in(p, &["run", "evil.sheaf", "--format", "md"]);
+    let md = stdout(&o);
+    assert!(!md.contains("<img") && !md.contains("<b>"), "{md}");
+    assert!(
+        md.contains("&lt;img src=x onerror=alert(1)&gt; &amp; co"),
+        "{md}"
+    );
+    assert!(!md.contains('\u{1b}') && !md.contains('\r'), "{md:?}");
+}
