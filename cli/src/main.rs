@@ -1,29 +1,60 @@
 //! `sheaf`: the command line. Thin: reads files and arguments, calls the
 //! engine, prints what it returns.
 
-/// Print to stdout; when the reader has gone (a closed pipe, `sheaf units |
-/// head`), stop quietly instead of panicking.
+/// Print to stdout. A failed write is an error (exit 2, message on
+/// stderr), except a closed pipe (`sheaf units | head`): then the rest of
+/// the output is dropped quietly and the run keeps the status it would
+/// have had.
 macro_rules! out {
-    ($($arg:tt)*) => {{
-        use std::io::Write as _;
-        if write!(std::io::stdout().lock(), $($arg)*).is_err() {
-            std::process::exit(0);
-        }
-    }};
+    ($($arg:tt)*) => {
+        $crate::stdout_write(format_args!($($arg)*))
+    };
 }
 
 /// [`out!`] with a line end.
 macro_rules! outln {
     () => { out!("\n") };
-    ($($arg:tt)*) => {{
-        use std::io::Write as _;
-        if writeln!(std::io::stdout().lock(), $($arg)*).is_err() {
-            std::process::exit(0);
-        }
-    }};
+    ($($arg:tt)*) => {
+        out!("{}\n", format_args!($($arg)*))
+    };
+}
+
+/// Set once stdout's reader has gone (EPIPE).
+static STDOUT_CLOSED: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
+
+/// What [`out!`] does: write, and handle a failure (see there).
+fn stdout_write(args: std::fmt::Arguments) {
+    use std::io::Write as _;
+    if STDOUT_CLOSED.load(std::sync::atomic::Ordering::Relaxed) {
+        return;
+    }
+    if let Err(e) = std::io::stdout().lock().write_fmt(args) {
+        stdout_failed(&e);
+    }
+}
+
+/// Flush stdout before exiting (its buffer may still hold a line).
+fn stdout_flush() {
+    use std::io::Write as _;
+    if STDOUT_CLOSED.load(std::sync::atomic::Ordering::Relaxed) {
+        return;
+    }
+    if let Err(e) = std::io::stdout().lock().flush() {
+        stdout_failed(&e);
+    }
+}
+
+fn stdout_failed(e: &std::io::Error) {
+    if e.kind() == std::io::ErrorKind::BrokenPipe {
+        STDOUT_CLOSED.store(true, std::sync::atomic::Ordering::Relaxed);
+    } else {
+        eprintln!("error: cannot write to standard output: {e}");
+        std::process::exit(i32::from(EXIT_USAGE));
+    }
 }
 
 mod diagnostics;
+mod files;
 mod package;
 mod render;
 mod workbooks;
@@ -185,6 +216,7 @@ fn main() -> ExitCode {
             force,
         } => package::cmd_pull(&file, &from, write, force),
     };
+    stdout_flush();
     ExitCode::from(code)
 }
 
@@ -520,10 +552,10 @@ fn cmd_fmt(file: &Path, write: bool) -> u8 {
         out!("{formatted}");
         return 0;
     }
-    match sheaf_engine::files::write_atomic(file, formatted.as_bytes()) {
+    match files::write_file(file, formatted.as_bytes()) {
         Ok(()) => 0,
         Err(e) => {
-            eprintln!("error: cannot write {name}: {e}");
+            eprintln!("error: {e}; {name} not changed");
             EXIT_USAGE
         }
     }

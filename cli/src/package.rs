@@ -53,6 +53,13 @@ pub fn cmd_xlsx(file: &Path, out: Option<&Path>, sets: &[String]) -> u8 {
         return EXIT_ERRORS;
     }
     let out = out.map_or_else(|| file.with_extension("xlsx"), Path::to_path_buf);
+    if crate::files::same_file(file, &out) {
+        eprintln!(
+            "error: the package {} would replace the worksheet {name} itself; nothing written (name another file with -o)",
+            out.display()
+        );
+        return EXIT_USAGE;
+    }
     let info = PackageInfo {
         source_name: file
             .file_name()
@@ -61,7 +68,14 @@ pub fn cmd_xlsx(file: &Path, out: Option<&Path>, sets: &[String]) -> u8 {
         tool_version: env!("CARGO_PKG_VERSION").to_string(),
         date: today(),
     };
-    match xlsx::write_package(&model, &info, &out) {
+    let bytes = match xlsx::write_package(&model, &info) {
+        Ok(b) => b,
+        Err(e) => {
+            eprintln!("error: {e}");
+            return EXIT_USAGE;
+        }
+    };
+    match crate::files::write_file(&out, &bytes) {
         Ok(()) => {
             outln!("wrote {}", out.display());
             0
@@ -146,14 +160,14 @@ pub fn cmd_pull(file: &Path, from: &Path, write: bool, force: bool) -> u8 {
         eprintln!("error: the rewritten worksheet would not check; {name} not changed");
         return EXIT_ERRORS;
     }
-    match xlsx::write_atomic(file, new_src.as_bytes()) {
+    match crate::files::write_file(file, new_src.as_bytes()) {
         Ok(()) => {
             let n = changes.iter().filter(|c| c.literal.is_some()).count();
             outln!("rewrote {n} input(s) in {name}");
             0
         }
         Err(e) => {
-            eprintln!("error: cannot write {name}: {e}");
+            eprintln!("error: {e}; {name} not changed");
             EXIT_USAGE
         }
     }

@@ -42,11 +42,39 @@ impl Style {
     }
 }
 
+/// User-supplied text made safe for a terminal or a text file: control
+/// characters (ESC, CR, BEL, backspace, C1 controls, ...) and the Unicode
+/// bidirectional overrides, which can redraw or reorder what a terminal
+/// shows, are written as visible escapes (`\u{1b}`, `\r`).
+pub fn escape_controls(s: &str) -> String {
+    let unsafe_char =
+        |c: char| c.is_control() || matches!(c, '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}');
+    if !s.chars().any(unsafe_char) {
+        return s.to_string();
+    }
+    let mut out = String::with_capacity(s.len() + 8);
+    for c in s.chars() {
+        match c {
+            '\n' => out.push_str("\\n"),
+            '\r' => out.push_str("\\r"),
+            '\t' => out.push_str("\\t"),
+            c if unsafe_char(c) => out.push_str(&format!("\\u{{{:x}}}", u32::from(c))),
+            c => out.push(c),
+        }
+    }
+    out
+}
+
+/// Short name of [`escape_controls`] for the text renderer.
+fn t(s: &str) -> String {
+    escape_controls(s)
+}
+
 fn value_text(row: &QuantityRow, sig: usize) -> String {
     match (row.value, &row.text, &row.problem) {
-        (_, _, Some(p)) if row.value.is_none() => format!("({p})"),
+        (_, _, Some(p)) if row.value.is_none() => format!("({})", t(p)),
         (Some(v), _, _) => format_sig(v, sig),
-        (None, Some(t), _) => t.clone(),
+        (None, Some(x), _) => t(x),
         _ => String::new(),
     }
 }
@@ -63,7 +91,8 @@ fn pad(s: &str, w: usize) -> String {
 /// The results as a terminal report.
 pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
     let mut out = String::new();
-    let title = report.title.clone().unwrap_or_else(|| file.to_string());
+    let file = &t(file);
+    let title = t(report.title.as_deref().unwrap_or(file));
     out.push_str(&format!("{}{}{}\n", st.bold, title, st.reset));
     out.push_str(&format!(
         "{}{}{}\n",
@@ -73,7 +102,7 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
     ));
     out.push_str(&format!("{}worksheet {file}{}\n", st.dim, st.reset));
     for (k, v) in &report.meta {
-        out.push_str(&format!("{}{k}: {v}{}\n", st.dim, st.reset));
+        out.push_str(&format!("{}{}: {}{}\n", st.dim, t(k), t(v), st.reset));
     }
 
     // Column widths over all quantity rows (fields included).
@@ -88,7 +117,7 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
         .collect();
     let wn = rows
         .iter()
-        .map(|r| r.name.chars().count())
+        .map(|r| t(&r.name).chars().count())
         .max()
         .unwrap_or(4)
         .max(4);
@@ -100,7 +129,7 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
         .clamp(5, 28);
     let wu = rows
         .iter()
-        .map(|r| r.unit.chars().count())
+        .map(|r| t(&r.unit).chars().count())
         .max()
         .unwrap_or(4)
         .max(4);
@@ -114,9 +143,9 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
                     continue;
                 }
                 let mark = if *level <= 2 { "■" } else { "□" };
-                out.push_str(&format!("\n{}{mark} {text}{}\n", st.bold, st.reset));
+                out.push_str(&format!("\n{}{mark} {}{}\n", st.bold, t(text), st.reset));
             }
-            Block::Note(t) => out.push_str(&format!("  {}{t}{}\n", st.dim, st.reset)),
+            Block::Note(n) => out.push_str(&format!("  {}{}{}\n", st.dim, t(n), st.reset)),
             Block::Quantity(q) => {
                 let tag = if q.kind == "input" {
                     format!("{}in{}", st.input, st.reset)
@@ -124,20 +153,20 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
                     "  ".into()
                 };
                 let name = if q.kind == "input" {
-                    format!("{}{}{}", st.input, pad(&q.name, wn), st.reset)
+                    format!("{}{}{}", st.input, pad(&t(&q.name), wn), st.reset)
                 } else {
-                    pad(&q.name, wn)
+                    pad(&t(&q.name), wn)
                 };
-                let desc = q.description.clone().unwrap_or_default();
+                let desc = t(q.description.as_deref().unwrap_or_default());
                 let line = if q.value.is_some() {
                     format!(
                         "  {tag} {name}  {:>wv$}  {}  {desc}",
                         value_text(q, sig),
-                        pad(&q.unit, wu),
+                        pad(&t(&q.unit), wu),
                         wv = wv
                     )
                 } else if let Some(p) = &q.problem {
-                    format!("  {tag} {name}  {}({p}){}  {desc}", st.fail, st.reset)
+                    format!("  {tag} {name}  {}({}){}  {desc}", st.fail, t(p), st.reset)
                 } else if !q.fields.is_empty()
                     && q.text.as_deref().is_some_and(|t| t.starts_with("state"))
                 {
@@ -152,9 +181,14 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
                         .fields
                         .iter()
                         .map(|f| {
-                            format!("{} {} {}", short(&f.name), value_text(f, sig), f.unit)
-                                .trim_end()
-                                .to_string()
+                            format!(
+                                "{} {} {}",
+                                t(short(&f.name)),
+                                value_text(f, sig),
+                                t(&f.unit)
+                            )
+                            .trim_end()
+                            .to_string()
                         })
                         .collect::<Vec<_>>()
                         .join(", ");
@@ -165,7 +199,7 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
                     };
                     format!(
                         "  {tag} {name}  {}{extra}  {desc}",
-                        q.text.clone().unwrap_or_default()
+                        t(q.text.as_deref().unwrap_or_default())
                     )
                 };
                 out.push_str(line.trim_end());
@@ -203,7 +237,7 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
     if !report.warnings.is_empty() {
         out.push_str(&format!("\n{}warnings{}\n", st.bold, st.reset));
         for w in &report.warnings {
-            out.push_str(&format!("  {}!{} {w}\n", st.warn, st.reset));
+            out.push_str(&format!("  {}!{} {}\n", st.warn, st.reset, t(&w.to_string())));
         }
     }
     out.push('\n');
@@ -230,9 +264,9 @@ fn state_summary(q: &QuantityRow, sig: usize) -> String {
             let u = if f.unit.is_empty() {
                 String::new()
             } else {
-                format!(" {}", f.unit)
+                format!(" {}", t(&f.unit))
             };
-            format!("{} {}{u}", short(&f.name), value_text(f, sig))
+            format!("{} {}{u}", t(short(&f.name)), value_text(f, sig))
         })
         .collect();
     format!("[{}]", parts.join(" | "))
@@ -244,7 +278,7 @@ fn shown(s: &Shown, sig: usize) -> String {
     if s.unit.is_empty() {
         v
     } else {
-        format!("{v} {}", s.unit)
+        format!("{v} {}", t(&s.unit))
     }
 }
 
@@ -272,9 +306,9 @@ fn check_line(c: &CheckRow, st: &Style, sig: usize) -> String {
     let desc = c
         .description
         .as_ref()
-        .map(|d| format!("  {d}"))
+        .map(|d| format!("  {}", t(d)))
         .unwrap_or_default();
-    format!("  {verdict}  check {}{values}{desc}\n", c.text)
+    format!("  {verdict}  check {}{values}{desc}\n", t(&c.text))
 }
 
 fn opt_num(x: Option<f64>) -> Json {
@@ -335,8 +369,43 @@ pub fn json(report: &Report) -> Json {
     })
 }
 
+/// Text for a Markdown line or table cell: control characters escaped
+/// ([`escape_controls`]), HTML-sensitive characters as entities (raw
+/// HTML does not pass through), `|` escaped for tables.
 fn md_escape(s: &str) -> String {
-    s.replace('|', "\\|")
+    let s = escape_controls(s);
+    let mut out = String::with_capacity(s.len());
+    for c in s.chars() {
+        match c {
+            '&' => out.push_str("&amp;"),
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '|' => out.push_str("\\|"),
+            c => out.push(c),
+        }
+    }
+    out
+}
+
+/// A Markdown code span of user text: fenced with more backticks than
+/// any run inside it (so it cannot be closed early; HTML inside a code
+/// span is shown, not interpreted), control characters escaped, `|`
+/// escaped for tables.
+fn md_code(s: &str) -> String {
+    let s = escape_controls(s).replace('|', "\\|");
+    let mut longest = 0;
+    let mut run = 0;
+    for c in s.chars() {
+        run = if c == '`' { run + 1 } else { 0 };
+        longest = longest.max(run);
+    }
+    let fence = "`".repeat(longest + 1);
+    let pad = if s.starts_with('`') || s.ends_with('`') {
+        " "
+    } else {
+        ""
+    };
+    format!("{fence}{pad}{s}{pad}{fence}")
 }
 
 /// The results as Markdown (for a calc note or a pull request).
@@ -344,7 +413,7 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
     let mut out = String::new();
     let title = report.title.clone().unwrap_or_else(|| file.to_string());
     out.push_str(&format!("# {}\n\n", md_escape(&title)));
-    out.push_str(&format!("Worksheet: `{file}`\n\n"));
+    out.push_str(&format!("Worksheet: {}\n\n", md_code(file)));
     for (k, v) in &report.meta {
         out.push_str(&format!("- {}: {}\n", md_escape(k), md_escape(v)));
     }
@@ -387,9 +456,9 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
                 let tag = if q.kind == "input" { "input" } else { "" };
                 for r in std::iter::once(q.as_ref()).chain(q.fields.iter()) {
                     out.push_str(&format!(
-                        "| {} | `{}` | {} | {} | {} |\n",
+                        "| {} | {} | {} | {} | {} |\n",
                         if std::ptr::eq(r, q.as_ref()) { tag } else { "" },
-                        r.name,
+                        md_code(&r.name),
                         md_escape(&value_text(r, sig)),
                         md_escape(&r.unit),
                         md_escape(&r.description.clone().unwrap_or_default())
@@ -405,8 +474,8 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
                     None => "not evaluated",
                 };
                 out.push_str(&format!(
-                    "- {v} `{}`{}{}\n\n",
-                    c.text,
+                    "- {v} {}{}{}\n\n",
+                    md_code(&c.text),
                     match operands_text(c, sig) {
                         Some(v) => format!(" ({})", md_escape(&v)),
                         None => String::new(),
@@ -432,4 +501,29 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
     }
     out.push_str(&format!("*{CAUTION}*\n"));
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn control_characters_become_visible() {
+        assert_eq!(escape_controls("plain µ text"), "plain µ text");
+        assert_eq!(escape_controls("a\rb\nc\td"), "a\\rb\\nc\\td");
+        assert_eq!(escape_controls("\u{1b}[31m"), "\\u{1b}[31m");
+        assert_eq!(escape_controls("\u{9b}2K\u{7f}"), "\\u{9b}2K\\u{7f}");
+        assert_eq!(
+            escape_controls("x\u{202e}y\u{2066}"),
+            "x\\u{202e}y\\u{2066}"
+        );
+    }
+
+    #[test]
+    fn markdown_escapes_html_and_code_spans_cannot_be_closed() {
+        assert_eq!(md_escape("<b>&</b> | x"), "&lt;b&gt;&amp;&lt;/b&gt; \\| x");
+        assert_eq!(md_code("a > b"), "`a > b`");
+        assert_eq!(md_code("x ` <i>"), "``x ` <i>``");
+        assert_eq!(md_code("`a`"), "`` `a` ``");
+    }
 }

@@ -12,7 +12,6 @@ pub mod check;
 pub mod diag;
 pub mod eval;
 pub mod externals;
-pub mod files;
 pub mod graph;
 pub mod model;
 pub mod report;

@@ -249,8 +249,6 @@ pub fn rewrite_inputs(source: &str, changes: &[Change]) -> String {
     out
 }
 
-pub use crate::files::write_atomic;
-
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -199,14 +199,10 @@ fn display_formula(
     (f, sh.value, sh.unit)
 }
 
-/// Write the calculation package of an evaluated model to `out`
-/// (atomically: a temporary file in the target folder, then a rename).
-pub fn write_package(model: &Model, info: &PackageInfo, out: &Path) -> Result<(), XlsxError> {
-    let bytes = package_bytes(model, info).map_err(werr(out))?;
-    super::write_atomic(out, &bytes).map_err(|e| XlsxError::Write {
-        path: out.display().to_string(),
-        message: e.to_string(),
-    })
+/// The calculation package of an evaluated model, as the bytes of an
+/// xlsx file (the CLI writes them to disk).
+pub fn write_package(model: &Model, info: &PackageInfo) -> Result<Vec<u8>, XlsxError> {
+    package_bytes(model, info).map_err(werr(Path::new("the package")))
 }
 
 /// Plan the rows of every node (topological order for the compiler).

@@ -68,7 +68,7 @@ pub fn write(path: &Path, src: &str, m: &Model, out: &Path) {
         tool_version: "test".into(),
         date: "2026-01-01".into(),
     };
-    write_package(m, &info, out).unwrap();
+    std::fs::write(out, write_package(m, &info).unwrap()).unwrap();
 }
 
 /// The engine's SI value behind a defined name of the scheme.
