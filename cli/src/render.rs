@@ -157,7 +157,10 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
                 } else {
                     pad(&t(&q.name), wn)
                 };
-                let desc = t(q.description.as_deref().unwrap_or_default());
+                let mut desc = t(q.description.as_deref().unwrap_or_default());
+                if let Some(o) = &q.overridden {
+                    desc = format!("{}[overridden: {}]{} {desc}", st.warn, t(o), st.reset);
+                }
                 let line = if q.value.is_some() {
                     format!(
                         "  {tag} {name}  {:>wv$}  {}  {desc}",
@@ -237,7 +240,12 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
     if !report.warnings.is_empty() {
         out.push_str(&format!("\n{}warnings{}\n", st.bold, st.reset));
         for w in &report.warnings {
-            out.push_str(&format!("  {}!{} {}\n", st.warn, st.reset, t(&w.to_string())));
+            out.push_str(&format!(
+                "  {}!{} {}\n",
+                st.warn,
+                st.reset,
+                t(&w.to_string())
+            ));
         }
     }
     out.push('\n');
@@ -340,6 +348,9 @@ pub fn json(report: &Report) -> Json {
             });
             if let Some(p) = &q.problem {
                 o["error"] = json!(p);
+            }
+            if q.overridden.is_some() {
+                o["overridden"] = json!(true);
             }
             o
         })
@@ -453,11 +464,19 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
                     );
                     in_table = true;
                 }
-                let tag = if q.kind == "input" { "input" } else { "" };
+                let tag = match (&q.overridden, q.kind == "input") {
+                    (Some(o), _) => format!("input, overridden: {}", md_escape(o)),
+                    (None, true) => "input".to_string(),
+                    (None, false) => String::new(),
+                };
                 for r in std::iter::once(q.as_ref()).chain(q.fields.iter()) {
                     out.push_str(&format!(
                         "| {} | {} | {} | {} | {} |\n",
-                        if std::ptr::eq(r, q.as_ref()) { tag } else { "" },
+                        if std::ptr::eq(r, q.as_ref()) {
+                            tag.as_str()
+                        } else {
+                            ""
+                        },
                         md_code(&r.name),
                         md_escape(&value_text(r, sig)),
                         md_escape(&r.unit),

@@ -23,5 +23,5 @@ pub mod xlsx;
 
 pub use diag::{Diagnostic, Label, Severity};
 pub use externals::{CellRequest, Externals};
-pub use model::{Model, Parsed, Status};
+pub use model::{Model, Override, OverrideSource, Parsed, Status};
 pub use report::{CAUTION, Report};

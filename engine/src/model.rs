@@ -23,6 +23,36 @@ pub enum Status {
     Skipped,
 }
 
+/// Where an input's value came from when it is not the worksheet's own.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum OverrideSource {
+    /// `--set NAME=VALUE` on the command line.
+    CommandLine,
+    /// A `case` of the worksheet, by name.
+    Case(String),
+    /// Set through the API ([`Model::set_input`]).
+    Program,
+}
+
+impl std::fmt::Display for OverrideSource {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            OverrideSource::CommandLine => f.write_str("command line (--set)"),
+            OverrideSource::Case(c) => write!(f, "case `{c}`"),
+            OverrideSource::Program => f.write_str("set by the calling program"),
+        }
+    }
+}
+
+/// An input's value as overridden: the value (SI), the text it was given
+/// as (`5 barg`), and where it came from.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Override {
+    pub si_value: f64,
+    pub text: String,
+    pub source: OverrideSource,
+}
+
 /// A checked and compiled worksheet with its current values.
 #[derive(Debug)]
 pub struct Model {
@@ -36,6 +66,8 @@ pub struct Model {
     /// For each check: the values of its comparisons' operands (SI), kept
     /// for reports (actual value and limit).
     operand_values: Vec<Vec<Option<f64>>>,
+    /// Inputs whose value is not the worksheet's own.
+    overrides: Vec<Option<Override>>,
     dirty: Vec<bool>,
 }
 
@@ -97,6 +129,7 @@ impl Model {
             status: vec![Status::Pending; n],
             warnings: vec![Vec::new(); n],
             operand_values: vec![Vec::new(); n],
+            overrides: vec![None; n],
             dirty: vec![true; n],
         })
     }
@@ -201,8 +234,25 @@ impl Model {
     }
 
     /// Replace an input's value (SI) and mark what depends on it for
-    /// re-evaluation. Call [`Model::evaluate`] afterwards.
+    /// re-evaluation. Call [`Model::evaluate`] afterwards. The input is
+    /// recorded as overridden by the calling program.
     pub fn set_input(&mut self, name: &str, si_value: f64) -> Result<(), String> {
+        self.set_input_si(name, si_value)?;
+        let i = self.input_index(name)?;
+        self.overrides[i] = Some(Override {
+            si_value,
+            text: crate::units::format_sig(si_value, 17),
+            source: OverrideSource::Program,
+        });
+        Ok(())
+    }
+
+    /// The override of input `node`, if its value is not the worksheet's.
+    pub fn override_of(&self, node: usize) -> Option<&Override> {
+        self.overrides.get(node).and_then(|o| o.as_ref())
+    }
+
+    fn set_input_si(&mut self, name: &str, si_value: f64) -> Result<(), String> {
         let i = self.input_index(name)?;
         if !matches!(self.checked.nodes[i].ty, Ty::Num(_)) {
             return Err(format!("input `{name}` is not a number"));
@@ -216,8 +266,19 @@ impl Model {
     }
 
     /// Replace an input's value from text such as `8 barg`, checked against
-    /// the input's quantity. Errors are worded for a command line.
+    /// the input's quantity, as given on the command line. Errors are
+    /// worded for a command line.
     pub fn set_input_text(&mut self, name: &str, text: &str) -> Result<(), String> {
+        self.set_input_from(name, text, OverrideSource::CommandLine)
+    }
+
+    /// [`Model::set_input_text`] with the source of the value recorded.
+    pub fn set_input_from(
+        &mut self,
+        name: &str,
+        text: &str,
+        source: OverrideSource,
+    ) -> Result<(), String> {
         let i = self.input_index(name)?;
         let expr = sheaf_grammar::parse_expr(text)
             .map_err(|e| format!("`{name}={text}`: {}", e.message))?;
@@ -237,7 +298,15 @@ impl Model {
         let want = self.checked.nodes[i].ty;
         let si = check::const_value(&code);
         match (want, ty, si) {
-            (Ty::Num(w), Ty::Num(g), Some(v)) if compatible(w, g) => self.set_input(name, v),
+            (Ty::Num(w), Ty::Num(g), Some(v)) if compatible(w, g) => {
+                self.set_input_si(name, v)?;
+                self.overrides[i] = Some(Override {
+                    si_value: v,
+                    text: text.trim().to_string(),
+                    source,
+                });
+                Ok(())
+            }
             (Ty::Num(w), Ty::Num(g), Some(_)) => Err(format!(
                 "`{name}={text}`: `{name}` is {}, but the new value is {}",
                 describe_qty(w),

@@ -86,6 +86,8 @@ pub struct QuantityRow {
     pub text: Option<String>,
     /// A true/false value.
     pub boolean: Option<bool>,
+    /// An input whose value is not the worksheet's: where it came from.
+    pub overridden: Option<String>,
     /// Why there is no value ("not evaluated: ..."), if so.
     pub problem: Option<String>,
     /// States and substances: their fields as `name.field` rows.
@@ -175,6 +177,7 @@ fn number_row(
         line,
         text: None,
         boolean: None,
+        overridden: None,
         problem: None,
         fields: Vec::new(),
         node,
@@ -368,6 +371,7 @@ impl Model {
         };
         row.description = node.description.clone();
         row.problem = problem;
+        row.overridden = self.override_of(i).map(|o| o.source.to_string());
         row
     }
 
