@@ -531,6 +531,10 @@ fn cmd_functions() -> u8 {
         outln!("  {:<12} {}", c.name, c.description);
     }
     outln!("\nstate fields: .T .p .h .u .s .v .rho .cp .cv .k .x .w");
+    outln!("  .k is cp/cv; for a real fluid it is not the isentropic exponent");
+    outln!(
+        "substance fields: .M (molar mass), .R (gases); perfect gas .cp .cv .k; incompressible .cp .cv .rho .v"
+    );
     0
 }
 

@@ -764,6 +764,18 @@ impl Cx<'_> {
         let fty = match ty {
             Ty::Error => return ERR,
             Ty::State(k) => {
+                if matches!(f, Field::M | Field::R) {
+                    return self.error(
+                        Diagnostic::error(
+                            format!(
+                                "`.{}` is a field of the substance, not of a state",
+                                f.name()
+                            ),
+                            field.span,
+                        )
+                        .with_note("help: write it on the substance, e.g. `gas.M`"),
+                    );
+                }
                 if !k.has_field(f) {
                     return self.error(Diagnostic::error(
                         format!(
@@ -779,7 +791,11 @@ impl Cx<'_> {
             Ty::Substance(k) => {
                 let ok = matches!(
                     (k, f),
-                    (ModelKind::PerfectGas, Field::Cp | Field::Cv | Field::K)
+                    (
+                        ModelKind::IdealGas | ModelKind::PerfectGas | ModelKind::RealFluid,
+                        Field::M
+                    ) | (ModelKind::IdealGas | ModelKind::PerfectGas, Field::R)
+                        | (ModelKind::PerfectGas, Field::Cp | Field::Cv | Field::K)
                         | (
                             ModelKind::Incompressible,
                             Field::Cp | Field::Cv | Field::Rho | Field::V
@@ -1169,19 +1185,14 @@ pub fn normalise_unit_text(s: &str) -> String {
     s.split_whitespace().collect::<Vec<_>>().join(" ")
 }
 
-/// The type of a state field.
+/// The type of a field.
 pub fn field_type(f: Field) -> Ty {
-    let dim = match f {
-        Field::T => return Ty::Num(QTy::absolute(Dim::TEMPERATURE)),
-        Field::P => Dim::PRESSURE,
-        Field::H | Field::U => Dim::SPECIFIC_ENERGY,
-        Field::S | Field::Cp | Field::Cv => Dim::SPECIFIC_ENTROPY,
-        Field::V => Dim::SPECIFIC_VOLUME,
-        Field::Rho => Dim::DENSITY,
-        Field::K | Field::X => Dim::NONE,
-        Field::W => Dim::VELOCITY,
-    };
-    Ty::num(dim)
+    let info = crate::fields::info(f);
+    if info.absolute {
+        Ty::Num(QTy::absolute(info.dim))
+    } else {
+        Ty::num(info.dim)
+    }
 }
 
 /// Affinity rules for `+` and `-` (DESIGN §3). `{q}` in an error message

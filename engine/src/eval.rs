@@ -241,10 +241,12 @@ fn eval_inner(
     }
 }
 
-/// Fields of substances: `gas.cp`, `liquid.rho` etc. (constant-property
-/// models only; the checker decides which exist).
+/// Fields of substances: `gas.M`, `gas.R`, `gas.cp`, `liquid.rho` (the
+/// checker decides which exist for which model).
 pub fn substance_field(sub: &Substance, field: Field) -> Option<f64> {
     match (sub, field) {
+        (_, Field::M) => sub.molar_mass(),
+        (_, Field::R) => sub.gas_constant(),
         (Substance::PerfectGas(g), Field::Cp) => Some(g.cp),
         (Substance::PerfectGas(g), Field::Cv) => Some(g.cp - g.r),
         (Substance::PerfectGas(g), Field::K) => Some(g.cp / (g.cp - g.r)),

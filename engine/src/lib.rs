@@ -12,6 +12,7 @@ pub mod check;
 pub mod diag;
 pub mod eval;
 pub mod externals;
+pub mod fields;
 pub mod graph;
 pub mod model;
 pub mod report;

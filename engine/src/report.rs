@@ -185,10 +185,7 @@ fn number_row(
 }
 
 fn field_dim(f: Field) -> Dim {
-    match crate::check::field_type(f) {
-        Ty::Num(q) => q.dim,
-        _ => Dim::NONE,
-    }
+    crate::fields::info(f).dim
 }
 
 /// Fields listed for a state in reports.
@@ -409,31 +406,22 @@ impl Model {
     }
 }
 
-/// Words for a state field.
+/// Words for a field.
 pub fn field_words(f: Field) -> &'static str {
-    match f {
-        Field::T => "temperature",
-        Field::P => "pressure",
-        Field::H => "specific enthalpy",
-        Field::U => "specific internal energy",
-        Field::S => "specific entropy",
-        Field::V => "specific volume",
-        Field::Rho => "density",
-        Field::Cp => "isobaric specific heat",
-        Field::Cv => "isochoric specific heat",
-        Field::K => "ratio of specific heats",
-        Field::X => "vapour quality",
-        Field::W => "speed of sound",
-    }
+    crate::fields::info(f).words
 }
 
 /// Fields listed for a substance: (name, dimension, SI value, words).
 pub fn substance_fields(sub: &Substance) -> Vec<(&'static str, Dim, f64, &'static str)> {
     let mut out = Vec::new();
-    if let Some(r) = sub.gas_constant() {
-        out.push(("R", Dim::SPECIFIC_ENTROPY, r, "specific gas constant"));
-    }
-    for f in [Field::Cp, Field::Cv, Field::K, Field::Rho] {
+    for f in [
+        Field::M,
+        Field::R,
+        Field::Cp,
+        Field::Cv,
+        Field::K,
+        Field::Rho,
+    ] {
         if let Some(x) = substance_field(sub, f) {
             out.push((f.name(), field_dim(f), x, field_words(f)));
         }

@@ -147,3 +147,42 @@ fn two_phase_states_have_quality_and_single_phase_ones_do_not() {
     let e = runtime_error("w = fluid(\"water\")\na = state(w, p: 1 bar, T: 20 degC)\nq = a.x\n");
     assert!(e.contains("quality"), "{e}");
 }
+
+#[test]
+fn substances_have_molar_mass_and_gas_constant_fields() {
+    let src = "air = ideal_gas(\"air\")\npg = perfect_gas(R: 287 J/(kg K), k: 1.4)\n\
+               w = fluid(\"water\")\nM_air = air.M\nR_air = air.R\nM_pg = pg.M\nM_w = w.M\n\
+               n_dot = 1 kg/s / M_air\n";
+    let mut m = sheaf_engine::Model::new(src).unwrap();
+    m.evaluate();
+    assert!(m.runtime_errors().is_empty(), "{:?}", m.runtime_errors());
+    let r_u = 8.314_462_618; // CODATA 2018
+    // R = R_u / M for every gas model (definition of the specific gas constant).
+    let (m_air, r_air) = (m.number("M_air").unwrap(), m.number("R_air").unwrap());
+    assert!((m_air * r_air / r_u - 1.0).abs() < 1e-12);
+    // Dry air 28.9645 g/mol (U.S. Standard Atmosphere 1976 composition; value from memory): 1e-4.
+    assert!((m_air / 0.028_964_5 - 1.0).abs() < 1e-4, "{m_air}");
+    assert!((m.number("M_pg").unwrap() - r_u / 287.0).abs() < 1e-15);
+    // Water: M = 18.015268 g/mol (IAPWS R6-95(2018), from memory); IF97's
+    // R = 461.526 J/(kg K) with its R_u = 8.31451 J/(mol K) agrees to 1e-6.
+    let m_w = m.number("M_w").unwrap();
+    assert!((m_w / 0.018_015_268 - 1.0).abs() < 1e-12);
+    assert!((m_w / (8.314_51 / 461.526) - 1.0).abs() < 1e-6);
+    // A molar flow: mass flow / M, in mol/s.
+    assert!((m.number("n_dot").unwrap() - 1.0 / m_air).abs() < 1e-12);
+    // Fields of a substance are refused on a state, and vice versa.
+    let e = sheaf_engine::Model::new(
+        "g = ideal_gas(\"N2\")\nst = state(g, T: 300 K, p: 1 bar)\nx = st.M\n",
+    )
+    .unwrap_err();
+    assert!(
+        e[0].message.contains("field of the substance"),
+        "{}",
+        e[0].message
+    );
+    let e = sheaf_engine::Model::new(
+        "l = incompressible(c: 4.18 kJ/(kg K), rho: 998 kg/m^3)\nx = l.M\n",
+    )
+    .unwrap_err();
+    assert!(e[0].message.contains("has no `.M`"), "{}", e[0].message);
+}

@@ -86,6 +86,10 @@ pub enum Field {
     X,
     /// Speed of sound.
     W,
+    /// Molar mass (a field of the substance, not of a state).
+    M,
+    /// Specific gas constant (a field of a gas, not of a state).
+    R,
 }
 
 impl Field {
@@ -118,11 +122,27 @@ impl Field {
             Field::K => "k",
             Field::X => "x",
             Field::W => "w",
+            Field::M => "M",
+            Field::R => "R",
         }
     }
 
+    /// Fields of substances (`gas.M`, `liquid.rho`).
+    pub const SUBSTANCE: [Field; 7] = [
+        Field::M,
+        Field::R,
+        Field::Cp,
+        Field::Cv,
+        Field::K,
+        Field::Rho,
+        Field::V,
+    ];
+
     pub fn from_name(name: &str) -> Option<Field> {
-        Field::ALL.into_iter().find(|f| f.name() == name)
+        Field::ALL
+            .into_iter()
+            .chain([Field::M, Field::R])
+            .find(|f| f.name() == name)
     }
 }
 
@@ -172,6 +192,7 @@ impl State {
             },
             Field::X => self.x,
             Field::W => self.w,
+            Field::M | Field::R => None,
         }
     }
 }
@@ -199,13 +220,14 @@ impl ModelKind {
 
     /// Whether states of this model can have the field at all.
     pub fn has_field(self, field: Field) -> bool {
-        !matches!(
-            (self, field),
-            (
-                ModelKind::IdealGas | ModelKind::PerfectGas | ModelKind::Incompressible,
-                Field::X
-            ) | (ModelKind::Incompressible, Field::W)
-        )
+        !matches!(field, Field::M | Field::R)
+            && !matches!(
+                (self, field),
+                (
+                    ModelKind::IdealGas | ModelKind::PerfectGas | ModelKind::Incompressible,
+                    Field::X
+                ) | (ModelKind::Incompressible, Field::W)
+            )
     }
 
     /// Whether this model accepts the property pair (by spec kind).
@@ -325,6 +347,16 @@ impl Substance {
             Substance::PerfectGas(g) => g.state(spec),
             Substance::Incompressible(m) => m.state(spec),
             Substance::Fluid(f) => f.state(spec),
+        }
+    }
+
+    /// Molar mass, kg/mol, where the model knows it.
+    pub fn molar_mass(&self) -> Option<f64> {
+        match self {
+            Substance::IdealGas(g) => Some(g.molar_mass()),
+            Substance::PerfectGas(g) => Some(consts::R_U / g.r),
+            Substance::Incompressible(_) => None,
+            Substance::Fluid(f) => Some(f.molar_mass()),
         }
     }
 

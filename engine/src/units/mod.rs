@@ -59,6 +59,7 @@ impl Dim {
     pub const MASS_FLOW: Dim = Dim([0, 1, -1, 0, 0, 0, 0]);
     pub const ENTROPY_RATE: Dim = Dim([2, 1, -3, -1, 0, 0, 0]);
     pub const MOLAR_ENTROPY: Dim = Dim([2, 1, -2, -1, -1, 0, 0]);
+    pub const MOLAR_MASS: Dim = Dim([0, 1, 0, 0, -1, 0, 0]);
 
     pub fn is_none(self) -> bool {
         self == Dim::NONE

@@ -16,6 +16,7 @@
 use crate::builtins::{Builtin, Rule, Sheet};
 use crate::eval::Code;
 use crate::thermo::Field;
+use crate::thermo::consts::R_U;
 use crate::thermo::exergy::G_N;
 use crate::thermo::ideal_gas::{P_STD, T_MID, T_REF};
 use crate::thermo::incompressible::P_REF;
@@ -613,6 +614,10 @@ pub fn substance_field(sub: &SubSym, f: Field) -> Option<Ex> {
         (SubSym::Incompressible { c, .. }, Field::Cp | Field::Cv) => Some(c.clone()),
         (SubSym::Incompressible { rho, .. }, Field::Rho) => Some(rho.clone()),
         (SubSym::Incompressible { rho, .. }, Field::V) => Some(div(&n(1.0), rho)),
+        (SubSym::Perfect { r, .. }, Field::R) => Some(r.clone()),
+        (SubSym::Perfect { r, .. }, Field::M) => Some(div(&n(R_U), r)),
+        (SubSym::Ideal(gas), Field::R) => Some(Ex::name(gas_r_name(gas))),
+        (SubSym::Ideal(gas), Field::M) => Some(div(&n(R_U), &Ex::name(gas_r_name(gas)))),
         _ => None,
     }
 }
@@ -711,7 +716,7 @@ pub fn field_formula(sub: &SubSym, f: Field, own: &Own) -> Option<Ex> {
             Field::Cv => sub_(cp, r),
             Field::K => div(&d(Field::Cp)?, &d(Field::Cv)?),
             Field::W => gas_w(&d(Field::Cp)?, &d(Field::Cv)?, r, &d(Field::T)?),
-            Field::X => return None,
+            Field::X | Field::M | Field::R => return None,
         }),
         SubSym::Incompressible { c, rho } => Some(match f {
             Field::T | Field::P => d(f)?,
@@ -725,7 +730,7 @@ pub fn field_formula(sub: &SubSym, f: Field, own: &Own) -> Option<Ex> {
             Field::Rho => div(&n(1.0), &d(Field::V)?),
             Field::Cp | Field::Cv => c.clone(),
             Field::K => div(&d(Field::Cp)?, &d(Field::Cv)?),
-            Field::X | Field::W => return None,
+            Field::X | Field::W | Field::M | Field::R => return None,
         }),
         SubSym::Ideal(gas) => {
             let r = Ex::name(gas_r_name(gas));
@@ -749,7 +754,7 @@ pub fn field_formula(sub: &SubSym, f: Field, own: &Own) -> Option<Ex> {
                 Field::Cv => sub_(&d(Field::Cp)?, &r),
                 Field::K => div(&d(Field::Cp)?, &d(Field::Cv)?),
                 Field::W => gas_w(&d(Field::Cp)?, &d(Field::Cv)?, &r, &d(Field::T)?),
-                Field::X => return None,
+                Field::X | Field::M | Field::R => return None,
             })
         }
         SubSym::RealFluid => None,

@@ -197,8 +197,6 @@ impl RealFluid for Water {
         "u = 0 and s = 0 for saturated liquid at the triple point (273.16 K)"
     }
     fn molar_mass(&self) -> f64 {
-        // IAPWS R7-97(2012) gives R = 461.526 J/(kg K) with R_u = 8.314371 J/(mol K)
-        // (the value used by the formulation): M = R_u / R.
         M
     }
     fn critical(&self) -> Critical {
@@ -221,9 +219,11 @@ impl RealFluid for Water {
     }
 }
 
-/// Molar mass of water, kg/mol: R_u / R with the constants of IF97
-/// (R = 461.526 J/(kg K), R_u = 8.314371 J/(mol K), IAPWS R7-97(2012) Eq. (1)).
-pub const M: f64 = 8.314_371 / R;
+/// Molar mass of water, kg/mol: 18.015268 g/mol (IAPWS R6-95(2018); value
+/// from memory). IF97's R = 461.526 J/(kg K) corresponds to an older
+/// 18.015257 g/mol with R_u = 8.31451 J/(mol K); the difference (6e-7) is
+/// far below any property tolerance.
+pub const M: f64 = 0.018_015_268;
 
 /// The saturated pair at (t, p) on the saturation line.
 fn saturation(t: f64, p: f64) -> Result<Saturation> {
