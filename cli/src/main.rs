@@ -65,11 +65,6 @@ use std::process::ExitCode;
 
 use clap::{Parser, Subcommand, ValueEnum};
 use serde_json::json;
-use sheaf_engine::check::check_standalone;
-use sheaf_engine::eval::{Value, eval};
-use sheaf_engine::report::{field_words, substance_fields};
-use sheaf_engine::thermo::Field;
-use sheaf_engine::types::Ty;
 use sheaf_engine::{Model, units};
 
 /// Exit statuses (DESIGN §5).
@@ -308,7 +303,7 @@ fn cmd_check(file: &Path) -> u8 {
     match load(file) {
         Ok((name, model)) => {
             let count = |k| model.nodes().iter().filter(|n| n.kind == k).count();
-            use sheaf_engine::check::NodeKind;
+            use sheaf_engine::NodeKind;
             outln!(
                 "{name}: ok ({} inputs, {} computed values, {} checks; units consistent)",
                 count(NodeKind::Input),
@@ -322,144 +317,75 @@ fn cmd_check(file: &Path) -> u8 {
 }
 
 fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
-    let expr = match sheaf_grammar::parse_expr(text) {
-        Ok(e) => e,
-        Err(e) => {
-            diagnostics::emit("<expression>", text, &[e.into()]);
-            return EXIT_ERRORS;
-        }
-    };
-    let (ty, code) = match check_standalone(&expr, text) {
-        Ok(x) => x,
-        Err(ds) => {
+    use sheaf_engine::{CalcError, Evaluated, Reading};
+    let calc = match sheaf_engine::evaluate_expression(text, unit) {
+        Ok(c) => c,
+        Err(CalcError::Expression(ds)) => {
             diagnostics::emit("<expression>", text, &ds);
             return EXIT_ERRORS;
         }
-    };
-    let mut warnings = Vec::new();
-    let value = match eval(&code, &[], expr.span, &mut warnings) {
-        Ok(v) => v,
-        Err(e) => {
-            diagnostics::emit(
-                "<expression>",
-                text,
-                &[sheaf_engine::Diagnostic::error(e.message, e.span)],
-            );
-            return EXIT_ERRORS;
+        Err(CalcError::Unit(m)) => {
+            eprintln!("error: --in {}: {m}", unit.unwrap_or_default());
+            return EXIT_USAGE;
         }
     };
-    for w in &warnings {
+    for w in &calc.warnings {
         eprintln!("warning: {}", w.message);
     }
-    match (ty, value) {
-        (Ty::Num(q), Value::Num(si)) => {
-            let (shown, unit_text) = match unit {
-                Some(u) => {
-                    let parsed = match sheaf_grammar::parse_unit(u) {
-                        Ok(p) => p,
-                        Err(e) => {
-                            diagnostics::emit("<unit>", u, &[e.into()]);
-                            return EXIT_USAGE;
-                        }
-                    };
-                    let target = match units::resolve(&parsed) {
-                        Ok(t) => t,
-                        Err(e) => {
-                            let hint = e
-                                .suggestion
-                                .map(|s| format!(" (did you mean `{s}`?)"))
-                                .unwrap_or_default();
-                            eprintln!("error: --in {u}: {}{hint}", e.message);
-                            return EXIT_USAGE;
-                        }
-                    };
-                    if target.dim != q.dim {
-                        eprintln!(
-                            "error: --in {u}: `{u}` is {}, but the value is {}",
-                            units::quantity_name(target.dim),
-                            sheaf_engine::types::describe_qty(q)
-                        );
-                        return EXIT_USAGE;
-                    }
-                    if q.aff == units::Affinity::Difference
-                        && target.affinity == units::Affinity::Absolute
-                    {
-                        eprintln!(
-                            "error: --in {u}: the value is a difference; show it in K or delta_degC"
-                        );
-                        return EXIT_USAGE;
-                    }
-                    (
-                        target.from_si(si),
-                        u.split_whitespace().collect::<Vec<_>>().join(" "),
-                    )
-                }
-                None => units::auto_display(q.dim, si),
-            };
-            match format {
-                Format::Json => outln!(
-                    "{}",
-                    json!({"value": shown, "unit": unit_text, "si_value": si, "si_unit": units::si_unit(q.dim)})
-                ),
-                _ => {
-                    let v = units::format_sig(shown, sig);
-                    if unit_text.is_empty() {
-                        outln!("{v}")
-                    } else {
-                        outln!("{v} {unit_text}")
-                    }
-                }
-            }
-            0
+    let reading_json = |r: &Reading| json!({"value": r.value, "unit": r.unit, "si_value": r.si_value, "si_unit": r.si_unit});
+    let shown = |r: &Reading| {
+        let v = units::format_sig(r.value, sig);
+        if r.unit.is_empty() {
+            v
+        } else {
+            format!("{v} {}", r.unit)
         }
-        (_, Value::State(sv)) => {
-            if unit.is_some() {
-                eprintln!("error: --in applies to a number; pick a field, e.g. `(...).h`");
-                return EXIT_USAGE;
-            }
-            outln!("state of {}", sv.sub);
-            for f in Field::ALL {
-                if let Some(x) = sv.st.get(f) {
-                    let dim = match sheaf_engine::check::field_type(f) {
-                        Ty::Num(q) => q.dim,
-                        _ => units::Dim::NONE,
-                    };
-                    let (v, u) = units::auto_display(dim, x);
-                    outln!(
-                        "  .{:<4} {:>12} {:<10} {}",
-                        f.name(),
-                        units::format_sig(v, sig),
-                        u,
-                        field_words(f)
-                    );
-                }
-            }
-            0
+    };
+    match (&calc.result, format) {
+        (Evaluated::Number(r), Format::Json) => outln!("{}", reading_json(r)),
+        (Evaluated::Number(r), _) => outln!("{}", shown(r)),
+        (Evaluated::Bool(b), Format::Json) => outln!("{}", json!({"value": b, "unit": ""})),
+        (Evaluated::Bool(b), _) => outln!("{}", if *b { "yes" } else { "no" }),
+        (Evaluated::Text(t), Format::Json) => outln!("{}", json!({"value": t, "unit": ""})),
+        (Evaluated::Text(t), _) => outln!("{t}"),
+        (Evaluated::Fields { what, fields }, Format::Json) => {
+            let fs: Vec<_> = fields
+                .iter()
+                .map(|f| {
+                    let mut j = reading_json(f);
+                    j["name"] = json!(f.name);
+                    j
+                })
+                .collect();
+            outln!("{}", json!({"what": what, "fields": fs}))
         }
-        (_, Value::Substance(sub)) => {
-            outln!("{sub}");
-            for (n, dim, x, words) in substance_fields(&sub) {
-                let (v, u) = units::auto_display(dim, x);
+        (Evaluated::Fields { what, fields }, Format::Md) => {
+            outln!("**{}**\n", render::md_escape(what));
+            outln!("| field | value | unit | what |\n|---|---:|---|---|");
+            for f in fields {
                 outln!(
-                    "  .{n:<4} {:>12} {u:<10} {words}",
-                    units::format_sig(v, sig)
+                    "| `.{}` | {} | {} | {} |",
+                    f.name,
+                    units::format_sig(f.value, sig),
+                    render::md_escape(&f.unit),
+                    f.words
                 );
             }
-            0
         }
-        (_, Value::Bool(b)) => {
-            outln!("{b}");
-            0
-        }
-        (_, Value::Str(s)) => {
-            outln!("\"{s}\"");
-            0
-        }
-        _ => {
-            eprintln!("error: the expression has no value");
-            EXIT_ERRORS
+        (Evaluated::Fields { what, fields }, _) => {
+            outln!("{what}");
+            for f in fields {
+                outln!(
+                    "  .{:<4} {:>12} {:<10} {}",
+                    f.name,
+                    units::format_sig(f.value, sig),
+                    f.unit,
+                    f.words
+                );
+            }
         }
     }
+    0
 }
 
 fn cmd_units(word: Option<&str>) -> u8 {

@@ -383,7 +383,7 @@ pub fn json(report: &Report) -> Json {
 /// Text for a Markdown line or table cell: control characters escaped
 /// ([`escape_controls`]), HTML-sensitive characters as entities (raw
 /// HTML does not pass through), `|` escaped for tables.
-fn md_escape(s: &str) -> String {
+pub fn md_escape(s: &str) -> String {
     let s = escape_controls(s);
     let mut out = String::with_capacity(s.len());
     for c in s.chars() {

@@ -8,12 +8,13 @@
 //! [`Model::report`] (display values) -> CLI renderers and the xlsx writer.
 
 pub mod builtins;
+pub mod calc;
 pub mod check;
 pub mod diag;
 pub mod eval;
 pub mod externals;
 pub mod fields;
-pub mod graph;
+pub(crate) mod graph;
 pub mod model;
 pub mod report;
 pub mod thermo;
@@ -22,6 +23,8 @@ pub mod units;
 pub mod value;
 pub mod xlsx;
 
+pub use calc::{CalcError, Calculated, Evaluated, Reading, evaluate_expression};
+pub use check::{DisplayUnit, Node, NodeKind};
 pub use diag::{Diagnostic, Label, Severity};
 pub use externals::{CellRequest, Externals};
 pub use model::{Model, Override, OverrideSource, Parsed, Status};
