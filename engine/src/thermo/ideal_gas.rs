@@ -573,6 +573,35 @@ impl IdealGas {
         self.t_from_s0(target, guess)
     }
 
+    /// Estimated temperature (K) at enthalpy `h` (J/kg) even outside the
+    /// data's range: the exact inverse inside 200-6000 K, beyond it a
+    /// constant-cp extrapolation from the nearer end. For messages only.
+    pub fn t_estimate_h(&self, h: f64) -> f64 {
+        let (h_lo, h_hi) = (self.h(T_MIN), self.h(T_MAX));
+        if h < h_lo {
+            T_MIN + (h - h_lo) / self.cp(T_MIN)
+        } else if h > h_hi {
+            T_MAX + (h - h_hi) / self.cp(T_MAX)
+        } else {
+            self.t_from_h(h).unwrap_or(f64::NAN)
+        }
+    }
+
+    /// Estimated temperature (K) at entropy `s` (J/(kg K)) and pressure `p`
+    /// (Pa), even outside the data's range (constant-cp extrapolation of
+    /// s° from the nearer end). For messages only.
+    pub fn t_estimate_s(&self, s: f64, p: f64) -> f64 {
+        let s0 = s + self.r * (p / P_STD).ln();
+        let (s_lo, s_hi) = (self.s0(T_MIN), self.s0(T_MAX));
+        if s0 < s_lo {
+            T_MIN * ((s0 - s_lo) / self.cp(T_MIN)).exp()
+        } else if s0 > s_hi {
+            T_MAX * ((s0 - s_hi) / self.cp(T_MAX)).exp()
+        } else {
+            self.t_from_s0(s0, T_REF).unwrap_or(f64::NAN)
+        }
+    }
+
     fn no_convergence(&self, what: &str) -> ThermoError {
         ThermoError::NoConvergence(format!(
             "{}: temperature from {what} did not converge",
