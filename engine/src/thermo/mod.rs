@@ -22,6 +22,7 @@ pub mod ideal_gas;
 pub mod if97;
 pub mod incompressible;
 pub mod perfect_gas;
+pub mod polytropic;
 pub mod process;
 pub mod typed;
 
@@ -290,6 +291,11 @@ pub enum ThermoError {
     /// The model cannot do this, e.g. quality for an ideal gas.
     #[error("{0}")]
     Unsupported(String),
+    /// A device outlet beyond the model's range, in words: "the nozzle
+    /// outlet would be at about 180 K, below the 200 K limit of the data of
+    /// ideal gas air".
+    #[error("{0}")]
+    OutletOutOfRange(String),
     /// An iteration failed to converge.
     #[error("{0}")]
     NoConvergence(String),

@@ -1,16 +1,47 @@
-//! Device models: isentropic, compressor, turbine, pump, nozzle, throttle.
+//! Device models: isentropic, compressor, turbine, pump, nozzle, throttle,
+//! the polytropic compressor and turbine, and adiabatic mixing.
 //!
 //! Each takes the inlet state and the outlet pressure and returns the outlet
 //! state. They are generic over the substance: they only call
-//! [`Substance::state`], so every model (including water by IAPWS-IF97)
-//! works the same way. Steady flow, adiabatic, kinetic and potential energy
-//! changes neglected except in the nozzle's [`jet_speed`].
+//! [`Substance::state`], so every model (including water by IAPWS-IF97 and
+//! the refrigerants) works the same way. Steady flow, adiabatic, kinetic and
+//! potential energy changes neglected except in the nozzle's [`jet_speed`].
 //!
 //! - isentropic: state(p2, s1);
 //! - compressor and pump: h2 = h1 + (h2s − h1)/eta;
 //! - turbine and nozzle: h2 = h1 − eta (h1 − h2s);
-//! - throttle: h2 = h1.
+//! - polytropic compressor: dh = v dp / eta_p along the path; polytropic
+//!   turbine: dh = eta_p v dp (module [`super::polytropic`]);
+//! - throttle: h2 = h1;
+//! - mix: h = (ma ha + mb hb)/(ma + mb) at the outlet pressure.
+//!
+//! # Device rules
+//!
+//! What each device accepts is decided by the phase of the inlet, the same
+//! way everywhere ([`inlet_phase`]): a state of an incompressible model is a
+//! liquid; an ideal or perfect gas is a gas; a real-fluid state is two-phase
+//! when 0 < x < 1, liquid when x = 0 or when it is below the critical
+//! temperature and denser than the critical density, and a gas (vapour or
+//! supercritical fluid) otherwise.
+//!
+//! | device | pressure | inlet accepted | refused | warning |
+//! |---|---|---|---|---|
+//! | `compressor` (eta or eta_p) | p2 > p1 | gas, vapour, supercritical | liquid ("use pump") | two-phase inlet (wet compression) |
+//! | `turbine` (eta or eta_p) | p2 < p1 | gas, vapour, supercritical | liquid | two-phase inlet; outlet wetter than x = 0.88 (common practice for steam turbines) |
+//! | `pump` | p2 >= p1 | liquid | gas, vapour, two-phase ("use compressor") | — |
+//! | `nozzle` | p2 < p1 | any phase | — | — |
+//! | `throttle` | p2 <= p1 | any phase | — | — |
+//! | `isentropic` | any | any phase | — | — |
+//! | `mix` | p <= both inlet pressures | any phase, same substance | streams of different substances | — |
+//!
+//! Efficiencies are in (0, 1]. An outlet (or an isentropic outlet) that
+//! falls outside the model's range is an error in words naming the device,
+//! the temperature it would reach and the limit of the data ("the nozzle
+//! outlet would be at 180 K, below the 200 K limit of the data of ideal gas
+//! air"). Warnings are returned by [`device_warning`], not by the device
+//! functions themselves.
 
+pub use super::polytropic::{compressor_polytropic, turbine_polytropic};
 use super::{Result, Spec, State, Substance, ThermoError};
 
 /// A number for a message: up to 6 significant figures, no trailing zeros
@@ -100,36 +131,156 @@ fn must_lower(device: &str, inlet: &State, p2: f64) -> Result<()> {
     }
 }
 
-/// Isentropic outlet state at p2: state(p2, s1).
-pub fn isentropic(sub: &Substance, inlet: &State, p2: f64) -> Result<State> {
+/// The phase of a state as the device rules see it (see the module
+/// documentation).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum InletPhase {
+    /// Compressed or saturated liquid (x = 0), or an incompressible model.
+    Liquid,
+    /// Two-phase, with the quality 0 < x < 1.
+    TwoPhase(f64),
+    /// Gas, vapour (including saturated vapour, x = 1) or supercritical
+    /// fluid.
+    Gas,
+}
+
+/// The phase of `st` under the model `sub`, for the device rules.
+pub fn inlet_phase(sub: &Substance, st: &State) -> InletPhase {
+    match sub {
+        Substance::Incompressible(_) => InletPhase::Liquid,
+        Substance::IdealGas(_) | Substance::PerfectGas(_) => InletPhase::Gas,
+        Substance::Fluid(f) => match st.x {
+            Some(q) if q > 0.0 && q < 1.0 => InletPhase::TwoPhase(q),
+            Some(q) if q <= 0.0 => InletPhase::Liquid,
+            Some(_) => InletPhase::Gas,
+            None => {
+                let c = f.critical();
+                if st.t < c.t && st.v < 1.0 / c.rho {
+                    InletPhase::Liquid
+                } else {
+                    InletPhase::Gas
+                }
+            }
+        },
+    }
+}
+
+/// Why a state counts as a liquid, for messages.
+fn liquid_why(sub: &Substance, st: &State) -> String {
+    match sub {
+        Substance::Fluid(f) => {
+            if st.x == Some(0.0) {
+                "saturated liquid, x = 0".to_string()
+            } else {
+                let c = f.critical();
+                format!(
+                    "T = {} K below the critical temperature {} K and v = {} m^3/kg below the \
+                     critical specific volume of {}",
+                    fmt_num(st.t),
+                    fmt_num(c.t),
+                    fmt_num(st.v),
+                    f.name()
+                )
+            }
+        }
+        _ => "an incompressible substance".to_string(),
+    }
+}
+
+/// Pressure direction and inlet phase of a compressor or turbine (`device`
+/// is "compressor" or "turbine"); shared by the isentropic-efficiency and
+/// the polytropic forms.
+pub(crate) fn check_device(device: &str, sub: &Substance, inlet: &State, p2: f64) -> Result<()> {
     check_p2(p2)?;
-    sub.state(Spec::PS { p: p2, s: inlet.s })
+    let hint = if device == "compressor" {
+        must_raise("a compressor", inlet, p2)?;
+        "use pump for a liquid"
+    } else {
+        must_lower("a turbine", inlet, p2)?;
+        "model the expansion of a liquid with nozzle or throttle"
+    };
+    if inlet_phase(sub, inlet) == InletPhase::Liquid {
+        return Err(ThermoError::InvalidArgument(format!(
+            "a {device} needs a gas or vapour: the inlet is a liquid ({}); {hint}",
+            liquid_why(sub, inlet)
+        )));
+    }
+    Ok(())
+}
+
+/// Rephrase a range error of an ideal gas at a device outlet in words: the
+/// temperature the outlet would reach and the limit of the data.
+fn outlet_words(what: &str, sub: &Substance, e: ThermoError, t_est: Option<f64>) -> ThermoError {
+    match (sub, &e, t_est) {
+        (Substance::IdealGas(g), ThermoError::OutOfRange { .. }, Some(t)) => {
+            use super::ideal_gas::{T_MAX, T_MIN};
+            let (side, limit) = if t < T_MIN {
+                ("below", T_MIN)
+            } else if t > T_MAX {
+                ("above", T_MAX)
+            } else {
+                return e;
+            };
+            ThermoError::OutletOutOfRange(format!(
+                "{what} would be at about {} K, {side} the {} K limit of the data of ideal gas {}",
+                crate::units::format_sig(t, 3),
+                fmt_num(limit),
+                g.name()
+            ))
+        }
+        _ => e,
+    }
+}
+
+/// The outlet state at (p2, h2) of `device`, with range errors in words.
+pub(crate) fn outlet(device: &str, sub: &Substance, p2: f64, h2: f64) -> Result<State> {
+    sub.state(Spec::PH { p: p2, h: h2 }).map_err(|e| {
+        let t = match sub {
+            Substance::IdealGas(g) => Some(g.t_estimate_h(h2)),
+            _ => None,
+        };
+        outlet_words(&format!("the {device} outlet"), sub, e, t)
+    })
+}
+
+/// The isentropic outlet of `device` at p2, with range errors in words.
+fn isentropic_of(device: &str, sub: &Substance, inlet: &State, p2: f64) -> Result<State> {
+    check_p2(p2)?;
+    sub.state(Spec::PS { p: p2, s: inlet.s }).map_err(|e| {
+        let t = match sub {
+            Substance::IdealGas(g) => Some(g.t_estimate_s(inlet.s, p2)),
+            _ => None,
+        };
+        let what = if device == "isentropic" {
+            "the isentropic outlet".to_string()
+        } else {
+            format!("the isentropic outlet of the {device}")
+        };
+        outlet_words(&what, sub, e, t)
+    })
+}
+
+/// Isentropic outlet state at p2: state(p2, s1). Any phase.
+pub fn isentropic(sub: &Substance, inlet: &State, p2: f64) -> Result<State> {
+    isentropic_of("isentropic", sub, inlet, p2)
 }
 
 /// Adiabatic compressor with isentropic efficiency eta:
-/// h2 = h1 + (h2s − h1)/eta. Requires p2 > p1.
+/// h2 = h1 + (h2s − h1)/eta. Requires p2 > p1 and a gas or vapour inlet.
 pub fn compressor(sub: &Substance, inlet: &State, p2: f64, eta: f64) -> Result<State> {
     check_eta(eta)?;
-    check_p2(p2)?;
-    must_raise("a compressor", inlet, p2)?;
-    let h2s = isentropic(sub, inlet, p2)?.h;
-    sub.state(Spec::PH {
-        p: p2,
-        h: inlet.h + (h2s - inlet.h) / eta,
-    })
+    check_device("compressor", sub, inlet, p2)?;
+    let h2s = isentropic_of("compressor", sub, inlet, p2)?.h;
+    outlet("compressor", sub, p2, inlet.h + (h2s - inlet.h) / eta)
 }
 
 /// Adiabatic turbine with isentropic efficiency eta:
-/// h2 = h1 − eta (h1 − h2s). Requires p2 < p1.
+/// h2 = h1 − eta (h1 − h2s). Requires p2 < p1 and a gas or vapour inlet.
 pub fn turbine(sub: &Substance, inlet: &State, p2: f64, eta: f64) -> Result<State> {
     check_eta(eta)?;
-    check_p2(p2)?;
-    must_lower("a turbine", inlet, p2)?;
-    let h2s = isentropic(sub, inlet, p2)?.h;
-    sub.state(Spec::PH {
-        p: p2,
-        h: inlet.h - eta * (inlet.h - h2s),
-    })
+    check_device("turbine", sub, inlet, p2)?;
+    let h2s = isentropic_of("turbine", sub, inlet, p2)?.h;
+    outlet("turbine", sub, p2, inlet.h - eta * (inlet.h - h2s))
 }
 
 /// The inlet of a pump must be a liquid. Incompressible models always are;
@@ -188,27 +339,22 @@ pub fn pump(sub: &Substance, inlet: &State, p2: f64, eta: f64) -> Result<State> 
             kpa(inlet.p)
         )));
     }
-    let h2s = isentropic(sub, inlet, p2)?.h;
-    sub.state(Spec::PH {
-        p: p2,
-        h: inlet.h + (h2s - inlet.h) / eta,
-    })
+    let h2s = isentropic_of("pump", sub, inlet, p2)?.h;
+    outlet("pump", sub, p2, inlet.h + (h2s - inlet.h) / eta)
 }
 
 /// Adiabatic nozzle with isentropic efficiency eta:
-/// h2 = h1 − eta (h1 − h2s). Requires p2 < p1. See [`jet_speed`].
+/// h2 = h1 − eta (h1 − h2s). Requires p2 < p1; any phase. See
+/// [`jet_speed`].
 pub fn nozzle(sub: &Substance, inlet: &State, p2: f64, eta: f64) -> Result<State> {
     check_eta(eta)?;
     check_p2(p2)?;
     must_lower("a nozzle", inlet, p2)?;
-    let h2s = isentropic(sub, inlet, p2)?.h;
-    sub.state(Spec::PH {
-        p: p2,
-        h: inlet.h - eta * (inlet.h - h2s),
-    })
+    let h2s = isentropic_of("nozzle", sub, inlet, p2)?.h;
+    outlet("nozzle", sub, p2, inlet.h - eta * (inlet.h - h2s))
 }
 
-/// Throttling valve: h2 = h1. Requires p2 <= p1.
+/// Throttling valve: h2 = h1. Requires p2 <= p1; any phase.
 pub fn throttle(sub: &Substance, inlet: &State, p2: f64) -> Result<State> {
     check_p2(p2)?;
     if p2 > inlet.p {
@@ -218,7 +364,107 @@ pub fn throttle(sub: &Substance, inlet: &State, p2: f64) -> Result<State> {
             kpa(inlet.p)
         )));
     }
-    sub.state(Spec::PH { p: p2, h: inlet.h })
+    outlet("throttle", sub, p2, inlet.h)
+}
+
+/// Adiabatic mixing of two streams of one substance (`a` with mass flow
+/// `mdot_a`, `b` with `mdot_b`, kg/s or any common unit) to the outlet
+/// pressure `p` (Pa), without work: the energy balance gives
+/// h = (mdot_a h_a + mdot_b h_b) / (mdot_a + mdot_b) and the outlet is the
+/// state at (p, h), which may be two-phase. The entropy generated per unit
+/// time is (mdot_a + mdot_b) s − mdot_a s_a − mdot_b s_b (>= 0).
+///
+/// Requires mass flows that are finite and not negative, with a positive
+/// sum, and p at most the lower of the two inlet pressures (a mixing
+/// chamber without work cannot raise the pressure). Both states must be
+/// states of `sub` (the caller checks that the two streams share the
+/// substance).
+pub fn mix(
+    sub: &Substance,
+    a: &State,
+    mdot_a: f64,
+    b: &State,
+    mdot_b: f64,
+    p: f64,
+) -> Result<State> {
+    for (name, m) in [("mdot_a", mdot_a), ("mdot_b", mdot_b)] {
+        if !(m.is_finite() && m >= 0.0) {
+            return Err(ThermoError::InvalidArgument(format!(
+                "mixing needs mass flows that are finite and not negative, got {name} = {}",
+                fmt_num(m)
+            )));
+        }
+    }
+    let total = mdot_a + mdot_b;
+    if total <= 0.0 {
+        return Err(ThermoError::InvalidArgument(
+            "mixing needs a positive total mass flow; both streams are zero".to_string(),
+        ));
+    }
+    check_p2(p)?;
+    let p_low = a.p.min(b.p);
+    if p > p_low {
+        return Err(ThermoError::InvalidArgument(format!(
+            "adiabatic mixing without work cannot raise the pressure: the outlet p = {} is above \
+             the lower inlet pressure {}",
+            kpa(p),
+            kpa(p_low)
+        )));
+    }
+    let h = (mdot_a * a.h + mdot_b * b.h) / total;
+    outlet("mixer", sub, p, h)
+}
+
+/// A device, for [`device_warning`].
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Device {
+    Isentropic,
+    Compressor,
+    Turbine,
+    Pump,
+    Nozzle,
+    Throttle,
+    Mix,
+}
+
+/// Wet-steam limit of the turbine warning: outlet quality below 0.88
+/// (common practice: steam-turbine exhaust moisture held below about 12 %
+/// against blade erosion).
+pub const TURBINE_X_MIN: f64 = 0.88;
+
+/// The warning the device rules attach to an accepted case (see the module
+/// documentation), or `None`: a two-phase compressor or turbine inlet, a
+/// turbine outlet wetter than [`TURBINE_X_MIN`]. Common-practice rules.
+pub fn device_warning(
+    device: Device,
+    sub: &Substance,
+    inlet: &State,
+    outlet: &State,
+) -> Option<String> {
+    let name = match device {
+        Device::Compressor => "compressor",
+        Device::Turbine => "turbine",
+        _ => return None,
+    };
+    if let InletPhase::TwoPhase(q) = inlet_phase(sub, inlet) {
+        return Some(format!(
+            "the {name} inlet is two-phase (x = {}); common practice: a {name} takes a dry or \
+             superheated vapour, as liquid droplets erode the blading and the efficiency model \
+             assumes a dry gas",
+            crate::units::format_sig(q, 3)
+        ));
+    }
+    if device == Device::Turbine
+        && let InletPhase::TwoPhase(q) = inlet_phase(sub, outlet)
+        && q < TURBINE_X_MIN
+    {
+        return Some(format!(
+            "the turbine outlet is wet, x = {} (common practice: steam-turbine exhaust quality \
+             x >= {TURBINE_X_MIN}, i.e. at most about 12 % moisture)",
+            crate::units::format_sig(q, 3)
+        ));
+    }
+    None
 }
 
 /// Outlet speed of an adiabatic nozzle, m/s: sqrt(V1² + 2 (h1 − h2)).
@@ -440,9 +686,133 @@ mod tests {
                 .to_string()
                 .contains("must not lower")
         );
-        // Compressing beyond the polynomial range is an error naming the range.
+        // Compressing beyond the polynomial range is an error in words.
         let e = compressor(&sub, &inlet, 1e12, 0.8).unwrap_err();
-        assert!(matches!(e, ThermoError::OutOfRange { .. }), "{e}");
+        assert!(matches!(e, ThermoError::OutletOutOfRange(_)), "{e}");
+        assert!(
+            e.to_string()
+                .contains("above the 6000 K limit of the data of ideal gas air"),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn expansion_below_the_data_in_words() {
+        // Air at 230 K expanded from 3 bar to 1 bar: the isentropic outlet
+        // is at about 230 (1/3)^(0.2857) = 168 K (constant-cp estimate, k =
+        // 1.4), below the 200 K end of the NASA polynomials.
+        let sub = ig("air");
+        let inlet = tp(&sub, 230.0, 3e5);
+        let e = nozzle(&sub, &inlet, 1e5, 0.95).unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "the isentropic outlet of the nozzle would be at about 168 K, below the 200 K limit \
+             of the data of ideal gas air"
+        );
+        let e = isentropic(&sub, &inlet, 1e5).unwrap_err();
+        assert!(
+            e.to_string()
+                .starts_with("the isentropic outlet would be at about 168 K")
+        );
+    }
+
+    #[test]
+    fn device_rules_agree() {
+        // The same phase rule for every device (module documentation).
+        let water = Substance::water();
+        let liquid = tp(&water, 300.0, 1e6);
+        let steam = tp(&water, 573.15, 1e6);
+        let wet = water.state(Spec::PX { p: 1e6, x: 0.95 }).unwrap();
+        assert_eq!(inlet_phase(&water, &liquid), InletPhase::Liquid);
+        assert_eq!(inlet_phase(&water, &steam), InletPhase::Gas);
+        assert_eq!(inlet_phase(&water, &wet), InletPhase::TwoPhase(0.95));
+        // Turbine and compressor refuse a liquid, alike.
+        let e = turbine(&water, &liquid, 1e5, 0.8).unwrap_err().to_string();
+        assert!(
+            e.starts_with("a turbine needs a gas or vapour: the inlet is a liquid"),
+            "{e}"
+        );
+        let e = compressor(&water, &tp(&water, 300.0, 1e5), 1e6, 0.8).unwrap_err();
+        assert!(e.to_string().contains("use pump"), "{e}");
+        assert!(turbine_polytropic(&water, &liquid, 1e5, 0.8).is_err());
+        // The pump refuses steam and wet steam.
+        assert!(pump(&water, &steam, 2e6, 0.8).is_err());
+        assert!(pump(&water, &wet, 2e6, 0.8).is_err());
+        // Nozzle and throttle take any phase.
+        assert!(nozzle(&water, &liquid, 0.5e6, 0.9).is_ok());
+        assert!(throttle(&water, &wet, 0.5e6).is_ok());
+        // A wet turbine inlet is accepted with a warning; a dry one is quiet.
+        let out = turbine(&water, &wet, 0.1e6, 0.85).unwrap();
+        let w = device_warning(Device::Turbine, &water, &wet, &out).unwrap();
+        assert!(w.contains("inlet is two-phase (x = 0.95)"), "{w}");
+        let hot = tp(&water, 773.15, 10e6);
+        let out = turbine(&water, &hot, 10e3, 0.88).unwrap();
+        let w = device_warning(Device::Turbine, &water, &hot, &out).unwrap();
+        assert!(w.contains("outlet is wet"), "{w}");
+        let out = turbine(&water, &hot, 1e6, 0.88).unwrap();
+        assert_eq!(device_warning(Device::Turbine, &water, &hot, &out), None);
+        let c = compressor(&water, &wet, 2e6, 0.8).unwrap();
+        assert!(device_warning(Device::Compressor, &water, &wet, &c).is_some());
+    }
+
+    #[test]
+    fn mixing_balances_perfect_gas() {
+        // Closed form (constant cp): T3 = (ma T_a + mb T_b)/(ma + mb) and
+        // S_gen = cp (ma ln(T3/T_a) + mb ln(T3/T_b)) − (ma + mb) R ... with
+        // the pressure terms −R (ma ln(p/p_a) + mb ln(p/p_b)).
+        // Energy balance to 1e-12 of the enthalpy flows; entropy to 1e-12 of
+        // cp (ma + mb).
+        let g = PerfectGas::from_k(287.0, 1.4).unwrap();
+        let (cp, r) = (287.0 * 1.4 / 0.4, 287.0);
+        let sub = Substance::PerfectGas(g);
+        let a = tp(&sub, 300.0, 2e5);
+        let b = tp(&sub, 450.0, 1.5e5);
+        let (ma, mb, p) = (2.0, 3.0, 1.4e5);
+        let out = mix(&sub, &a, ma, &b, mb, p).unwrap();
+        let energy = (ma + mb) * out.h - ma * a.h - mb * b.h;
+        let flows = ma * a.h.abs() + mb * b.h.abs();
+        assert!(energy.abs() <= 1e-12 * flows.max(cp * (ma + mb) * 300.0));
+        let t3 = (ma * 300.0 + mb * 450.0) / (ma + mb);
+        assert!((out.t - t3).abs() < 1e-9 * t3);
+        let s_gen = (ma + mb) * out.s - ma * a.s - mb * b.s;
+        let closed = cp * (ma * (t3 / 300.0).ln() + mb * (t3 / 450.0).ln())
+            - r * (ma * (p / 2e5).ln() + mb * (p / 1.5e5).ln());
+        assert!(
+            (s_gen - closed).abs() <= 1e-12 * cp * (ma + mb),
+            "{s_gen} vs {closed}"
+        );
+        assert!(s_gen > 0.0);
+    }
+
+    #[test]
+    fn mixing_water_ends_two_phase() {
+        // Saturated liquid and superheated steam at 1 bar mixed 1:1: the
+        // outlet enthalpy lies inside the dome (h_f = 417.5, h_g = 2675
+        // kJ/kg at 1 bar, IF97), so the outlet is wet with
+        // x = (h − h_f)/(h_g − h_f) from the model's own saturated states.
+        let water = Substance::water();
+        let a = water.state(Spec::PX { p: 1e5, x: 0.0 }).unwrap();
+        let b = tp(&water, 473.15, 1e5);
+        let out = mix(&water, &a, 1.0, &b, 1.0, 1e5).unwrap();
+        let h = 0.5 * (a.h + b.h);
+        assert!((out.h - h).abs() <= 1e-12 * h);
+        let g = water.state(Spec::PX { p: 1e5, x: 1.0 }).unwrap();
+        let x = (h - a.h) / (g.h - a.h);
+        assert!((out.x.unwrap() - x).abs() < 1e-12, "{:?} vs {x}", out.x);
+        // Entropy balance: generated = 2 s − s_a − s_b, with s the wet
+        // state's (1 − x) s_f + x s_g: closes to 1e-12 of s_g.
+        let s_gen = 2.0 * out.s - a.s - b.s;
+        let expect = 2.0 * ((1.0 - x) * a.s + x * g.s) - a.s - b.s;
+        assert!((s_gen - expect).abs() <= 1e-12 * g.s);
+        assert!(s_gen > 0.0);
+        // Errors in words.
+        assert!(mix(&water, &a, -1.0, &b, 1.0, 1e5).is_err());
+        assert!(mix(&water, &a, 0.0, &b, 0.0, 1e5).is_err());
+        let e = mix(&water, &a, 1.0, &b, 1.0, 2e5).unwrap_err().to_string();
+        assert!(e.contains("cannot raise the pressure"), "{e}");
+        // One stream of zero flow returns the other at p.
+        let one = mix(&water, &a, 0.0, &b, 1.0, 1e5).unwrap();
+        assert!((one.t - 473.15).abs() < 1e-8);
     }
 
     #[test]

@@ -229,10 +229,22 @@ pub fn resolve(u: &UnitExpr) -> Result<Unit, UnitError> {
 const MAX_UNIT_DEPTH: usize = 256;
 
 fn atom(sym: &str, span: Span) -> Result<Unit, UnitError> {
-    lookup(sym).ok_or_else(|| UnitError {
-        span,
-        message: format!("unknown unit `{sym}`"),
-        suggestion: suggest(sym),
+    lookup(sym).ok_or_else(|| {
+        if sym == "Nm" {
+            // Decided in the unit table: `Nm` is not a unit.
+            return UnitError {
+                span,
+                message: "unknown unit `Nm`: write the newton metre as `N*m`; normal cubic \
+                          metres of gas are `Nm3` (nanometre: `nm`)"
+                    .to_string(),
+                suggestion: Some("N*m".to_string()),
+            };
+        }
+        UnitError {
+            span,
+            message: format!("unknown unit `{sym}`"),
+            suggestion: suggest(sym),
+        }
     })
 }
 

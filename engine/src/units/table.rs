@@ -15,6 +15,18 @@
 //!   `kilogram_force`), psi = lbf / in^2 (in from uom).
 //! - gauge pressures: absolute = gauge + one standard atmosphere, with the
 //!   atmosphere from uom (`pressure::atmosphere`, 101325 Pa).
+//! - gas volumes at reference conditions are AMOUNTS OF SUBSTANCE: one
+//!   `Nm3` is the amount of an ideal gas filling 1 m^3 at 0 °C and
+//!   101.325 kPa (DIN 1343), n = p V / (R_u T) = 44.615 mol; one `Sm3` the
+//!   same at 15 °C and 101.325 kPa (ISO 13443), 42.293 mol; one `scf` a
+//!   cubic foot at 60 °F and 14.696 psi (U.S. gas-industry standard
+//!   conditions), 1.1953 mol. R_u = 8.314462618 J/(mol K) (CODATA 2018,
+//!   exact); the volume, temperature and pressure units from uom. So
+//!   `4800 Nm3/h` is a molar flow, and `ndot * gas.M` a mass flow.
+//! - `Nm` alone is NOT a unit: the newton metre is written `N*m`. Decided
+//!   so because `Nm` next to `Nm3` (normal cubic metres) and `nm`
+//!   (nanometre) invites misreading; an unknown `Nm` gets a message naming
+//!   both (see `units::atom`). `Nm3` is its own atom, not `Nm` cubed.
 
 use std::collections::HashMap;
 use std::sync::OnceLock;
@@ -193,6 +205,7 @@ const W: Dim = Dim::POWER;
 const F: Dim = Dim([1, 1, -2, 0, 0, 0, 0]);
 const V: Dim = Dim([3, 0, 0, 0, 0, 0, 0]);
 const HZ: Dim = Dim([0, 0, -1, 0, 0, 0, 0]);
+const VF: Dim = Dim([3, 0, -1, 0, 0, 0, 0]);
 
 struct B {
     e: Entry,
@@ -252,6 +265,22 @@ fn build() -> Vec<Entry> {
     let inch = c::<length::inch>();
     let psi = lbf / (inch * inch);
     let atm = c::<pr::atmosphere>();
+    // Gas amounts at reference conditions: n = p V / (R_u T).
+    let r_u = crate::thermo::ideal_gas::R_U;
+    let kelvin_of = |v: f64, f: f64, o: f64| v * f + o;
+    let t0 = kelvin_of(0.0, c::<tt::degree_celsius>(), off::<tt::degree_celsius>());
+    let t15 = kelvin_of(15.0, c::<tt::degree_celsius>(), off::<tt::degree_celsius>());
+    let t60f = kelvin_of(
+        60.0,
+        c::<tt::degree_fahrenheit>(),
+        off::<tt::degree_fahrenheit>(),
+    );
+    let m3 = c::<volume::cubic_meter>();
+    // uom 0.38 stores the cubic foot rounded to 7 digits; the foot is exact.
+    let ft3 = c::<length::foot>().powi(3);
+    let nm3 = atm * m3 / (r_u * t0);
+    let sm3 = atm * m3 / (r_u * t15);
+    let scf = 14.696 * psi * ft3 / (r_u * t60f);
     let rows = vec![
         // length
         row("m", "metre", L, c::<length::meter>()).prefixable(),
@@ -301,6 +330,12 @@ fn build() -> Vec<Entry> {
         // amount of substance
         row("mol", "mole", N, c::<amt::mole>()).prefixable(),
         row("kmol", "kilomole", N, c::<amt::kilomole>()),
+        row("Nm3", "normal cubic metre (gas at 0 °C, 101.325 kPa)", N, nm3)
+            .note("an amount of substance: the ideal gas in 1 m^3 at 0 °C and 101.325 kPa (DIN 1343), 44.615 mol"),
+        row("Sm3", "standard cubic metre (gas at 15 °C, 101.325 kPa)", N, sm3)
+            .note("an amount of substance: the ideal gas in 1 m^3 at 15 °C and 101.325 kPa (ISO 13443), 42.293 mol"),
+        row("scf", "standard cubic foot (gas at 60 °F, 14.696 psi)", N, scf)
+            .note("an amount of substance: the ideal gas in 1 ft^3 at 60 °F and 14.696 psi, 1.1953 mol"),
         // force
         row("N", "newton", F, c::<force::newton>()).prefixable(),
         row("kN", "kilonewton", F, c::<force::kilonewton>()),
@@ -324,6 +359,10 @@ fn build() -> Vec<Entry> {
         row("inHg", "inch of mercury (conventional)", P, c::<pr::inch_of_mercury>()),
         row("mmH2O", "millimetre of water (conventional)", P, c::<pr::millimeter_of_water>())
             .note("conventional: 0.001 m x 1000 kg/m^3 x 9.80665 m/s^2"),
+        row("mH2O", "metre of water (conventional)", P, 1000.0 * c::<pr::millimeter_of_water>())
+            .note("conventional: 1 m x 1000 kg/m^3 x 9.80665 m/s^2 = 9.80665 kPa (NIST SP 811 B.8)"),
+        row("ftH2O", "foot of water (conventional)", P, c::<pr::foot_of_water>())
+            .note("conventional: 0.3048 m x 1000 kg/m^3 x 9.80665 m/s^2 = 2989.067 Pa (NIST SP 811 B.8)"),
         row("torr", "torr", P, c::<pr::torr>()).aliases(&["Torr"]),
         row("barg", "bar, gauge", P, c::<pr::bar>())
             .offset(atm, Affinity::Absolute)
@@ -363,6 +402,9 @@ fn build() -> Vec<Entry> {
             .aliases(&["l"]),
         row("mL", "millilitre", V, c::<volume::milliliter>()).aliases(&["ml"]),
         row("gal", "gallon (US liquid)", V, c::<volume::gallon>()),
+        // volume flow
+        row("gpm", "US gallon per minute", VF, c::<uom::si::volume_rate::gallon_per_minute>())
+            .note("US liquid gallon per minute, 3.785412e-3 m^3 / 60 s"),
         // frequency and rotational speed
         row("Hz", "hertz", HZ, c::<frequency::hertz>()).prefixable(),
         row("rpm", "revolution per minute", HZ, c::<frequency::cycle_per_minute>())

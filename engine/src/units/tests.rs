@@ -794,3 +794,68 @@ mod props {
         }
     }
 }
+
+// ---------------------------------------------------------------- gas amounts, heads, gpm
+
+#[test]
+fn gas_volumes_at_reference_conditions_are_amounts() {
+    // Definitions: n = p V / (R_u T) with R_u = 8.314462618 J/(mol K)
+    // (CODATA 2018, exact), written out here from the standards' reference
+    // conditions: Nm3 at 273.15 K and 101325 Pa (DIN 1343); Sm3 at
+    // 288.15 K and 101325 Pa (ISO 13443); scf: 1 ft^3 = 0.028316846592 m^3
+    // (exact, NIST SP 811 B.8) at 60 °F = 288.705555... K and 14.696 psi
+    // with psi = 6894.757293168 Pa (lbf/in^2 from the exact pound and g_n).
+    let r_u = 8.314_462_618;
+    let nm3 = 101_325.0 / (r_u * 273.15);
+    let sm3 = 101_325.0 / (r_u * 288.15);
+    let scf = 14.696 * 6_894.757_293_168 * 0.028_316_846_592 / (r_u * (60.0 + 459.67) / 1.8);
+    close(u("Nm3").factor, nm3, 1e-12 * nm3, "Nm3");
+    close(u("Sm3").factor, sm3, 1e-12 * sm3, "Sm3");
+    close(u("scf").factor, scf, 1e-12 * scf, "scf");
+    // Rounded values quoted in the table's notes.
+    close(u("Nm3").factor, 44.615, 0.0005, "Nm3 note");
+    close(u("Sm3").factor, 42.2925, 0.0005, "Sm3 note");
+    close(u("scf").factor, 1.1953, 0.00005, "scf note");
+    for s in ["Nm3", "Sm3", "scf"] {
+        assert_eq!(u(s).dim, Dim::AMOUNT, "{s}");
+    }
+    // 4800 Nm3/h is a molar flow: 4800 x 44.615 mol / 3600 s = 59.49 mol/s.
+    let flow = res("Nm3/h").unwrap();
+    assert_eq!(quantity_name(flow.dim), "molar flow rate");
+    close(
+        4800.0 * flow.factor,
+        4800.0 * nm3 / 3600.0,
+        1e-9,
+        "4800 Nm3/h",
+    );
+}
+
+#[test]
+fn water_heads_and_gpm_nist() {
+    // NIST SP 811 (2008) B.8: "meter of water, conventional" is not listed;
+    // by the same convention as mmH2O (9.806 65 E+00 Pa exactly, B.8),
+    // 1 mH2O = 1 m x 1000 kg/m^3 x 9.80665 m/s^2 = 9806.65 Pa exactly.
+    close(u("mH2O").factor, 9_806.65, 1e-9, "mH2O");
+    // NIST SP 811 (2008) B.8: foot of water, conventional (ftH2O)
+    // = 2.989 067 E+03 Pa.
+    close(u("ftH2O").factor, 2_989.067, 0.000_5, "ftH2O");
+    // NIST SP 811 (2008) B.8: gallon (U.S.) = 3.785 412 E-03 m^3, minute =
+    // 6.0 E+01 s: gpm = 6.309 020 E-05 m^3/s (B.9, volume per time).
+    close(u("gpm").factor, 6.309_020e-5, 0.000_000_5e-5, "gpm");
+    assert_eq!(quantity_name(u("gpm").dim), "volume flow rate");
+}
+
+#[test]
+fn nm_alone_is_not_a_unit() {
+    // Decision in the unit table: the newton metre is written N*m.
+    let e = res("Nm").unwrap_err();
+    assert!(
+        e.message.contains("write the newton metre as `N*m`"),
+        "{}",
+        e.message
+    );
+    assert!(e.message.contains("`Nm3`"), "{}", e.message);
+    assert_eq!(e.suggestion.as_deref(), Some("N*m"));
+    // nm stays the nanometre.
+    close(u("nm").factor, 1e-9, 1e-24, "nm");
+}

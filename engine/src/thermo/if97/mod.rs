@@ -18,8 +18,15 @@
 //!   saturated liquid and vapour at p.
 //! - (p, x), (T, x): saturation by region 4; the saturated phases from
 //!   regions 1 and 2 below 623.15 K, above it from the phase equilibrium of
-//!   the region-3 equation (module `sat`). A (p, h) or (p, s) pair exactly
-//!   on the edge of the dome may come back as the saturated single phase.
+//!   the region-3 equation (module `sat`). A (p, h) or (p, s) pair at the
+//!   saturated-liquid or -vapour value (to 1e-12 relative) is that
+//!   saturated phase with x = 0 or 1; a saturated phase carries the
+//!   single-phase cp, cv and w of that phase. A (T, p) pair on the
+//!   saturation line is refused (it does not fix the state; give x).
+//! - (h, s), (T, s), (T, v): solved for the pressure on the same forward
+//!   equations (module `pairs`).
+//! - Speed of sound w for every single-phase state (IF97 Tables 3, 12, 31,
+//!   39).
 //! - The equations of neighbouring regions agree at their boundaries only to
 //!   within IF97's consistency limits (e.g. regions 2 and 5 by up to about
 //!   0.1 kJ/kg at 1073.15 K). A (p, h) or (p, s) pair in such a sliver is
@@ -31,13 +38,17 @@
 mod backward;
 mod coef;
 mod forward;
+mod pairs;
 mod sat;
 #[cfg(test)]
 mod tests;
+#[cfg(test)]
+mod tests_pairs;
 
 use super::fluid::{Critical, RealFluid, Saturation};
 use super::{Result, Spec, State, ThermoError};
 use forward::{Props, R3Point, Thermal, region1, region2, region5};
+pub use pairs::{P_LO, state_hs, state_ts, state_tv};
 
 /// Critical temperature, K (IAPWS R7-97(2012), Eq. (3)).
 pub const T_CRIT: f64 = 647.096;
@@ -248,11 +259,13 @@ pub fn state(spec: Spec) -> Result<State> {
         Spec::PS { p, s } => state_ps(p, s),
         Spec::PX { p, x } => state_px(p, x),
         Spec::TX { t, x } => state_tx(t, x),
-        Spec::TH { .. } | Spec::HS { .. } | Spec::TS { .. } | Spec::TV { .. } => {
-            Err(ThermoError::Unsupported(format!(
-                "{MODEL} takes (T, p), (p, h), (p, s), (p, x) or (T, x)"
-            )))
-        }
+        Spec::HS { h, s } => state_hs(h, s),
+        Spec::TS { t, s } => state_ts(t, s),
+        Spec::TV { t, v } => state_tv(t, v),
+        Spec::TH { .. } => Err(ThermoError::Unsupported(format!(
+            "{MODEL} takes (T, p), (p, h), (p, s), (p, x), (T, x), (h, s), (T, s) or (T, v); \
+             (T, h) does not fix a state of water in general"
+        ))),
     }
 }
 
@@ -282,8 +295,33 @@ pub fn region_tp(t: f64, p: f64) -> Result<Region> {
     })
 }
 
-/// State from temperature (K) and pressure (Pa).
+/// Relative distance from p_sat(T) within which a (T, p) pair counts as
+/// on the saturation line (round-off of a pressure copied from p_sat).
+const SAT_LINE_REL: f64 = 1e-9;
+
+/// State from temperature (K) and pressure (Pa). A pair on the saturation
+/// line (|p − p_sat(T)| <= 1e-9 p_sat, T below the critical temperature)
+/// does not fix the state: an [`ThermoError::InvalidArgument`] asking for
+/// the quality.
 pub fn state_tp(t: f64, p: f64) -> Result<State> {
+    if t.is_finite() && (T_MIN..T_CRIT).contains(&t) && p.is_finite() {
+        let ps = forward::psat(t);
+        if (p - ps).abs() <= SAT_LINE_REL * ps {
+            return Err(ThermoError::InvalidArgument(format!(
+                "T = {} and p = {} lie on the saturation line of {MODEL} (p_sat = {}), where \
+                 they do not fix the state: give the quality instead, e.g. (T, x: 0) for \
+                 saturated liquid or (T, x: 1) for saturated vapour",
+                fmt_t(t),
+                fmt_p(p),
+                fmt_p(ps)
+            )));
+        }
+    }
+    tp_unchecked(t, p)
+}
+
+/// (T, p) without the saturation-line check (on the line: liquid).
+fn tp_unchecked(t: f64, p: f64) -> Result<State> {
     let pr = match region_tp(t, p)? {
         Region::R1 => region1(t, p),
         Region::R2 => region2(t, p),
@@ -365,15 +403,25 @@ fn single(pr: &Props, p: f64) -> State {
         cp: Some(pr.cp),
         cv: Some(pr.cv),
         x: None,
-        w: None,
+        w: Some(pr.w),
     }
 }
 
+/// A state on or inside the saturation dome. At x = 0 and x = 1 (a
+/// saturated phase) cp, cv and w are the single-phase values of that phase;
+/// inside the dome they are undefined.
 fn two_phase(t: f64, p: f64, l: &Props, v: &Props, x: f64) -> State {
     // (1 - x) a + x b is exact at x = 0 and x = 1.
     let mix = |a: f64, b: f64| (1.0 - x) * a + x * b;
     let h = mix(l.h, v.h);
     let vol = mix(l.v, v.v);
+    let phase = if x == 0.0 {
+        Some(l)
+    } else if x == 1.0 {
+        Some(v)
+    } else {
+        None
+    };
     State {
         t,
         p,
@@ -381,10 +429,25 @@ fn two_phase(t: f64, p: f64, l: &Props, v: &Props, x: f64) -> State {
         u: h - p * vol,
         s: mix(l.s, v.s),
         v: vol,
-        cp: None,
-        cv: None,
+        cp: phase.map(|pr| pr.cp),
+        cv: phase.map(|pr| pr.cv),
         x: Some(x),
-        w: None,
+        w: phase.map(|pr| pr.w),
+    }
+}
+
+/// The quality of `y` between the saturated values `yl` and `yv`, snapped
+/// to exactly 0 or 1 within the tolerance `tol` of either end; `None`
+/// outside the dome.
+fn quality(y: f64, yl: f64, yv: f64, tol: f64) -> Option<f64> {
+    if (y - yl).abs() <= tol {
+        Some(0.0)
+    } else if (y - yv).abs() <= tol {
+        Some(1.0)
+    } else if y > yl && y < yv {
+        Some((y - yl) / (yv - yl))
+    } else {
+        None
     }
 }
 
@@ -689,58 +752,50 @@ fn solve_p(p: f64, y: f64, which: Which) -> Result<State> {
     }
     if p <= P_S13 {
         let ts = forward::tsat(p);
+        let tol = which.tol(y);
+        // A single-phase solution at the saturation temperature is the
+        // saturated phase itself: keep its quality (x = 0 or 1).
+        let at = |pr: Props| -> State {
+            if (pr.t - ts).abs() <= 1e-9 * ts {
+                let (l, v) = (region1(ts, p), region2(ts, p));
+                if let Some(x) = quality(y, which.of(&l), which.of(&v), tol) {
+                    return two_phase(ts, p, &l, &v, x);
+                }
+            }
+            single(&pr, p)
+        };
+        let wet = || {
+            let (l, v) = (region1(ts, p), region2(ts, p));
+            quality(y, which.of(&l), which.of(&v), tol).map(|x| two_phase(ts, p, &l, &v, x))
+        };
         if y >= b.vap_min {
             // Superheated vapour, or wet.
             return match solve_gibbs(Gibbs::R2, p, y, which, ts, T_MAX)? {
-                Found::At(pr) => Ok(single(&pr, p)),
-                Found::Below => {
-                    let (l, v) = (region1(ts, p), region2(ts, p));
-                    if y >= which.of(&l) {
-                        Ok(two_phase(
-                            ts,
-                            p,
-                            &l,
-                            &v,
-                            (y - which.of(&l)) / (which.of(&v) - which.of(&l)),
-                        ))
-                    } else {
-                        liquid(p, y, which, ts)
-                    }
-                }
+                Found::At(pr) => Ok(at(pr)),
+                Found::Below => match wet() {
+                    Some(st) => Ok(st),
+                    None => liquid(p, y, which, ts),
+                },
                 Found::Above => vapour5(p, y, which),
             };
         }
         if y <= b.liq_max {
             // Compressed liquid, or wet.
             return match solve_gibbs(Gibbs::R1, p, y, which, T_MIN, ts)? {
-                Found::At(pr) => Ok(single(&pr, p)),
+                Found::At(pr) => Ok(at(pr)),
                 Found::Below => Err(y_out_of_range(p, y, which)),
-                Found::Above => {
-                    let (l, v) = (region1(ts, p), region2(ts, p));
-                    if y <= which.of(&v) {
-                        Ok(two_phase(
-                            ts,
-                            p,
-                            &l,
-                            &v,
-                            (y - which.of(&l)) / (which.of(&v) - which.of(&l)),
-                        ))
-                    } else {
-                        vapour(p, y, which, ts)
-                    }
-                }
+                Found::Above => match wet() {
+                    Some(st) => Ok(st),
+                    None => vapour(p, y, which, ts),
+                },
             };
         }
         // Between the largest saturated-liquid and the smallest
         // saturated-vapour value: wet at every pressure up to 16.5 MPa.
         let (l, v) = (region1(ts, p), region2(ts, p));
-        return Ok(two_phase(
-            ts,
-            p,
-            &l,
-            &v,
-            (y - which.of(&l)) / (which.of(&v) - which.of(&l)),
-        ));
+        let (yl, yv) = (which.of(&l), which.of(&v));
+        let x = quality(y, yl, yv, tol).unwrap_or(((y - yl) / (yv - yl)).clamp(0.0, 1.0));
+        return Ok(two_phase(ts, p, &l, &v, x));
     }
     // p > p_sat(623.15 K): region 1 up to 623.15 K, region 3 (with the top
     // of the dome) up to the B23 boundary, then regions 2 and 5.
@@ -803,8 +858,8 @@ fn region3(p: f64, y: f64, which: Which) -> Result<State> {
         let c = sat::coexist3(ts)?;
         let (l, v) = (c.liq.props(), c.vap.props());
         let (yl, yv) = (which.of(&l), which.of(&v));
-        if y >= yl && y <= yv {
-            return Ok(two_phase(ts, p, &l, &v, (y - yl) / (yv - yl)));
+        if let Some(x) = quality(y, yl, yv, which.tol(y)) {
+            return Ok(two_phase(ts, p, &l, &v, x));
         }
         branch = if y < yl {
             Branch::Liquid(ts)

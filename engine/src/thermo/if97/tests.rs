@@ -926,12 +926,17 @@ fn invalid_arguments() {
 #[test]
 fn saturated_states_with_quality() {
     // (p, x) and (T, x) with x = 0 or 1 are saturated liquid / vapour and
-    // carry x; cp, cv are None in two-phase states; u = h - p v.
+    // carry x; a saturated phase (x = 0 or 1) has the single-phase cp, cv
+    // and w of that phase; inside the dome they are None; u = h - p v.
     let l = state_px(1e6, 0.0).unwrap();
     let v = state_px(1e6, 1.0).unwrap();
     assert_eq!((l.x, v.x), (Some(0.0), Some(1.0)));
-    assert_eq!((l.cp, l.cv, v.cp), (None, None, None));
     let ts = t_sat(1e6).unwrap();
+    let (rl, rv) = (region1(ts, 1e6), region2(ts, 1e6));
+    assert_eq!((l.cp, l.cv, l.w), (Some(rl.cp), Some(rl.cv), Some(rl.w)));
+    assert_eq!((v.cp, v.cv, v.w), (Some(rv.cp), Some(rv.cv), Some(rv.w)));
+    let wet = state_px(1e6, 0.5).unwrap();
+    assert_eq!((wet.cp, wet.cv, wet.w), (None, None, None));
     // Saturated liquid is region 1 at T_sat, vapour region 2 (IF97 Sec. 8).
     assert_eq!(l.h, region1(ts, 1e6).h);
     assert_eq!(v.h, region2(ts, 1e6).h);
