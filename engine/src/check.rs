@@ -515,8 +515,25 @@ impl Cx<'_> {
                     }
                 }
             }
-            BinOp::Mul => (Ty::num(lq.dim * rq.dim), Code::Mul(lc, rc)),
-            BinOp::Div => (Ty::num(lq.dim / rq.dim), Code::Div(lc, rc, r.span)),
+            BinOp::Mul | BinOp::Div => {
+                let (dim, code) = if op == BinOp::Mul {
+                    (lq.dim.checked_mul(rq.dim), Code::Mul(lc, rc))
+                } else {
+                    (lq.dim.checked_div(rq.dim), Code::Div(lc, rc, r.span))
+                };
+                match dim {
+                    Some(d) => (Ty::num(d), code),
+                    None => self.error(Diagnostic::error(
+                        format!(
+                            "the dimension of this result has an exponent beyond ±{} ({} and {})",
+                            units::MAX_EXPONENT,
+                            self.side(l, lq),
+                            self.side(r, rq)
+                        ),
+                        span,
+                    )),
+                }
+            }
             BinOp::Pow => {
                 if !rq.dim.is_none() {
                     return self.error(Diagnostic::error(
