@@ -256,13 +256,7 @@ fn collect_names<'a>(e: &'a Expr, out: &mut Vec<(&'a str, Span)>) {
     }
 }
 
-fn closest<'a>(word: &str, candidates: impl Iterator<Item = &'a str>) -> Option<&'a str> {
-    candidates
-        .map(|c| (strsim::jaro_winkler(word, c), c))
-        .filter(|(score, _)| *score > 0.8)
-        .max_by(|a, b| a.0.total_cmp(&b.0))
-        .map(|(_, c)| c)
-}
+use crate::suggest::closest;
 
 fn unknown_name(name: &str, span: Span, names: &HashMap<String, usize>) -> Diagnostic {
     let cands = names

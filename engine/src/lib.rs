@@ -14,6 +14,7 @@ pub mod eval;
 pub mod graph;
 pub mod model;
 pub mod report;
+mod suggest;
 pub mod thermo;
 pub mod types;
 pub mod units;
