@@ -298,13 +298,7 @@ fn collect_names<'a>(e: &'a Expr, out: &mut Vec<(&'a str, Span)>) {
     }
 }
 
-fn closest<'a>(word: &str, candidates: impl Iterator<Item = &'a str>) -> Option<&'a str> {
-    candidates
-        .map(|c| (strsim::jaro_winkler(word, c), c))
-        .filter(|(score, _)| *score > 0.8)
-        .max_by(|a, b| a.0.total_cmp(&b.0))
-        .map(|(_, c)| c)
-}
+use crate::suggest::closest;
 
 fn unknown_name(name: &str, span: Span, names: &HashMap<String, usize>) -> Diagnostic {
     let cands = names
@@ -616,8 +610,25 @@ impl Cx<'_> {
                     }
                 }
             }
-            BinOp::Mul => (Ty::num(lq.dim * rq.dim), Code::Mul(lc, rc)),
-            BinOp::Div => (Ty::num(lq.dim / rq.dim), Code::Div(lc, rc, r.span)),
+            BinOp::Mul | BinOp::Div => {
+                let (dim, code) = if op == BinOp::Mul {
+                    (lq.dim.checked_mul(rq.dim), Code::Mul(lc, rc))
+                } else {
+                    (lq.dim.checked_div(rq.dim), Code::Div(lc, rc, r.span))
+                };
+                match dim {
+                    Some(d) => (Ty::num(d), code),
+                    None => self.error(Diagnostic::error(
+                        format!(
+                            "the dimension of this result has an exponent beyond ±{} ({} and {})",
+                            units::MAX_EXPONENT,
+                            self.side(l, lq),
+                            self.side(r, rq)
+                        ),
+                        span,
+                    )),
+                }
+            }
             BinOp::Pow => {
                 if !rq.dim.is_none() {
                     return self.error(Diagnostic::error(

@@ -17,6 +17,7 @@ pub mod fields;
 pub(crate) mod graph;
 pub mod model;
 pub mod report;
+mod suggest;
 pub mod thermo;
 pub mod types;
 pub mod units;

@@ -17,7 +17,6 @@
 //!   and "did you mean" hints.
 
 use std::fmt;
-use std::ops::{Div, Mul};
 
 use sheaf_grammar::{Span, UnitExpr, UnitKind};
 
@@ -65,28 +64,40 @@ impl Dim {
         self == Dim::NONE
     }
 
-    /// Raise to an integer power (exponents must stay within i8).
+    /// The product's dimension; `None` when an exponent would leave
+    /// ±[`MAX_EXPONENT`] (never saturated: a wrong dimension must not
+    /// pass a check).
+    pub fn checked_mul(self, rhs: Dim) -> Option<Dim> {
+        checked_mul_dim(self, rhs, 1)
+    }
+
+    /// The quotient's dimension; `None` on exponent overflow.
+    pub fn checked_div(self, rhs: Dim) -> Option<Dim> {
+        checked_mul_dim(self, rhs, -1)
+    }
+
+    /// Raise to an integer power; `None` on exponent overflow.
     pub fn powi(self, n: i32) -> Option<Dim> {
         let mut out = [0i8; BASE_COUNT];
         for (o, e) in out.iter_mut().zip(self.0) {
-            *o = i8::try_from(i32::from(e).checked_mul(n)?).ok()?;
+            *o = exponent(i64::from(e).checked_mul(i64::from(n))?)?;
         }
         Some(Dim(out))
     }
 
     /// Raise to a rational power `num/den`; `None` if an exponent would not
-    /// be an integer.
+    /// be an integer or would overflow.
     pub fn pow_ratio(self, num: i32, den: i32) -> Option<Dim> {
         if den == 0 {
             return None;
         }
         let mut out = [0i8; BASE_COUNT];
         for (o, e) in out.iter_mut().zip(self.0) {
-            let m = i32::from(e).checked_mul(num)?;
-            if m % den != 0 {
+            let m = i64::from(e).checked_mul(i64::from(num))?;
+            if m % i64::from(den) != 0 {
                 return None;
             }
-            *o = i8::try_from(m / den).ok()?;
+            *o = exponent(m / i64::from(den))?;
         }
         Some(Dim(out))
     }
@@ -101,7 +112,7 @@ impl Dim {
                 1 => num.push(sym.to_string()),
                 e if e > 1 => num.push(format!("{sym}^{e}")),
                 -1 => den.push(sym.to_string()),
-                e => den.push(format!("{sym}^{}", -e)),
+                e => den.push(format!("{sym}^{}", -i32::from(e))),
             }
         }
         let n = if num.is_empty() {
@@ -115,28 +126,6 @@ impl Dim {
             1 => format!("{n}/{}", den[0]),
             _ => format!("{n}/({})", den.join(" ")),
         }
-    }
-}
-
-impl Mul for Dim {
-    type Output = Dim;
-    fn mul(self, rhs: Dim) -> Dim {
-        let mut out = self.0;
-        for (o, e) in out.iter_mut().zip(rhs.0) {
-            *o = o.saturating_add(e);
-        }
-        Dim(out)
-    }
-}
-
-impl Div for Dim {
-    type Output = Dim;
-    fn div(self, rhs: Dim) -> Dim {
-        let mut out = self.0;
-        for (o, e) in out.iter_mut().zip(rhs.0) {
-            *o = o.saturating_sub(e);
-        }
-        Dim(out)
     }
 }
 
@@ -248,10 +237,22 @@ fn atom(sym: &str, span: Span) -> Result<Unit, UnitError> {
     })
 }
 
-fn checked_mul_dim(a: Dim, b: Dim, sign: i8) -> Option<Dim> {
+/// Largest dimension exponent in magnitude (symmetric, so a negated
+/// exponent always fits).
+pub const MAX_EXPONENT: i8 = 127;
+
+fn exponent(e: i64) -> Option<i8> {
+    if e.abs() > i64::from(MAX_EXPONENT) {
+        None
+    } else {
+        i8::try_from(e).ok()
+    }
+}
+
+fn checked_mul_dim(a: Dim, b: Dim, sign: i64) -> Option<Dim> {
     let mut out = a.0;
     for (o, e) in out.iter_mut().zip(b.0) {
-        *o = o.checked_add(e.checked_mul(sign)?)?;
+        *o = exponent(i64::from(*o) + sign * i64::from(e))?;
     }
     Some(Dim(out))
 }

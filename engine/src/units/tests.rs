@@ -387,6 +387,9 @@ fn exponent_overflow_is_an_error() {
     assert!(res("1/m^100/m^100").is_err());
     // Within range, fine.
     assert_eq!(res("m^100").unwrap().dim, Dim([100, 0, 0, 0, 0, 0, 0]));
+    assert_eq!(res("1/m^127").unwrap().dim, Dim([-127, 0, 0, 0, 0, 0, 0]));
+    // -128 fits an i8 but not the symmetric range (its negation would not).
+    assert!(res("1/m^64/m^64").is_err());
     // A factor that over- or underflows f64 is an error too: (10^30)^20.
     let e = res("Qm^20").unwrap_err();
     assert!(e.message.contains("too large"), "{}", e.message);
@@ -858,4 +861,42 @@ fn nm_alone_is_not_a_unit() {
     assert_eq!(e.suggestion.as_deref(), Some("N*m"));
     // nm stays the nanometre.
     close(u("nm").factor, 1e-9, 1e-24, "nm");
+}
+
+#[test]
+fn dimension_arithmetic_never_saturates() {
+    let m = |e: i8| Dim([e, 0, 0, 0, 0, 0, 0]);
+    let s1 = Dim::TIME;
+    // m^100 * m^100 does not become m^127 (it used to saturate, so
+    // `(1 m^100)*(1 m^100)*(1 s) == (1 m^127)*(1 s)` passed the check).
+    assert_eq!(m(100).checked_mul(m(100)), None);
+    assert_eq!(m(100).checked_mul(s1), Some(Dim([100, 0, 1, 0, 0, 0, 0])));
+    assert_eq!(m(120).checked_mul(m(7)), Some(m(127)));
+    assert_eq!(m(-120).checked_div(m(8)), None);
+    assert_eq!(m(-120).checked_div(m(7)), Some(m(-127)));
+    // (m^-64)^2 is out of range, not `1/m^-128`.
+    assert_eq!(m(-64).powi(2), None);
+    assert_eq!(m(-64).pow_ratio(2, 1), None);
+    assert_eq!(m(-63).powi(2), Some(m(-126)));
+    assert_eq!(m(2).powi(i32::MAX), None);
+    assert_eq!(m(2).pow_ratio(i32::MIN, 2), None);
+    assert_eq!(m(-127).base_symbol(), "1/m^127");
+    // Every i8 exponent displays with the right sign.
+    for e in i8::MIN..=i8::MAX {
+        let shown = m(e).base_symbol();
+        assert!(!shown.contains("^-"), "{e}: {shown}");
+    }
+}
+
+#[test]
+fn checker_reports_exponent_overflow() {
+    for src in [
+        "check (1 m^100)*(1 m^100)*(1 s) == (1 m^127)*(1 s)\n",
+        "x = (1 m^120) * (1 m^120) / (1 m^120)\n",
+        "x = (1 m^-64)^2\n",
+    ] {
+        let e = crate::Model::new(src).err();
+        assert!(e.is_some(), "must be refused: {src}");
+    }
+    assert!(crate::Model::new("x = (1 m^100) * (1 m^27)\n").is_ok());
 }
