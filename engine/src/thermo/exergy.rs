@@ -10,8 +10,7 @@ use super::ideal_gas::check_p;
 use super::process::fmt_num;
 use super::{Result, State, Substance, ThermoError};
 
-/// Standard acceleration of gravity, m/s^2 (3rd CGPM 1901; NIST SP 811).
-pub const G_N: f64 = 9.80665;
+pub use super::consts::G_N;
 
 fn positive_t(name: &'static str, t: f64) -> Result<()> {
     if t.is_finite() && t > 0.0 {

@@ -25,8 +25,7 @@
 use super::process::fmt_num;
 use super::{Result, Spec, State, ThermoError};
 
-/// Universal gas constant, J/(mol K) (CODATA 2018, exact).
-pub const R_U: f64 = 8.314462618;
+pub use super::consts::R_U;
 /// Standard-state pressure of the s° tables, Pa (1 bar).
 pub const P_STD: f64 = 100_000.0;
 /// Reference temperature of the sensible enthalpy, K.

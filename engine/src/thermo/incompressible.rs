@@ -9,7 +9,7 @@ use super::process::fmt_num;
 use super::{Result, Spec, State, ThermoError};
 
 /// Reference pressure of the enthalpy, Pa (standard atmosphere).
-pub const P_REF: f64 = 101_325.0;
+pub const P_REF: f64 = super::consts::P_ATM;
 
 #[derive(Clone, Debug, PartialEq)]
 pub struct Incompressible {

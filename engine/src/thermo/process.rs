@@ -223,7 +223,7 @@ fn outlet_words(what: &str, sub: &Substance, e: ThermoError, t_est: Option<f64>)
             };
             ThermoError::OutletOutOfRange(format!(
                 "{what} would be at about {} K, {side} the {} K limit of the data of ideal gas {}",
-                crate::units::format_sig(t, 3),
+                fmt_num(t.round()),
                 fmt_num(limit),
                 g.name()
             ))
@@ -451,7 +451,7 @@ pub fn device_warning(
             "the {name} inlet is two-phase (x = {}); common practice: a {name} takes a dry or \
              superheated vapour, as liquid droplets erode the blading and the efficiency model \
              assumes a dry gas",
-            crate::units::format_sig(q, 3)
+            fmt_num(q)
         ));
     }
     if device == Device::Turbine
@@ -461,7 +461,7 @@ pub fn device_warning(
         return Some(format!(
             "the turbine outlet is wet, x = {} (common practice: steam-turbine exhaust quality \
              x >= {TURBINE_X_MIN}, i.e. at most about 12 % moisture)",
-            crate::units::format_sig(q, 3)
+            fmt_num(q)
         ));
     }
     None

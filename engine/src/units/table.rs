@@ -266,7 +266,7 @@ fn build() -> Vec<Entry> {
     let psi = lbf / (inch * inch);
     let atm = c::<pr::atmosphere>();
     // Gas amounts at reference conditions: n = p V / (R_u T).
-    let r_u = crate::thermo::ideal_gas::R_U;
+    let r_u = crate::thermo::consts::R_U;
     let kelvin_of = |v: f64, f: f64, o: f64| v * f + o;
     let t0 = kelvin_of(0.0, c::<tt::degree_celsius>(), off::<tt::degree_celsius>());
     let t15 = kelvin_of(15.0, c::<tt::degree_celsius>(), off::<tt::degree_celsius>());
