@@ -132,6 +132,23 @@ pub fn evaluate_expression(text: &str, in_unit: Option<&str>) -> Result<Calculat
                         })
                         .collect(),
                 },
+                Value::Saturation(sv) => Evaluated::Fields {
+                    what: format!("saturated {}", sv.sub),
+                    fields: crate::report::saturation_fields(&sv)
+                        .into_iter()
+                        .map(|(name, dim, x, words)| {
+                            let (value, unit) = units::auto_display(dim, x);
+                            Reading {
+                                name,
+                                value,
+                                unit,
+                                si_value: x,
+                                si_unit: units::si_unit(dim),
+                                words,
+                            }
+                        })
+                        .collect(),
+                },
                 Value::Num(_) | Value::Absent => {
                     return Err(CalcError::Expression(vec![Diagnostic::error(
                         "the expression has no value",

@@ -756,6 +756,25 @@ impl Cx<'_> {
 
     fn field(&mut self, base: &Expr, field: &Ident) -> Typed {
         let (ty, code) = self.expr(base);
+        if ty == Ty::Saturation {
+            return match field.name.as_str() {
+                "liquid" | "vapour" => (
+                    Ty::State(ModelKind::RealFluid),
+                    Code::Phase(Box::new(code), field.name == "liquid"),
+                ),
+                "T" => (field_type(Field::T), Code::Field(Box::new(code), Field::T, field.span)),
+                "p" => (field_type(Field::P), Code::Field(Box::new(code), Field::P, field.span)),
+                other => self.error(
+                    Diagnostic::error(
+                        format!("a saturated pair has no `.{other}`"),
+                        field.span,
+                    )
+                    .with_note(
+                        "help: its fields are .T, .p, .liquid and .vapour (e.g. `sat.vapour.h`)",
+                    ),
+                ),
+            };
+        }
         let Some(f) = Field::from_name(&field.name) else {
             if ty == Ty::Error {
                 return ERR;
@@ -1334,7 +1353,7 @@ pub fn const_value(code: &Code) -> Option<f64> {
             | Code::Cmp(_, a, b)
             | Code::And(a, b)
             | Code::Or(a, b) => has_slot(a) || has_slot(b),
-            Code::Not(a) => has_slot(a),
+            Code::Not(a) | Code::Phase(a, _) => has_slot(a),
             Code::If(c, a, b) => has_slot(c) || has_slot(a) || has_slot(b),
             Code::Chain(first, rest) => has_slot(first) || rest.iter().any(|(_, c)| has_slot(c)),
             Code::Div(a, b, _) | Code::Pow(a, b, _) => has_slot(a) || has_slot(b),

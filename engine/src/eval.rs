@@ -11,7 +11,7 @@ use crate::diag::Diagnostic;
 /// Warnings met while evaluating, located (severity warning).
 pub type Warnings = Vec<Diagnostic>;
 use crate::thermo::{Field, Substance};
-pub use crate::value::{StateVal, Value};
+pub use crate::value::{SaturationVal, StateVal, Value};
 
 /// A compiled expression: names resolved to node slots, units folded into
 /// SI constants, dimension checks already done.
@@ -40,6 +40,8 @@ pub enum Code {
     If(Box<Code>, Box<Code>, Box<Code>),
     /// Field of a state (span of the field name, for "no quality" errors).
     Field(Box<Code>, Field, Span),
+    /// The saturated liquid (`true`) or vapour of a saturated pair.
+    Phase(Box<Code>, bool),
     /// Built-in call; arguments in parameter order; where the call and its
     /// arguments are written.
     Call(&'static Builtin, Vec<Code>, CallSpans),
@@ -211,11 +213,30 @@ fn eval_inner(
                     ),
                 ),
             },
+            Value::Saturation(sv) => match field {
+                Field::T => Ok(Value::Num(sv.sat.t)),
+                Field::P => Ok(Value::Num(sv.sat.p)),
+                _ => fail(*s, format!("a saturated pair has no `{}`", field.name())),
+            },
             Value::Substance(sub) => match substance_field(&sub, *field) {
                 Some(x) => Ok(Value::Num(x)),
                 None => fail(*s, format!("this substance has no `{}`", field.name())),
             },
             _ => fail(*s, "internal: field of a value that is not a state"),
+        },
+        Code::Phase(base, liquid) => match eval_inner(base, slots, span, w)? {
+            Value::Saturation(sv) => Ok(Value::State(Arc::new(StateVal {
+                sub: Arc::clone(&sv.sub),
+                st: if *liquid {
+                    sv.sat.liquid
+                } else {
+                    sv.sat.vapour
+                },
+            }))),
+            _ => fail(
+                span,
+                "internal: phase of a value that is not a saturated pair",
+            ),
         },
         Code::Call(b, args, s) => {
             let mut vals = Vec::with_capacity(args.len());

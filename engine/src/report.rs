@@ -343,6 +343,34 @@ impl Model {
                 }
                 row
             }
+            (_, Value::Saturation(sv)) => {
+                let mut row = number_row(
+                    name.clone(),
+                    kind,
+                    &DisplayUnit::Auto,
+                    Dim::NONE,
+                    None,
+                    line,
+                    i,
+                );
+                row.text = Some(format!("saturated {}", sv.sub));
+                row.si_unit = String::new();
+                row.unit = String::new();
+                for (fname, dim, x, words) in saturation_fields(sv) {
+                    let mut fr = number_row(
+                        format!("{name}.{fname}"),
+                        kind,
+                        &DisplayUnit::Auto,
+                        dim,
+                        Some(x),
+                        line,
+                        i,
+                    );
+                    fr.description = Some(words.to_string());
+                    row.fields.push(fr);
+                }
+                row
+            }
             (ty, v) => {
                 let mut row = number_row(
                     name.clone(),
@@ -409,6 +437,40 @@ impl Model {
 /// Words for a field.
 pub fn field_words(f: Field) -> &'static str {
     crate::fields::info(f).words
+}
+
+/// Fields listed for a saturated pair: T, p and the main properties of
+/// both phases, as (name, dimension, SI value, words).
+pub fn saturation_fields(
+    sv: &crate::value::SaturationVal,
+) -> Vec<(String, Dim, f64, &'static str)> {
+    let mut out = vec![
+        (
+            "T".to_string(),
+            Dim::TEMPERATURE,
+            sv.sat.t,
+            "saturation temperature",
+        ),
+        (
+            "p".to_string(),
+            Dim::PRESSURE,
+            sv.sat.p,
+            "saturation pressure",
+        ),
+    ];
+    for (phase, st) in [("liquid", &sv.sat.liquid), ("vapour", &sv.sat.vapour)] {
+        for f in [Field::H, Field::S, Field::V] {
+            if let Some(x) = st.get(f) {
+                out.push((
+                    format!("{phase}.{}", f.name()),
+                    field_dim(f),
+                    x,
+                    field_words(f),
+                ));
+            }
+        }
+    }
+    out
 }
 
 /// Fields listed for a substance: (name, dimension, SI value, words).

@@ -39,6 +39,9 @@ pub enum Ty {
     Str,
     Substance(ModelKind),
     State(ModelKind),
+    /// A saturated pair of a real fluid (`saturation(...)`): `.T`, `.p`,
+    /// `.liquid`, `.vapour`.
+    Saturation,
     /// The type of something that failed to check; suppresses follow-on
     /// errors.
     Error,
@@ -58,6 +61,7 @@ impl Ty {
             Ty::Str => "a string".into(),
             Ty::Substance(k) => format!("a substance ({})", k.describe()),
             Ty::State(k) => format!("a state of {}", k.describe()),
+            Ty::Saturation => "a saturated pair (liquid and vapour)".into(),
             Ty::Error => "an erroneous value".into(),
         }
     }

@@ -11,6 +11,13 @@ pub struct StateVal {
     pub st: State,
 }
 
+/// A saturated pair and the fluid it belongs to.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SaturationVal {
+    pub sub: Arc<Substance>,
+    pub sat: crate::thermo::fluid::Saturation,
+}
+
 /// A run-time value. Numbers are SI `f64`.
 #[derive(Clone, Debug, PartialEq)]
 pub enum Value {
@@ -19,6 +26,8 @@ pub enum Value {
     Str(Arc<str>),
     Substance(Arc<Substance>),
     State(Arc<StateVal>),
+    /// A saturated pair of a real fluid.
+    Saturation(Arc<SaturationVal>),
     /// An optional argument that was not given.
     Absent,
 }

@@ -71,7 +71,10 @@ fn argument_errors_are_worded() {
     let e = check_errors(
         "g = ideal_gas(\"air\")\nst = state(g, T: 300 K, p: 1 bar)\nb = compressor(st, p: 3 bar)\n",
     );
-    assert!(e.contains("missing the argument `eta: ...`"), "{e}");
+    assert!(
+        e.contains("needs an efficiency: `eta:` (isentropic) or `eta_p:`"),
+        "{e}"
+    );
     let e = check_errors("g = ideal_gas(\"argon\")\n");
     assert!(e.contains("argon"), "{e}");
     let e = check_errors(
@@ -185,4 +188,106 @@ fn substances_have_molar_mass_and_gas_constant_fields() {
     )
     .unwrap_err();
     assert!(e[0].message.contains("has no `.M`"), "{}", e[0].message);
+}
+
+#[test]
+fn saturation_pairs_of_water_follow_the_if97_tables() {
+    let src = "w = fluid(\"water\")\nsp = saturation(w, p: 0.1 MPa)\nst = saturation(w, T: 300 K)\n\
+               T1 = sp.T\np1 = st.p\nhf = sp.liquid.h\nhg = sp.vapour.h\nxf = sp.liquid.x\n\
+               xg = sp.vapour.x\n";
+    let mut m = sheaf_engine::Model::new(src).unwrap();
+    m.evaluate();
+    assert!(m.runtime_errors().is_empty(), "{:?}", m.runtime_errors());
+    // IAPWS R7-97(2012) Table 36: T_s(0.1 MPa) = 0.372755919e3 K; Table 35:
+    // p_s(300 K) = 0.353658941e-2 MPa (9 significant figures: half a unit
+    // of the last printed digit).
+    assert!((m.number("T1").unwrap() - 372.755_919).abs() < 5e-7);
+    assert!((m.number("p1").unwrap() - 3_536.589_41).abs() < 5e-6);
+    // The phases are on the saturation line: x = 0 and x = 1; h_fg at 1 bar
+    // is about 2258 kJ/kg (steam tables, common knowledge): 0.1 %.
+    assert_eq!(m.number("xf"), Some(0.0));
+    assert_eq!(m.number("xg"), Some(1.0));
+    let hfg = m.number("hg").unwrap() - m.number("hf").unwrap();
+    assert!((hfg / 2_258e3 - 1.0).abs() < 1e-3, "{hfg}");
+    // Only real fluids have a saturation line; one of T or p.
+    assert!(
+        sheaf_engine::Model::new("g = ideal_gas(\"N2\")\ns = saturation(g, p: 1 bar)\n").is_err()
+    );
+    assert!(
+        sheaf_engine::Model::new("w = fluid(\"water\")\ns = saturation(w, p: 1 bar, T: 300 K)\n")
+            .is_err()
+    );
+}
+
+#[test]
+fn polytropic_compressor_of_a_perfect_gas_matches_the_closed_form() {
+    // Closed form for constant cp: T2/T1 = (p2/p1)^((k-1)/(k eta_p)) —
+    // from dh = v dp / eta_p, cp dT = R T dp / (p eta_p).
+    let src = "g = perfect_gas(R: 287 J/(kg K), k: 1.4)\nst1 = state(g, T: 300 K, p: 1 bar)\n\
+               st2 = compressor(st1, p: 8 bar, eta_p: 0.85)\nT2 = st2.T\n\
+               t3 = turbine(st2, p: 1 bar, eta_p: 0.9)\nT3 = t3.T\n";
+    let mut m = sheaf_engine::Model::new(src).unwrap();
+    m.evaluate();
+    assert!(m.runtime_errors().is_empty(), "{:?}", m.runtime_errors());
+    let want = 300.0 * 8f64.powf(0.4 / (1.4 * 0.85));
+    assert!(
+        (m.number("T2").unwrap() / want - 1.0).abs() < 1e-8,
+        "{}",
+        m.number("T2").unwrap()
+    );
+    // Expansion: T3/T2 = (p3/p2)^((k-1) eta_p / k).
+    let want3 = want * (1.0f64 / 8.0).powf(0.4 * 0.9 / 1.4);
+    assert!((m.number("T3").unwrap() / want3 - 1.0).abs() < 1e-8);
+    // One efficiency, not both, not none.
+    for bad in ["eta: 0.8, eta_p: 0.85", "p: 8 bar"] {
+        let src = format!(
+            "g = perfect_gas(R: 287 J/(kg K), k: 1.4)\nst1 = state(g, T: 300 K, p: 1 bar)\n\
+             st2 = compressor(st1, p: 8 bar, {bad})\n"
+        );
+        assert!(
+            sheaf_engine::Model::new(src.replace(", p: 8 bar)", ")")).is_err(),
+            "{bad}"
+        );
+    }
+}
+
+#[test]
+fn mixing_two_water_streams_closes_the_energy_balance() {
+    // 1 kg/s at 20 °C and 3 kg/s of steam at 150 °C, both 2 bar, mixed to
+    // 2 bar: h3 = (h_a + 3 h_b)/4 exactly; the outlet is wet steam; the
+    // entropy generated is positive (second law).
+    let src = "w = fluid(\"water\")\na = state(w, p: 2 bar, T: 20 degC)\n\
+               b = state(w, p: 2 bar, T: 150 degC)\nc = mix(a, 1 kg/s, b, 3 kg/s, p: 2 bar)\n\
+               dh = c.h - (a.h + 3 * b.h) / 4\nS_gen = 4 kg/s * c.s - 1 kg/s * a.s - 3 kg/s * b.s\n\
+               x3 = c.x\n";
+    let mut m = sheaf_engine::Model::new(src).unwrap();
+    m.evaluate();
+    assert!(m.runtime_errors().is_empty(), "{:?}", m.runtime_errors());
+    assert!(m.number("dh").unwrap().abs() < 1e-6);
+    assert!(m.number("S_gen").unwrap() > 0.0);
+    let x = m.number("x3").unwrap();
+    assert!(x > 0.0 && x < 1.0, "{x}");
+    let e = sheaf_engine::Model::new(
+        "w = fluid(\"water\")\ng = ideal_gas(\"air\")\na = state(w, p: 2 bar, T: 20 degC)\n\
+         b = state(g, p: 2 bar, T: 150 degC)\nc = mix(a, 1 kg/s, b, 3 kg/s, p: 2 bar)\n",
+    )
+    .unwrap_err();
+    assert!(e[0].message.contains("one substance"), "{}", e[0].message);
+}
+
+#[test]
+fn a_natural_gas_mixture_by_mole_fraction() {
+    // M = 0.92 M_CH4 + 0.08 M_N2 (ideal mixture; M_CH4 = 16.04246, M_N2 =
+    // 28.0134 g/mol, IUPAC atomic weights, from memory): 1e-4.
+    let src = "ng = gas_mix(\"CH4\", 0.92, \"N2\", 0.08)\nM = ng.M\n";
+    let mut m = sheaf_engine::Model::new(src).unwrap();
+    m.evaluate();
+    let want = 0.92 * 16.042_46e-3 + 0.08 * 28.013_4e-3;
+    assert!((m.number("M").unwrap() / want - 1.0).abs() < 1e-4);
+    // Fractions must sum to 1.
+    let mut bad = sheaf_engine::Model::new("ng = gas_mix(\"CH4\", 0.9, \"N2\", 0.08)\n").unwrap();
+    bad.evaluate();
+    assert_eq!(bad.runtime_errors().len(), 1);
+    assert!(sheaf_engine::Model::new("ng = gas_mix(\"CH4\", 0.92, \"N2\")\n").is_err());
+    assert!(sheaf_engine::Model::new("ng = gas_mix(\"CH4\", 0.92 m, \"N2\", 0.08)\n").is_err());
 }

@@ -2,14 +2,16 @@
 
 use super::{
     Args, Builtin, CallError, Family, Param, Rule, Sheet, TArg, TypeErr, Warnings, err_at, named,
-    new_state, opt_pos, p, unless_error, want_dimensionless, want_num, want_state,
+    new_state, opt, opt_pos, p, unless_error, want_dimensionless, want_num, want_state,
 };
-use crate::thermo::{self, ModelKind, process};
+use crate::thermo::{self, ModelKind, process, process::Device};
 use crate::types::Ty;
 use crate::units::Dim;
 use crate::value::{StateVal, Value};
 
 const DEVICE: &[Param] = &[p("st"), named("p"), named("eta")];
+/// Compressors and turbines: isentropic `eta:` or polytropic `eta_p:`.
+const ROTOR: &[Param] = &[p("st"), named("p"), opt("eta"), opt("eta_p")];
 const NO_ETA: &[Param] = &[p("st"), named("p")];
 
 /// Typing of a device: an inlet state, an outlet pressure, an efficiency
@@ -17,8 +19,28 @@ const NO_ETA: &[Param] = &[p("st"), named("p")];
 fn device_typing(b: &Builtin, args: &[Option<TArg>]) -> Result<Ty, TypeErr> {
     let k = want_state(b, args, 0)?;
     want_num(b, args, 1, Dim::PRESSURE, false)?;
-    if b.params.len() > 2 {
-        want_dimensionless(b, args, 2)?;
+    for i in 2..b.params.len() {
+        want_dimensionless(b, args, i)?;
+    }
+    if b.params.len() == 4 {
+        match (&args[2], &args[3]) {
+            (Some(_), Some(_)) => {
+                return err_at(
+                    3,
+                    format!("`{}` takes `eta:` or `eta_p:`, not both", b.name),
+                );
+            }
+            (None, None) => {
+                return Err(TypeErr {
+                    message: format!(
+                        "`{}` needs an efficiency: `eta:` (isentropic) or `eta_p:` (polytropic)",
+                        b.name
+                    ),
+                    param: None,
+                });
+            }
+            _ => {}
+        }
     }
     match k {
         Some(ModelKind::IdealGas | ModelKind::PerfectGas) if b.name == "pump" => {
@@ -29,10 +51,12 @@ fn device_typing(b: &Builtin, args: &[Option<TArg>]) -> Result<Ty, TypeErr> {
     }
 }
 
-/// The outlet state, with the model's warnings about the process.
+/// The outlet state, with the model's and the device rules' warnings
+/// about the process.
 fn outlet(
     a: &Args<'_>,
     w: &mut Warnings,
+    device: Device,
     f: impl FnOnce(&StateVal) -> thermo::Result<thermo::State>,
 ) -> Result<Value, CallError> {
     let inlet = a.state(0)?;
@@ -40,7 +64,28 @@ fn outlet(
     if let Some(msg) = inlet.sub.process_warning(&inlet.st, &out) {
         w.push(msg);
     }
+    if let Some(msg) = process::device_warning(device, &inlet.sub, &inlet.st, &out) {
+        w.push(msg);
+    }
     Ok(new_state(&inlet.sub, out, w))
+}
+
+/// A compressor or turbine by isentropic or polytropic efficiency.
+fn rotor(
+    a: &Args<'_>,
+    w: &mut Warnings,
+    device: Device,
+    isentropic: fn(&thermo::Substance, &thermo::State, f64, f64) -> thermo::Result<thermo::State>,
+    polytropic: fn(&thermo::Substance, &thermo::State, f64, f64) -> thermo::Result<thermo::State>,
+) -> Result<Value, CallError> {
+    let p2 = a.num(1)?;
+    if a.given(3) {
+        let eta_p = a.num(3)?;
+        outlet(a, w, device, |s| polytropic(&s.sub, &s.st, p2, eta_p))
+    } else {
+        let eta = a.num(2)?;
+        outlet(a, w, device, |s| isentropic(&s.sub, &s.st, p2, eta))
+    }
 }
 
 pub static ISENTROPIC: Builtin = Builtin {
@@ -53,7 +98,9 @@ pub static ISENTROPIC: Builtin = Builtin {
     typing: device_typing,
     eval: |a, w| {
         let p2 = a.num(1)?;
-        outlet(a, w, |s| process::isentropic(&s.sub, &s.st, p2))
+        outlet(a, w, Device::Isentropic, |s| {
+            process::isentropic(&s.sub, &s.st, p2)
+        })
     },
     sheet: Sheet::Rule(Rule::Isentropic),
 };
@@ -68,7 +115,9 @@ pub static THROTTLE: Builtin = Builtin {
     typing: device_typing,
     eval: |a, w| {
         let p2 = a.num(1)?;
-        outlet(a, w, |s| process::throttle(&s.sub, &s.st, p2))
+        outlet(a, w, Device::Throttle, |s| {
+            process::throttle(&s.sub, &s.st, p2)
+        })
     },
     sheet: Sheet::Rule(Rule::Throttle),
 };
@@ -76,14 +125,20 @@ pub static THROTTLE: Builtin = Builtin {
 pub static COMPRESSOR: Builtin = Builtin {
     name: "compressor",
     family: Family::Devices,
-    params: DEVICE,
+    params: ROTOR,
     variadic: false,
-    usage: "compressor(st1, p: p2, eta: 0.8)",
-    description: "compressor outlet: h2 = h1 + (h2s - h1)/eta",
+    usage: "compressor(st1, p: p2, eta: 0.8)  or  compressor(st1, p: p2, eta_p: 0.85)",
+    description: "compressor outlet: h2 = h1 + (h2s - h1)/eta; with eta_p (polytropic), dh = v dp \
+                  / eta_p integrated along the path on the substance's own model",
     typing: device_typing,
     eval: |a, w| {
-        let (p2, eta) = (a.num(1)?, a.num(2)?);
-        outlet(a, w, |s| process::compressor(&s.sub, &s.st, p2, eta))
+        rotor(
+            a,
+            w,
+            Device::Compressor,
+            process::compressor,
+            process::compressor_polytropic,
+        )
     },
     sheet: Sheet::Rule(Rule::EtaDivides),
 };
@@ -91,14 +146,20 @@ pub static COMPRESSOR: Builtin = Builtin {
 pub static TURBINE: Builtin = Builtin {
     name: "turbine",
     family: Family::Devices,
-    params: DEVICE,
+    params: ROTOR,
     variadic: false,
-    usage: "turbine(st1, p: p2, eta: 0.85)",
-    description: "turbine outlet: h2 = h1 - eta (h1 - h2s)",
+    usage: "turbine(st1, p: p2, eta: 0.85)  or  turbine(st1, p: p2, eta_p: 0.88)",
+    description: "turbine outlet: h2 = h1 - eta (h1 - h2s); with eta_p (polytropic), dh = eta_p v \
+                  dp integrated along the path",
     typing: device_typing,
     eval: |a, w| {
-        let (p2, eta) = (a.num(1)?, a.num(2)?);
-        outlet(a, w, |s| process::turbine(&s.sub, &s.st, p2, eta))
+        rotor(
+            a,
+            w,
+            Device::Turbine,
+            process::turbine,
+            process::turbine_polytropic,
+        )
     },
     sheet: Sheet::Rule(Rule::EtaMultiplies),
 };
@@ -114,7 +175,9 @@ pub static PUMP: Builtin = Builtin {
     typing: device_typing,
     eval: |a, w| {
         let (p2, eta) = (a.num(1)?, a.num(2)?);
-        outlet(a, w, |s| process::pump(&s.sub, &s.st, p2, eta))
+        outlet(a, w, Device::Pump, |s| {
+            process::pump(&s.sub, &s.st, p2, eta)
+        })
     },
     sheet: Sheet::Rule(Rule::EtaDivides),
 };
@@ -129,7 +192,9 @@ pub static NOZZLE: Builtin = Builtin {
     typing: device_typing,
     eval: |a, w| {
         let (p2, eta) = (a.num(1)?, a.num(2)?);
-        outlet(a, w, |s| process::nozzle(&s.sub, &s.st, p2, eta))
+        outlet(a, w, Device::Nozzle, |s| {
+            process::nozzle(&s.sub, &s.st, p2, eta)
+        })
     },
     sheet: Sheet::Rule(Rule::EtaMultiplies),
 };
@@ -157,4 +222,55 @@ pub static JET_SPEED: Builtin = Builtin {
         Ok(Value::Num(v))
     },
     sheet: Sheet::Rule(Rule::JetSpeed),
+};
+
+pub static MIX: Builtin = Builtin {
+    name: "mix",
+    family: Family::Devices,
+    params: &[p("st_a"), p("mdot_a"), p("st_b"), p("mdot_b"), named("p")],
+    variadic: false,
+    usage: "mix(st_a, mdot_a, st_b, mdot_b, p: p3)",
+    description: "adiabatic mixing of two streams of one substance to pressure p: h = (ma ha + mb \
+                  hb)/(ma + mb); the outlet may be two-phase",
+    typing: |b, args| {
+        let ka = want_state(b, args, 0)?;
+        want_num(b, args, 1, Dim::MASS_FLOW, false)?;
+        let kb = want_state(b, args, 2)?;
+        want_num(b, args, 3, Dim::MASS_FLOW, false)?;
+        want_num(b, args, 4, Dim::PRESSURE, false)?;
+        match (ka, kb) {
+            (Some(x), Some(y)) if x != y => err_at(
+                2,
+                format!(
+                    "`mix` needs two streams of one substance: a state of {} and a state of {}",
+                    x.describe(),
+                    y.describe()
+                ),
+            ),
+            (Some(k), Some(_)) => Ok(unless_error(args, Ty::State(k))),
+            _ => Ok(Ty::Error),
+        }
+    },
+    eval: |a, w| {
+        let (sa, sb) = (a.state(0)?, a.state(2)?);
+        if sa.sub != sb.sub {
+            return Err(CallError::at(
+                2,
+                format!(
+                    "`mix` needs two streams of one substance: {} and {}",
+                    sa.sub, sb.sub
+                ),
+            ));
+        }
+        let out = a.thermo(process::mix(
+            &sa.sub,
+            &sa.st,
+            a.num(1)?,
+            &sb.st,
+            a.num(3)?,
+            a.num(4)?,
+        ))?;
+        Ok(new_state(&sa.sub, out, w))
+    },
+    sheet: Sheet::EngineOnly,
 };

@@ -259,3 +259,100 @@ pub static IS_TWO_PHASE: Builtin = Builtin {
     eval: |a, _| Ok(Value::Bool(a.state(0)?.st.x.is_some())),
     sheet: Sheet::EngineOnly,
 };
+
+pub static GAS_MIX: Builtin = Builtin {
+    name: "gas_mix",
+    family: Family::Substances,
+    params: &[],
+    variadic: true,
+    usage: "gas_mix(\"CH4\", 0.92, \"N2\", 0.08)",
+    description: "ideal-gas mixture of the ideal gases above by mole fraction (the fractions sum \
+                  to 1), with the ideal mixing entropy",
+    typing: |b, args| {
+        if args.len() < 2 || args.len() % 2 != 0 {
+            return err_call(format!(
+                "`gas_mix` takes pairs of a gas name and its mole fraction, e.g. {}",
+                b.usage
+            ));
+        }
+        for i in (0..args.len()).step_by(2) {
+            let name = string_literal(b, args, i)?;
+            if let Err(e) = IdealGas::by_name(&name) {
+                return err_at(i, e.to_string());
+            }
+            match args[i + 1].as_ref().map(|a| a.ty) {
+                Some(Ty::Num(q)) if q.dim.is_none() => {}
+                Some(Ty::Error) => {}
+                Some(other) => {
+                    return err_at(
+                        i + 1,
+                        format!(
+                            "the mole fraction of \"{name}\" must be a dimensionless number, got {}",
+                            other.describe()
+                        ),
+                    );
+                }
+                None => return err_call("`gas_mix` is missing a mole fraction"),
+            }
+        }
+        Ok(unless_error(args, Ty::Substance(ModelKind::IdealGas)))
+    },
+    eval: |a, _| {
+        let mut parts = Vec::with_capacity(a.len() / 2);
+        for i in (0..a.len()).step_by(2) {
+            parts.push((a.text(i)?, a.num(i + 1)?));
+        }
+        let g = a.thermo(IdealGas::mixture(&parts))?;
+        substance(Substance::IdealGas(g))
+    },
+    // The package writes a mixture's states as engine values (its
+    // coefficients are not on the data sheet yet).
+    sheet: Sheet::EngineOnly,
+};
+
+pub static SATURATION: Builtin = Builtin {
+    name: "saturation",
+    family: Family::Substances,
+    params: &[p("fluid"), opt("T"), opt("p")],
+    variadic: false,
+    usage: "saturation(fluid(\"water\"), p: 1 bar).vapour.h",
+    description: "the saturated pair of a real fluid at T or p: fields .T, .p and the states \
+                  .liquid and .vapour",
+    typing: |b, args| {
+        match args[0].as_ref().map(|a| a.ty) {
+            Some(Ty::Substance(ModelKind::RealFluid)) | Some(Ty::Error) => {}
+            Some(other) => {
+                return err_at(
+                    0,
+                    format!(
+                        "`saturation` needs a real fluid (`fluid(\"water\")`), got {}",
+                        other.describe()
+                    ),
+                );
+            }
+            None => return err_call("`saturation` needs a fluid"),
+        }
+        want_num(b, args, 1, Dim::TEMPERATURE, true)?;
+        want_num(b, args, 2, Dim::PRESSURE, false)?;
+        if args[1].is_some() == args[2].is_some() {
+            return err_call("`saturation` takes one of `T:` or `p:`");
+        }
+        Ok(unless_error(args, Ty::Saturation))
+    },
+    eval: |a, _| {
+        let sub = a.substance(0)?;
+        let Substance::Fluid(f) = &**sub else {
+            return Err(CallError::at(0, "`saturation` needs a real fluid"));
+        };
+        let sat = if a.given(1) {
+            a.thermo(f.saturation_t(a.num(1)?))?
+        } else {
+            a.thermo(f.saturation_p(a.num(2)?))?
+        };
+        Ok(Value::Saturation(Arc::new(crate::value::SaturationVal {
+            sub: Arc::clone(sub),
+            sat,
+        })))
+    },
+    sheet: Sheet::EngineOnly,
+};

@@ -264,7 +264,7 @@ impl Env<'_> {
             Code::If(c, a, b) => Ex::call("IF", &[self.num(c)?, self.num(a)?, self.num(b)?]),
             Code::Field(base, f, _) => self.field(base, *f)?,
             Code::Call(b, args, _) => self.call(b, args)?,
-            Code::Str(_) | Code::Absent => return None,
+            Code::Str(_) | Code::Absent | Code::Phase(..) => return None,
         })
     }
 
