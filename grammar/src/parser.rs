@@ -1725,8 +1725,8 @@ impl Builder<'_> {
                     "`not` applies to a whole condition: write it in parentheses here, e.g. `a == (not b)`".into(),
                 );
             }
-            if expects_operand && has(Rule::kw_not) && matches!(w.as_str(), "and" | "or") {
-                return err(format!("expected a condition before `{w}`"));
+            if expects_operand && matches!(w.as_str(), "and" | "or") {
+                return err(format!("expected an expression before `{w}`"));
             }
             if KEYWORDS.contains(&w.as_str()) && (expects_operand || has(Rule::ident)) {
                 return err(format!("`{w}` is a keyword and cannot be a name"));
@@ -1770,6 +1770,16 @@ impl Builder<'_> {
             ));
         }
         if after_operand && let Found::Word(w) = &found {
+            if KEYWORDS.contains(&w.as_str()) {
+                let after_number = prev
+                    .as_ref()
+                    .is_some_and(|p| p.starts_with(|c: char| c.is_ascii_digit() || c == '.'));
+                return err(if after_number {
+                    format!("`{w}` is a keyword and cannot be a unit")
+                } else {
+                    format!("unexpected `{w}`")
+                });
+            }
             if w.starts_with(|c: char| c.is_ascii_digit()) {
                 return err(format!("expected an operator before `{w}`"));
             }
@@ -1952,6 +1962,19 @@ mod fast_path_tests {
         "T:",
         "p:",
         "h",
+        "<",
+        " and ",
+        " or ",
+        "not ",
+        "if ",
+        " then ",
+        " else ",
+        "and",
+        "not",
+        " step ",
+        " in",
+        "+-",
+        "2 to",
     ];
 
     /// Parses with the entry rules only (the pre-fast-path behaviour).
@@ -2051,6 +2074,19 @@ mod fast_path_tests {
             "z = x.input",
             "z = a b",
             "z = 2 kJ/kg K",
+            "check 0.88 <= x2 <= 1 and not y or z",
+            "x = if a < b then -a else f(if c then 1 else 2, k: not d)",
+            "x = if a then b",
+            "x = 1 + if a then b else c",
+            "x = a == not b",
+            "x = 0.78 +- 0.02",
+            "x = 0.78 + -0.02 \"d\"",
+            "x = a + -b",
+            "x = 2 step",
+            "x = 1 in",
+            "x = not not a",
+            "x = (not a) * 2",
+            "check a < (b < c) < d",
         ] {
             check_line(line);
         }
