@@ -69,10 +69,32 @@ pub struct FluidEntry {
 }
 
 /// Every real fluid the worksheet language offers.
-pub static FLUIDS: &[FluidEntry] = &[FluidEntry {
-    names: &["water", "steam"],
-    fluid: &super::if97::Water,
-}];
+pub static FLUIDS: &[FluidEntry] = &[
+    FluidEntry {
+        names: &["water", "steam"],
+        fluid: &super::if97::Water,
+    },
+    FluidEntry {
+        names: &["R134a"],
+        fluid: &super::helmholtz::R134A,
+    },
+    FluidEntry {
+        names: &["R1234yf"],
+        fluid: &super::helmholtz::R1234YF,
+    },
+    FluidEntry {
+        names: &["R32"],
+        fluid: &super::helmholtz::R32,
+    },
+    FluidEntry {
+        names: &["ammonia", "R717"],
+        fluid: &super::helmholtz::AMMONIA,
+    },
+    FluidEntry {
+        names: &["CO2", "R744"],
+        fluid: &super::helmholtz::CO2,
+    },
+];
 
 /// The fluid registered under `name` (ASCII case ignored).
 pub fn fluid(name: &str) -> Option<&'static dyn RealFluid> {

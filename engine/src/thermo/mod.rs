@@ -10,7 +10,9 @@
 //!   7-coefficient polynomials, and standard dry air;
 //! - [`perfect_gas`]: constant cp;
 //! - [`incompressible`]: liquids and solids with constant c and density;
-//! - [`if97`]: water and steam by IAPWS-IF97.
+//! - [`if97`]: water and steam by IAPWS-IF97;
+//! - [`helmholtz`]: refrigerants and CO2 by their reference Helmholtz-energy
+//!   equations of state.
 //!
 //! [`process`] holds the device models (isentropic, compressor, turbine,
 //! pump, nozzle, throttle) and [`exergy`] the entropy and exergy functions.
@@ -18,6 +20,7 @@
 pub mod consts;
 pub mod exergy;
 pub mod fluid;
+pub mod helmholtz;
 pub mod ideal_gas;
 pub mod if97;
 pub mod incompressible;
