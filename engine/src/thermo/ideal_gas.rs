@@ -772,9 +772,9 @@ impl IdealGas {
                     } else {
                         (p, "Pa")
                     };
-                    format!("{} {u}", crate::units::format_sig(v, 4))
+                    format!("{} {u}", fmt_num(v))
                 };
-                let at = format!("{} K and {}", crate::units::format_sig(t, 4), fmt_p(p));
+                let at = format!("{} K and {}", fmt_num(t), fmt_p(p));
                 let msg = if self.components.len() == 1 {
                     format!(
                         "ideal gas {name} at {at} would be a liquid: the pressure is above its \
