@@ -206,7 +206,17 @@ impl Model {
             }
             count += 1;
             let mut w = Vec::new();
-            match eval::eval(&node.code, &self.values, node.expr_span, &mut w) {
+            let result =
+                eval::eval(&node.code, &self.values, node.expr_span, &mut w).and_then(|v| {
+                    match physical(node, &v) {
+                        Ok(()) => Ok(v),
+                        Err(message) => Err(eval::EvalError {
+                            span: node.expr_span,
+                            message,
+                        }),
+                    }
+                });
+            match result {
                 Ok(v) => {
                     self.values[i] = v;
                     self.status[i] = Status::Ok;
@@ -361,6 +371,43 @@ impl Model {
     pub fn display(&self, node: usize) -> &DisplayUnit {
         &self.checked.nodes[node].display
     }
+}
+
+/// A value that cannot be physical or cannot be shown: an absolute
+/// temperature or pressure below zero (however it arose: a literal, an
+/// override, a computation), or a number that is not finite in its
+/// display unit.
+fn physical(node: &Node, v: &Value) -> Result<(), String> {
+    let (Value::Num(x), Ty::Num(q)) = (v, node.ty) else {
+        return Ok(());
+    };
+    let shown_absolute = matches!(
+        &node.display,
+        DisplayUnit::Fixed { unit, .. } if unit.affinity == Affinity::Absolute
+    );
+    if (q.aff == Affinity::Absolute || shown_absolute) && *x < 0.0 {
+        if q.dim == crate::units::Dim::TEMPERATURE {
+            return Err(format!(
+                "the absolute temperature would be {} K, below absolute zero",
+                crate::units::format_sig(*x, 6)
+            ));
+        }
+        if q.dim == crate::units::Dim::PRESSURE {
+            return Err(format!(
+                "the absolute pressure would be {} Pa, below zero (a gauge value below the \
+                 reference pressure?)",
+                crate::units::format_sig(*x, 6)
+            ));
+        }
+    }
+    if let DisplayUnit::Fixed { unit, text } = &node.display
+        && !unit.from_si(*x).is_finite()
+    {
+        return Err(format!(
+            "the value is not a finite number in `{text}` (too large for this unit)"
+        ));
+    }
+    Ok(())
 }
 
 fn compatible(want: QTy, got: QTy) -> bool {

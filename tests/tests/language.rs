@@ -235,3 +235,34 @@ fn negative_readings_on_offset_scales_are_literals() {
         "{e:?}"
     );
 }
+
+#[test]
+fn impossible_absolute_values_and_unshowable_numbers_are_errors() {
+    // An absolute temperature or pressure below zero, however it arises
+    // (-300 degC = -26.85 K; -2 barg = -98.675 kPa absolute with the
+    // standard atmosphere 101.325 kPa as gauge reference).
+    for (src, want) in [
+        ("input T = -300 degC\n", "below absolute zero"),
+        (
+            "input p = -2 barg\n",
+            "absolute pressure would be -98675 Pa",
+        ),
+        ("x : degC = -1 K\n", "below absolute zero"),
+        ("input T = 20 degC\nT2 = T - 400 K\n", "below absolute zero"),
+        ("x : nm = 1e300 m\n", "not a finite number in `nm`"),
+    ] {
+        let mut m = Model::new(src).unwrap();
+        m.evaluate();
+        let errs = m.runtime_errors();
+        assert_eq!(errs.len(), 1, "{src}");
+        assert!(errs[0].message.contains(want), "{src}: {}", errs[0].message);
+    }
+    // An override is checked the same way.
+    let mut m = Model::new("input T = 20 degC\n").unwrap();
+    m.set_input_text("T", "-500 degC").unwrap();
+    m.evaluate();
+    assert_eq!(m.runtime_errors().len(), 1);
+    // A negative difference is fine.
+    let m = run("a = 10 degC - 30 degC\nb = -5 kPa\n");
+    assert!(close(m.number("a").unwrap(), -20.0, 1e-12));
+}
