@@ -589,8 +589,16 @@ impl Cx<'_> {
                 match affinity(op, lq.aff, rq.aff) {
                     Ok(aff) => {
                         let ty = Ty::Num(QTy { dim: lq.dim, aff });
+                        let energy_of_states = |c: &Code| {
+                            matches!(c, Code::Field(_, Field::H | Field::S | Field::U, _))
+                        };
                         let code = if op == BinOp::Add {
                             Code::Add(lc, rc)
+                        } else if energy_of_states(&lc) && energy_of_states(&rc) {
+                            // h, s or u of two states: warn at run time when the
+                            // states are of different substances (their
+                            // reference states differ).
+                            Code::StateDiff(lc, rc, span)
                         } else {
                             Code::Sub(lc, rc)
                         };
@@ -1349,6 +1357,7 @@ pub fn const_value(code: &Code) -> Option<f64> {
             Code::Neg(a) => has_slot(a),
             Code::Add(a, b)
             | Code::Sub(a, b)
+            | Code::StateDiff(a, b, _)
             | Code::Mul(a, b)
             | Code::Cmp(_, a, b)
             | Code::And(a, b)

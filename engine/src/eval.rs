@@ -25,6 +25,10 @@ pub enum Code {
     Neg(Box<Code>),
     Add(Box<Code>, Box<Code>),
     Sub(Box<Code>, Box<Code>),
+    /// `st_a.h - st_b.h` (or s, u): a subtraction that warns when the two
+    /// states are of different substances or models, whose reference
+    /// states differ.
+    StateDiff(Box<Code>, Box<Code>, Span),
     Mul(Box<Code>, Box<Code>),
     /// Division; the span is the divisor's, for the division-by-zero error.
     Div(Box<Code>, Box<Code>, Span),
@@ -150,6 +154,29 @@ fn eval_inner(
         Code::Neg(a) => Ok(Value::Num(-number(a, slots, span, w)?)),
         Code::Add(a, b) => bin(a, b, w, |x, y| x + y),
         Code::Sub(a, b) => bin(a, b, w, |x, y| x - y),
+        Code::StateDiff(a, b, s) => {
+            let x = number(a, slots, span, w)?;
+            let y = number(b, slots, span, w)?;
+            if let (Code::Field(ba, f, _), Code::Field(bb, _, _)) = (&**a, &**b)
+                && let (Value::State(sa), Value::State(sb)) = (
+                    eval_inner(ba, slots, span, w)?,
+                    eval_inner(bb, slots, span, w)?,
+                )
+                && sa.sub != sb.sub
+            {
+                w.push(Diagnostic::warning(
+                    format!(
+                        "subtracting `{}` of states of different substances ({} and {}): their \
+                         reference states differ, so the difference has no physical meaning",
+                        f.name(),
+                        sa.sub,
+                        sb.sub
+                    ),
+                    *s,
+                ));
+            }
+            Ok(Value::Num(x - y))
+        }
         Code::Mul(a, b) => bin(a, b, w, |x, y| x * y),
         Code::Div(a, b, s) => {
             let x = number(a, slots, span, w)?;

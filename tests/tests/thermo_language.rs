@@ -291,3 +291,21 @@ fn a_natural_gas_mixture_by_mole_fraction() {
     assert!(sheaf_engine::Model::new("ng = gas_mix(\"CH4\", 0.92, \"N2\")\n").is_err());
     assert!(sheaf_engine::Model::new("ng = gas_mix(\"CH4\", 0.92 m, \"N2\", 0.08)\n").is_err());
 }
+
+#[test]
+fn subtracting_enthalpies_of_different_substances_warns() {
+    // ideal_gas("H2O") h is sensible enthalpy from 298.15 K; IF97 h is from
+    // the triple-point liquid: their difference means nothing.
+    let src = "g = ideal_gas(\"H2O\")\nw = fluid(\"water\")\na = state(g, T: 500 K, p: 1 bar)\n\
+               b = state(w, T: 500 K, p: 1 bar)\ndh = a.h - b.h\nc = state(w, T: 400 K, p: 1 bar)\n\
+               ok = b.h - c.h\n";
+    let mut m = sheaf_engine::Model::new(src).unwrap();
+    m.evaluate();
+    let r = m.report();
+    let ws: Vec<String> = r.warnings.iter().map(|w| w.to_string()).collect();
+    assert_eq!(ws.len(), 1, "{ws:?}");
+    assert!(
+        ws[0].contains("`dh`") && ws[0].contains("different substances"),
+        "{ws:?}"
+    );
+}

@@ -243,7 +243,7 @@ impl Env<'_> {
             }
             Code::Neg(a) => Ex::neg(&self.num(a)?),
             Code::Add(a, b) => add(&self.num(a)?, &self.num(b)?),
-            Code::Sub(a, b) => sub(&self.num(a)?, &self.num(b)?),
+            Code::Sub(a, b) | Code::StateDiff(a, b, _) => sub(&self.num(a)?, &self.num(b)?),
             Code::Mul(a, b) => mul(&self.num(a)?, &self.num(b)?),
             Code::Div(a, b, _) => div(&self.num(a)?, &self.num(b)?),
             Code::Pow(a, b, _) => Ex::pow(&self.num(a)?, &self.num(b)?),
