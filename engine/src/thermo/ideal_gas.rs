@@ -908,7 +908,7 @@ pub struct PSatEstimate {
 /// above the sublimation pressure (a deposit near the line may pass).
 pub fn p_sat_estimate(name: &str, t: f64) -> Option<PSatEstimate> {
     let sp = find_species(name)?;
-    if !(t < sp.tc) {
+    if t.is_nan() || t >= sp.tc {
         return None;
     }
     if name == "H2O"
