@@ -237,8 +237,13 @@ mod tests {
         // => ∫cp/T dT = s°(T2) − s°(T1) = (R/eta_p) ln(p2/p1) (compression),
         // resp. eta_p R ln(p2/p1) (expansion). T2 from s° by the model's own
         // inverse (converged to 1e-11): the integrated Δh must agree to 1e-8.
-        for name in ["air", "CH4", "CO2", "H2"] {
-            let g = IdealGas::by_name(name).unwrap();
+        let natural_gas = IdealGas::mixture(&[("CH4", 0.92), ("N2", 0.08)]).unwrap();
+        for name in ["air", "CH4", "CO2", "H2", "mixture"] {
+            let g = if name == "mixture" {
+                natural_gas.clone()
+            } else {
+                IdealGas::by_name(name).unwrap()
+            };
             let sub = Substance::IdealGas(g.clone());
             let inlet = tp(&sub, 300.0, 1e5);
             let out = compressor_polytropic(&sub, &inlet, 12e5, 0.82).unwrap();

@@ -21,8 +21,11 @@
 //! way everywhere ([`inlet_phase`]): a state of an incompressible model is a
 //! liquid; an ideal or perfect gas is a gas; a real-fluid state is two-phase
 //! when 0 < x < 1, liquid when x = 0 or when it is below the critical
-//! temperature and denser than the critical density, and a gas (vapour or
-//! supercritical fluid) otherwise.
+//! temperature and pressure and denser than the critical density, and a gas
+//! (vapour or supercritical fluid) otherwise. At or above the critical
+//! pressure there is no phase boundary: a dense fluid below T_c is then
+//! accepted by the compressor and turbine as well as by the pump (whose
+//! rule is the liquid test without the pressure condition).
 //!
 //! | device | pressure | inlet accepted | refused | warning |
 //! |---|---|---|---|---|
@@ -155,7 +158,7 @@ pub fn inlet_phase(sub: &Substance, st: &State) -> InletPhase {
             Some(_) => InletPhase::Gas,
             None => {
                 let c = f.critical();
-                if st.t < c.t && st.v < 1.0 / c.rho {
+                if st.t < c.t && st.v < 1.0 / c.rho && st.p < c.p {
                     InletPhase::Liquid
                 } else {
                     InletPhase::Gas
@@ -227,6 +230,10 @@ fn outlet_words(what: &str, sub: &Substance, e: ThermoError, t_est: Option<f64>)
                 fmt_num(limit),
                 g.name()
             ))
+        }
+        // Other models: name the device, then the model's own words.
+        (_, ThermoError::OutOfRange { .. }, _) => {
+            ThermoError::OutletOutOfRange(format!("{what} leaves the model's range: {e}"))
         }
         _ => e,
     }
@@ -714,6 +721,22 @@ mod tests {
             e.to_string()
                 .starts_with("the isentropic outlet would be at about 168 K")
         );
+    }
+
+    #[test]
+    fn water_outlet_beyond_the_formulation_names_the_device() {
+        // Steam at 1000 K and 0.1 MPa compressed to 90 MPa: the isentropic
+        // outlet lies far above 1073.15 K, where IF97 stops above 50 MPa.
+        let water = Substance::water();
+        let inlet = tp(&water, 1000.0, 1e5);
+        let e = compressor(&water, &inlet, 90e6, 0.8)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.starts_with("the isentropic outlet of the compressor leaves the model's range: "),
+            "{e}"
+        );
+        assert!(e.contains("IAPWS-IF97"), "{e}");
     }
 
     #[test]

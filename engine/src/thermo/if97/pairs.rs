@@ -211,7 +211,48 @@ pub fn state_hs(h: f64, s: f64) -> Result<State> {
             .ok_or_else(|| no_convergence(what()))
     };
     let x = illinois(f, a, sa - s, b, sb - s, tol_s(s))?.ok_or_else(|| no_convergence(what()))?;
-    state_ph(x.exp().clamp(P_LO, P_MAX), h)
+    let st = state_ph(x.exp().clamp(P_LO, P_MAX), h)?;
+    Ok(on_saturation_line(h, s, &st).unwrap_or(st))
+}
+
+/// A (h, s) pair of a saturated phase is a corner of the dome, where the
+/// pressure solve ends within round-off on either side (x of 1e-12, or
+/// single-phase at T_sat). If the result is that close to the line, look
+/// for the saturated phase with this h (secant in p on h_sat(p) = h) and
+/// return it with x = 0 or 1 when its s matches too.
+fn on_saturation_line(h: f64, s: f64, st: &State) -> Option<State> {
+    if !(P_SAT_MIN..P_CRIT).contains(&st.p) {
+        return None;
+    }
+    let ts = super::t_sat(st.p).ok()?;
+    let near: Vec<f64> = match st.x {
+        Some(q) if q > 0.0 && q < 1e-6 => vec![0.0],
+        Some(q) if q < 1.0 && q > 1.0 - 1e-6 => vec![1.0],
+        None if (st.t - ts).abs() <= 1e-6 * ts => vec![0.0, 1.0],
+        _ => return None,
+    };
+    for x in near {
+        let g = |p: f64| super::state_px(p, x).map(|sat| sat.h - h);
+        let (mut p0, mut p1) = (st.p, st.p * (1.0 + 1e-6));
+        let (mut g0, mut g1) = (g(p0).ok()?, g(p1).ok()?);
+        for _ in 0..20 {
+            if g1 == g0 {
+                break;
+            }
+            let p2 = (p1 - g1 * (p1 - p0) / (g1 - g0)).clamp(P_SAT_MIN, P_CRIT);
+            (p0, g0) = (p1, g1);
+            p1 = p2;
+            g1 = g(p1).ok()?;
+            if g1.abs() <= 1e-12 * h.abs().max(1e3) {
+                break;
+            }
+        }
+        let sat = super::state_px(p1, x).ok()?;
+        if (sat.h - h).abs() <= 1e-11 * h.abs().max(1e3) && (sat.s - s).abs() <= 10.0 * tol_s(s) {
+            return Some(sat);
+        }
+    }
+    None
 }
 
 // ------------------------------------------------------------ (T, s), (T, v)

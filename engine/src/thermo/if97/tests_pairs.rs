@@ -111,6 +111,8 @@ fn pairs_against_iapws() {
                     assert!((q - x).abs() < 1e-11, "{tag}: {name} x = {q}");
                 }
                 if corner {
+                    // iapws's values are 1e-12 off ours: the saturated
+                    // liquid, or a state within 1e-9 of it.
                     assert!(a.x.is_none_or(|q| q < 1e-9), "{tag}: (h,s) x = {:?}", a.x);
                 } else {
                     let q = a.x.unwrap_or(1.0);
@@ -305,4 +307,42 @@ fn new_pair_errors() {
         Err(ThermoError::OutOfRange { .. })
     ));
     assert!(state_hs(f64::NAN, 1.0).is_err());
+}
+
+#[test]
+fn hs_of_a_saturated_phase_keeps_its_quality() {
+    // (h, s) taken from the model's own saturated liquid or vapour returns
+    // that phase with x = 0 or 1 (the corner of the dome), in regions 1/2
+    // and 3.
+    for p in [1e3, 3.5e3, 0.1e6, 1e6, 5e6, 12e6, 16e6, 18e6, 21e6] {
+        for x in [0.0, 1.0] {
+            let sat = state_px(p, x).unwrap();
+            let st = state_hs(sat.h, sat.s).unwrap();
+            assert_eq!(st.x, Some(x), "p = {p} Pa, x = {x}: {st:?}");
+            assert!((st.p - p).abs() <= 1e-8 * p, "p = {p}: {}", st.p);
+        }
+    }
+}
+
+#[test]
+fn ph_at_the_edge_of_the_region3_dome() {
+    // Within 1e-4 of the saturated value at 17 to 22 MPa, (p, h) and (p, s)
+    // give a state on the right side of the dome (the saturated phase in
+    // the sliver between the region-4 line and the region-3 equilibrium,
+    // 2e-4 wide at most), never a convergence failure or the other phase.
+    for p in [17e6, 18e6, 20e6, 21e6, 22e6] {
+        for x in [0.0, 1.0] {
+            let sat = state_px(p, x).unwrap();
+            for e in [
+                -1e-4, -1e-6, -1e-8, -1e-10, -1e-12, 0.0, 1e-12, 1e-10, 1e-8, 1e-6, 1e-4,
+            ] {
+                let st = state_ph(p, sat.h * (1.0 + e)).unwrap();
+                assert!((st.h / sat.h - 1.0 - e).abs() <= 2e-4, "{p} {x} {e}");
+                let vapour_side = st.v > 1.0 / RHO_CRIT;
+                assert_eq!(vapour_side, x == 1.0, "{p} {x} {e}: {st:?}");
+                let st = state_ps(p, sat.s * (1.0 + e)).unwrap();
+                assert!((st.s / sat.s - 1.0 - e).abs() <= 2e-4, "{p} {x} {e}");
+            }
+        }
+    }
 }
