@@ -42,7 +42,9 @@ fn peak_of<T>(f: impl FnOnce() -> T) -> (T, usize) {
     let base = NOW.load(Ordering::Relaxed);
     PEAK.store(base, Ordering::Relaxed);
     let out = f();
-    (out, PEAK.load(Ordering::Relaxed).saturating_sub(base))
+    let peak = PEAK.load(Ordering::Relaxed).saturating_sub(base);
+    eprintln!("peak while reading: {:.1} MiB", peak as f64 / MIB as f64);
+    (out, peak)
 }
 
 const MIB: usize = 1 << 20;
