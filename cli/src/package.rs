@@ -77,7 +77,12 @@ pub fn cmd_xlsx(file: &Path, out: Option<&Path>, sets: &[String]) -> u8 {
     };
     match crate::files::write_file(&out, &bytes) {
         Ok(()) => {
-            outln!("wrote {}", out.display());
+            if std::fs::metadata(&out).is_ok_and(|m| m.is_file()) {
+                outln!("wrote {}", out.display());
+            } else {
+                // `-o /dev/stdout`: keep the workbook's stream clean.
+                eprintln!("wrote {}", out.display());
+            }
             0
         }
         Err(e) => {
