@@ -87,12 +87,22 @@ fn link_count(_: &fs::Metadata) -> u64 {
 pub fn write_file(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
     // Follow a symbolic link to its final target.
     let target = match fs::symlink_metadata(path) {
-        Ok(m) if m.file_type().is_symlink() => fs::canonicalize(path).map_err(|_| {
-            werr(
-                path,
-                "it is a symbolic link to a file that does not exist (not followed)",
-            )
-        })?,
+        Ok(m) if m.file_type().is_symlink() => match fs::canonicalize(path) {
+            Ok(t) => t,
+            // `/dev/stdout` -> `/proc/self/fd/1` -> `pipe:[...]`: no path,
+            // but the kernel follows it to a pipe or terminal.
+            Err(_) => match fs::metadata(path) {
+                Ok(meta) if !meta.is_file() && !meta.is_dir() => {
+                    return write_into(path, path, &meta, bytes);
+                }
+                _ => {
+                    return Err(werr(
+                        path,
+                        "it is a symbolic link to a file that does not exist (not followed)",
+                    ));
+                }
+            },
+        },
         Ok(_) => path.to_path_buf(),
         Err(e) if e.kind() == io::ErrorKind::NotFound => {
             return replace(path, bytes, None);
@@ -105,18 +115,7 @@ pub fn write_file(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
         return Err(werr(path, "it is a folder"));
     }
     if !ft.is_file() {
-        if is_socket(&meta) {
-            return Err(werr(path, "it is a socket"));
-        }
-        // A device, FIFO or terminal: write into it, never replace it.
-        let mut f = OpenOptions::new()
-            .write(true)
-            .open(&target)
-            .map_err(|e| werr(path, e.to_string()))?;
-        return f
-            .write_all(bytes)
-            .and_then(|()| f.flush())
-            .map_err(|e| werr(path, e.to_string()));
+        return write_into(path, &target, &meta, bytes);
     }
     if meta.permissions().readonly() {
         return Err(werr(path, "the file is read-only (not replaced)"));
@@ -139,6 +138,25 @@ pub fn write_file(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
         ));
     }
     replace(&target, bytes, Some(meta.permissions()))
+}
+
+/// A device, FIFO or terminal: write into it, never replace it.
+fn write_into(
+    path: &Path,
+    target: &Path,
+    meta: &fs::Metadata,
+    bytes: &[u8],
+) -> Result<(), WriteError> {
+    if is_socket(meta) {
+        return Err(werr(path, "it is a socket"));
+    }
+    let mut f = OpenOptions::new()
+        .write(true)
+        .open(target)
+        .map_err(|e| werr(path, e.to_string()))?;
+    f.write_all(bytes)
+        .and_then(|()| f.flush())
+        .map_err(|e| werr(path, e.to_string()))
 }
 
 #[cfg(unix)]

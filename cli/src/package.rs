@@ -77,7 +77,12 @@ pub fn cmd_xlsx(file: &Path, out: Option<&Path>, sets: &[String]) -> u8 {
     };
     match crate::files::write_file(&out, &bytes) {
         Ok(()) => {
-            outln!("wrote {}", out.display());
+            if std::fs::metadata(&out).is_ok_and(|m| m.is_file()) {
+                outln!("wrote {}", out.display());
+            } else {
+                // `-o /dev/stdout`: keep the workbook's stream clean.
+                eprintln!("wrote {}", out.display());
+            }
             0
         }
         Err(e) => {
@@ -94,10 +99,17 @@ pub fn cmd_pull(file: &Path, from: &Path, write: bool, force: bool) -> u8 {
     };
     let src = model.source().to_string();
     model.evaluate();
-    let reviewed = match xlsx::read_inputs(from) {
+    let bytes = match std::fs::read(from) {
+        Ok(b) => b,
+        Err(e) => {
+            eprintln!("error: cannot read {}: {e}", from.display());
+            return EXIT_USAGE;
+        }
+    };
+    let reviewed = match xlsx::read_inputs(&bytes) {
         Ok(r) => r,
         Err(e) => {
-            eprintln!("error: {e}");
+            eprintln!("error: {}: {e}", from.display());
             return EXIT_USAGE;
         }
     };
@@ -137,10 +149,10 @@ pub fn cmd_pull(file: &Path, from: &Path, write: bool, force: bool) -> u8 {
     }
     outln!("inputs changed in {}:", from.display());
     for c in &changes {
-        let note = if c.literal.is_none() {
-            "  (not a plain number in the worksheet: edit it by hand)"
-        } else {
-            ""
+        let note = match (&c.note, c.literal) {
+            (Some(n), _) => format!("  ({n})"),
+            (None, None) => "  (not a plain number in the worksheet: edit it by hand)".to_string(),
+            (None, Some(_)) => String::new(),
         };
         outln!(
             "  {:<16} {} -> {} {}{note}",

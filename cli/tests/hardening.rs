@@ -260,3 +260,22 @@ fn terminal_escapes_and_html_are_neutralised() {
     );
     assert!(!md.contains('\u{1b}') && !md.contains('\r'), "{md:?}");
 }
+
+#[test]
+fn xlsx_to_stdout_is_only_the_workbook() {
+    let d = tempfile::tempdir().unwrap();
+    let p = d.path();
+    fs::write(p.join("ws.sheaf"), WS).unwrap();
+    let o = Command::new(env!("CARGO_BIN_EXE_sheaf"))
+        .current_dir(p)
+        .args(["xlsx", "ws.sheaf", "-o", "/dev/stdout"])
+        .stdout(Stdio::piped())
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    assert!(o.stdout.starts_with(b"PK"), "a zip on stdout");
+    assert!(
+        !stdout(&o).contains("wrote "),
+        "no message mixed into the workbook"
+    );
+}

@@ -174,6 +174,7 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
     // 2. Dependencies (by name), unknown names.
     let mut all_deps: Vec<Vec<usize>> = Vec::with_capacity(nodes.len());
     let mut refs = Vec::new();
+    let suggester = name_suggester(&names);
     for (value, _) in &exprs {
         refs.clear();
         collect_names(value, &mut refs);
@@ -184,7 +185,7 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
                     deps.push(j);
                 }
             } else if builtins::constant(name).is_none() {
-                diags.push(unknown_name(name, span, &names));
+                diags.push(unknown_name(name, span, &suggester));
             }
         }
         all_deps.push(deps);
@@ -300,14 +301,20 @@ fn collect_names<'a>(e: &'a Expr, out: &mut Vec<(&'a str, Span)>) {
 
 use crate::suggest::closest;
 
-fn unknown_name(name: &str, span: Span, names: &HashMap<String, usize>) -> Diagnostic {
-    let cands = names
-        .keys()
-        .map(String::as_str)
-        .chain(builtins::CONSTANTS.iter().map(|c| c.name));
+/// Suggestions among a worksheet's names and the built-in constants.
+fn name_suggester(names: &HashMap<String, usize>) -> crate::suggest::Suggester<'_> {
+    crate::suggest::Suggester::new(
+        names
+            .keys()
+            .map(String::as_str)
+            .chain(builtins::CONSTANTS.iter().map(|c| c.name)),
+    )
+}
+
+fn unknown_name(name: &str, span: Span, names: &crate::suggest::Suggester) -> Diagnostic {
     let d = Diagnostic::error(format!("unknown name `{name}`"), span)
         .with_label("not defined in this worksheet");
-    match closest(name, cands) {
+    match names.closest(name) {
         Some(s) => d.with_note(format!("help: did you mean `{s}`?")),
         None => d.with_note("help: define it with `input` or `NAME = ...`"),
     }
@@ -1400,7 +1407,7 @@ pub fn check_standalone(e: &Expr, src: &str) -> Result<(Ty, Code), Vec<Diagnosti
     let mut diags: Vec<Diagnostic> = refs
         .iter()
         .filter(|(n, _)| builtins::constant(n).is_none())
-        .map(|(n, s)| unknown_name(n, *s, &names))
+        .map(|(n, s)| unknown_name(n, *s, &name_suggester(&names)))
         .collect();
     let mut cx = Cx {
         src,

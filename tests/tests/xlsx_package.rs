@@ -146,7 +146,7 @@ fn pull_round_trip_equals_editing_the_text() {
         let edited = dir.join("reviewed.xlsx");
         // Sheets: Cover (1), Calculation (2), Data (3).
         edit_number(&out, &edited, 1, &cell, new_display);
-        let reviewed = read_inputs(&edited).unwrap();
+        let reviewed = read_inputs(&std::fs::read(&edited).unwrap()).unwrap();
         assert_eq!(
             reviewed.source_sha256.as_deref(),
             Some(sheaf_engine::xlsx::sha256_hex(src.as_bytes()).as_str())
@@ -209,4 +209,48 @@ fn cell_values_come_from_the_caller_before_checking() {
     assert!(Model::new("input y = cell(\"a.xlsx\", \"A1\")\n").is_err());
     // Typing: the arguments must be string literals.
     assert!(Model::new("input y = cell(2, \"A1\")\n").is_err());
+}
+
+/// A reviewer who changes an input's Unit cell (barg -> psig) gets the
+/// number converted into the worksheet's unit, and is told so.
+#[test]
+fn pull_reads_the_unit_column() {
+    use std::io::{Read, Write};
+    let dir = tmp_dir("xlsx-pull-unit");
+    let path = root().join("worksheets/air_receiver.sheaf");
+    let (src, m) = load(&path);
+    let out = dir.join("pkg.xlsx");
+    write(&path, &src, &m, &out);
+    // Every "barg" text in the package becomes "psig" (shared strings).
+    let mut zin = zip::ZipArchive::new(std::fs::File::open(&out).unwrap()).unwrap();
+    let mut zout = zip::ZipWriter::new(std::io::Cursor::new(Vec::new()));
+    let mut edited = false;
+    for k in 0..zin.len() {
+        let mut e = zin.by_index(k).unwrap();
+        let name = e.name().unwrap().to_string();
+        let mut buf = Vec::new();
+        e.read_to_end(&mut buf).unwrap();
+        if name == "xl/sharedStrings.xml" {
+            let xml = String::from_utf8(buf).unwrap();
+            edited = xml.contains(">barg<");
+            buf = xml.replace(">barg<", ">psig<").into_bytes();
+        }
+        zout.start_file(name, zip::write::SimpleFileOptions::default())
+            .unwrap();
+        zout.write_all(&buf).unwrap();
+    }
+    assert!(edited, "the package has a barg unit cell");
+    let bytes = zout.finish().unwrap().into_inner();
+    let reviewed = read_inputs(&bytes).unwrap();
+    let changes = pull_changes(&m, &reviewed);
+    let c = changes
+        .iter()
+        .find(|c| c.name == "p_high")
+        .expect("p_high changed");
+    // 8.5 psig = 8.5 x 6894.757 Pa (NIST SP 811 B.8) above 1 atm
+    // = 0.586 054 bar above 1 atm.
+    assert!((c.new - 0.586_054).abs() < 1e-5, "{}", c.new);
+    assert_eq!(c.unit, "barg");
+    assert!(c.note.as_deref().unwrap_or("").contains("psig"), "{c:?}");
+    assert!(c.literal.is_some());
 }

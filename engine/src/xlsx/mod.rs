@@ -1,5 +1,5 @@
 //! The xlsx calculation package: writer (rust_xlsxwriter), formula
-//! compiler, reader (calamine) for `cell()` and `pull`, and the rewriting
+//! compiler, reader (bounded, from bytes) for `cell()` and `pull`, and the rewriting
 //! of input literals for `pull --write`.
 //!
 //! Layout, name scheme and what is live are described in DEVELOPERS.md
@@ -19,7 +19,7 @@ use crate::check::{DisplayUnit, NodeKind};
 use crate::model::Model;
 use crate::types::Ty;
 
-pub use reader::{Reviewed, ReviewedInput, read_inputs};
+pub use reader::{CellError, Limits, Reviewed, ReviewedInput, read_cells, read_inputs};
 pub use writer::write_package;
 
 /// Defined names of the package information cells (data sheet).
@@ -27,19 +27,19 @@ pub const NAME_SHA: &str = "sheaf_source_sha256";
 pub const NAME_SOURCE: &str = "sheaf_source_name";
 pub const NAME_VERSION: &str = "sheaf_version";
 
-/// Errors of writing or reading workbooks, worded for the user.
+/// Errors of writing or reading workbooks, worded for the user (the CLI
+/// names the file).
 #[derive(Debug, thiserror::Error)]
 pub enum XlsxError {
     #[error("cannot write {path}: {message}")]
     Write { path: String, message: String },
-    #[error("cannot read workbook {path}: {message}")]
-    Read { path: String, message: String },
-    #[error("workbook {book}, cell {cell}: {message}")]
-    Cell {
-        book: String,
-        cell: String,
-        message: String,
-    },
+    /// The workbook as a whole cannot be read (not an xlsx, or beyond the
+    /// reading limits).
+    #[error("{0}")]
+    Book(String),
+    /// A cell or defined name the reader was asked for.
+    #[error("cell {cell}: {message}")]
+    Cell { cell: String, message: String },
 }
 
 impl From<XlsxError> for String {
@@ -48,11 +48,21 @@ impl From<XlsxError> for String {
     }
 }
 
-pub use reader::read_cell as read_cell_checked;
-
 /// The number in a workbook cell, for the `cell` built-in (error as text).
+///
+/// Transitional: the built-in still opens its workbook here; once the CLI
+/// reads `cell()` workbooks (with `read_confined`) and hands the values to
+/// the model, this function and its file read go away.
 pub fn read_cell(path: &Path, reference: &str) -> Result<f64, String> {
-    reader::read_cell(path, reference).map_err(|e| e.to_string())
+    let shown = path.display();
+    let bytes = std::fs::read(path).map_err(|_| format!("cannot read workbook {shown}"))?;
+    let mut results =
+        read_cells(&bytes, &[reference]).map_err(|e| format!("workbook {shown}: {e}"))?;
+    match results.pop() {
+        Some(Ok(x)) => Ok(x),
+        Some(Err(e)) => Err(format!("workbook {shown}, {e}")),
+        None => Err(format!("workbook {shown}: nothing read")),
+    }
 }
 
 /// What the cover and data sheet say about the package.
@@ -185,8 +195,26 @@ pub struct Change {
     /// Where the reviewer changed it (`Calculation!C8`).
     pub cell: String,
     /// The literal to rewrite; `None` when the input is not a plain
-    /// literal (then it cannot be written back).
+    /// literal, or its new value is in doubt (then it is not written back).
     pub literal: Option<Span>,
+    /// Said to the user: a unit the reviewer changed (converted, or why it
+    /// could not be).
+    pub note: Option<String>,
+}
+
+/// A unit a reviewer typed, if it is one of the input's dimension.
+fn reviewer_unit(text: &str, dim: crate::units::Dim) -> Result<crate::units::Unit, String> {
+    let parsed =
+        sheaf_grammar::parse_unit(text).map_err(|_| "not a unit sheaf knows".to_string())?;
+    let unit = crate::units::resolve(&parsed).map_err(|e| e.message)?;
+    if unit.dim != dim {
+        return Err(format!(
+            "it is {}, the input is {}",
+            crate::units::quantity_name(unit.dim),
+            crate::units::quantity_name(dim)
+        ));
+    }
+    Ok(unit)
 }
 
 /// Inputs whose reviewed value differs from the model's (inputs unknown
@@ -200,17 +228,55 @@ pub fn pull_changes(model: &Model, reviewed: &Reviewed) -> Vec<Change> {
         let Some((sh, literal)) = input_shown(model, i) else {
             continue;
         };
-        if r.value == sh.value {
+        let Ty::Num(q) = model.nodes()[i].ty else {
+            continue;
+        };
+        // The Unit cell beside the value: a reviewer may have changed it.
+        let changed_unit = r
+            .unit
+            .as_deref()
+            .filter(|u| crate::check::normalise_unit_text(u) != sh.unit);
+        let (new, note, literal) = match changed_unit {
+            None => (r.value, None, literal),
+            Some(u) => match reviewer_unit(u, q.dim) {
+                Ok(unit) => {
+                    let new = (unit.to_si(r.value) - sh.offset) / sh.factor;
+                    let note = format!(
+                        "the reviewer wrote {} {u}; converted to {}",
+                        literal_text(r.value),
+                        sh.unit
+                    );
+                    if new.is_finite() {
+                        (new, Some(note), literal)
+                    } else {
+                        (
+                            r.value,
+                            Some(format!("{note}: not a finite number; not written")),
+                            None,
+                        )
+                    }
+                }
+                Err(why) => (
+                    r.value,
+                    Some(format!(
+                        "the reviewer changed the unit to `{u}` ({why}); not written: edit it by hand"
+                    )),
+                    None,
+                ),
+            },
+        };
+        if new == sh.value && note.is_none() {
             continue;
         }
         out.push(Change {
             name: r.name.clone(),
             old: sh.value,
-            new: r.value,
+            new,
             unit: sh.unit.clone(),
-            new_si: r.value * sh.factor + sh.offset,
+            new_si: new * sh.factor + sh.offset,
             cell: r.cell.clone(),
             literal,
+            note,
         });
     }
     out
@@ -267,16 +333,19 @@ mod tests {
                     name: "p".into(),
                     value: 9.25,
                     cell: "C1".into(),
+                    unit: None,
                 },
                 ReviewedInput {
                     name: "q".into(),
                     value: 2.0,
                     cell: "C2".into(),
+                    unit: None,
                 },
                 ReviewedInput {
                     name: "n".into(),
                     value: 4.0,
                     cell: "C3".into(),
+                    unit: None,
                 },
             ],
         };
@@ -309,8 +378,48 @@ mod tests {
             new_si: 7.0,
             cell: "C1".into(),
             literal: None,
+            note: None,
         };
         assert_eq!(rewrite_inputs(src, &[ch]), src);
+    }
+
+    #[test]
+    fn a_changed_unit_is_converted_or_refused() {
+        let src = "input p = 120 barg\ninput L = 2 m\n";
+        let mut m = Model::new(src).unwrap();
+        m.evaluate();
+        let input = |name: &str, value: f64, unit: &str| ReviewedInput {
+            name: name.into(),
+            value,
+            cell: "C1".into(),
+            unit: Some(unit.into()),
+        };
+        let reviewed = Reviewed {
+            source_name: None,
+            source_sha256: None,
+            tool_version: None,
+            inputs: vec![input("p", 120.0, "psig"), input("L", 2.0, "kg")],
+        };
+        let ch = pull_changes(&m, &reviewed);
+        assert_eq!(ch.len(), 2, "{ch:?}");
+        // 120 psig = 120 x 6894.757 Pa (NIST SP 811 B.8) above 1 atm =
+        // 8.273708 bar above 1 atm: written as barg, and said so.
+        assert!((ch[0].new - 8.273_708).abs() < 1e-5, "{}", ch[0].new);
+        assert!(ch[0].literal.is_some());
+        assert!(ch[0].note.as_deref().unwrap().contains("psig"));
+        // A unit of another quantity: not written.
+        assert_eq!(ch[1].literal, None);
+        assert!(
+            ch[1].note.as_deref().unwrap().contains("not written"),
+            "{:?}",
+            ch[1].note
+        );
+        // The same unit: no change at all.
+        let same = Reviewed {
+            inputs: vec![input("p", 120.0, "barg")],
+            ..reviewed
+        };
+        assert!(pull_changes(&m, &same).is_empty());
     }
 
     #[test]

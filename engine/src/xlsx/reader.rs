@@ -1,19 +1,30 @@
-//! Reading workbooks (calamine): single cells for the `cell` built-in and
-//! the input cells of a reviewed package for `pull`. Cells are streamed
-//! sheet by sheet, so memory stays bounded on a large workbook.
+//! Reading workbooks from their bytes (the CLI reads the file): cells for
+//! the `cell` built-in and the input cells of a reviewed package for
+//! `pull`.
+//!
+//! A workbook may come from anyone, so reading is bounded: at most
+//! [`Limits::parts`] zip entries; each part is inflated through a counter
+//! that stops at [`Limits::part_bytes`] (the sizes a zip declares are not
+//! trusted); no single tag or text run may exceed [`Limits::run_bytes`]
+//! (that bounds what the XML parser buffers); a sheet is read only up to
+//! the last row asked for; the shared-string table is read only when a
+//! requested cell holds a shared string, and only those strings are kept.
+//! Messages never echo a cell's text (only its length) nor list sheets.
 
-use std::collections::HashMap;
-use std::fs::File;
-use std::io::BufReader;
-use std::path::Path;
+use std::cell::Cell;
+use std::collections::{BTreeMap, HashMap, HashSet};
+use std::io::{BufReader, Cursor, Read};
+use std::rc::Rc;
 
-use calamine::{DataRef, Reader, Xlsx, open_workbook};
+use quick_xml::Reader;
+use quick_xml::events::{BytesStart, Event};
+use zip::ZipArchive;
 
 use super::XlsxError;
 use super::names::{self, NameKind};
 
 /// A cell position: sheet, 0-based row and column.
-#[derive(Clone, Debug, PartialEq, Eq, Hash)]
+#[derive(Clone, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub struct CellPos {
     pub sheet: String,
     pub row: u32,
@@ -52,7 +63,7 @@ pub fn parse_a1(s: &str) -> Option<(u32, u32)> {
         return None;
     }
     let (l, d) = s.split_at(letters);
-    if d.is_empty() || !d.chars().all(|c| c.is_ascii_digit()) {
+    if d.is_empty() || d.len() > 7 || !d.chars().all(|c| c.is_ascii_digit()) {
         return None;
     }
     let mut col: u32 = 0;
@@ -78,163 +89,844 @@ pub fn parse_sheet_ref(s: &str) -> Option<CellPos> {
     Some(CellPos { sheet, row, col })
 }
 
+/// Bounds on what reading a workbook inflates and holds.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Limits {
+    /// Most zip entries.
+    pub parts: usize,
+    /// Most bytes inflated from one part.
+    pub part_bytes: u64,
+    /// Longest tag or text run (what the XML parser buffers at once).
+    pub run_bytes: u64,
+}
+
+/// The limits used by [`read_cells`] and [`read_inputs`].
+pub const LIMITS: Limits = Limits {
+    parts: 10_000,
+    part_bytes: 256 << 20,
+    run_bytes: 4 << 20,
+};
+
+/// Longest text kept of a cell (its length is always counted).
+const TEXT_KEPT: usize = 1024;
+
+/// A requested cell that has no usable number.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CellError {
+    /// The reference as asked (`Calc!C7`, or a defined name and its cell).
+    pub cell: String,
+    pub message: String,
+}
+
+impl std::fmt::Display for CellError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "cell {}: {}", self.cell, self.message)
+    }
+}
+
 /// A cell's content, as far as sheaf cares.
 #[derive(Clone, Debug, PartialEq)]
-pub enum CellValue {
+enum Raw {
     Number(f64),
-    Text(String),
+    /// Text: its length in characters and its first [`TEXT_KEPT`] bytes.
+    Text(usize, String),
+    Shared(usize),
     Bool(bool),
     Error(String),
+    /// The stored result of a formula (it may be stale).
+    Computed(f64),
+    /// A number shown as a date or time.
+    Date,
+    /// A formula whose result was never calculated.
+    FormulaNoValue,
     Empty,
 }
 
-fn value_of(d: &DataRef) -> CellValue {
-    match d {
-        DataRef::Int(i) => CellValue::Number(*i as f64),
-        DataRef::Float(x) => CellValue::Number(*x),
-        DataRef::String(s) => CellValue::Text(s.clone()),
-        DataRef::SharedString(s) => CellValue::Text((*s).to_string()),
-        DataRef::Bool(b) => CellValue::Bool(*b),
-        DataRef::DateTime(dt) => CellValue::Number(dt.as_f64()),
-        DataRef::DateTimeIso(s) | DataRef::DurationIso(s) => CellValue::Text(s.clone()),
-        DataRef::Error(e) => CellValue::Error(e.to_string()),
-        DataRef::Empty => CellValue::Empty,
+/// A number, or why not.
+fn number(raw: &Raw) -> Result<f64, String> {
+    match raw {
+        Raw::Number(x) | Raw::Computed(x) if x.is_finite() => Ok(*x),
+        Raw::Number(_) | Raw::Computed(_) => {
+            Err("the cell holds a number that is not finite".into())
+        }
+        Raw::Text(n, _) => Err(format!(
+            "the cell holds text ({n} character{}), not a number",
+            if *n == 1 { "" } else { "s" }
+        )),
+        Raw::Shared(_) => Err("the cell holds text, not a number".into()),
+        Raw::Bool(b) => Err(format!(
+            "the cell holds {}, not a number",
+            if *b { "TRUE" } else { "FALSE" }
+        )),
+        Raw::Error(e) => Err(format!("the cell holds the error {e}")),
+        Raw::Date => Err(
+            "the cell holds a date or time, not a number (format it as a number in the workbook)"
+                .into(),
+        ),
+        Raw::FormulaNoValue => Err(
+            "the cell holds a formula that was never calculated (no stored result); \
+             open and save the workbook in a spreadsheet program, or type the number"
+                .into(),
+        ),
+        Raw::Empty => Err("the cell is empty".into()),
     }
 }
 
-/// An open workbook.
-pub struct Book {
-    path: String,
-    wb: Xlsx<BufReader<File>>,
+// ------------------------------------------------------------------ zip
+
+/// Shared note of why a bounded reader stopped.
+type Tripped = Rc<Cell<Option<&'static str>>>;
+
+/// Counts inflated bytes and the length of the current run between `<`
+/// and `>`; fails past the limits.
+struct Bounded<R> {
+    inner: R,
+    total: u64,
+    run: u64,
+    limits: Limits,
+    tripped: Tripped,
 }
 
-impl Book {
-    pub fn open(path: &Path) -> Result<Book, XlsxError> {
-        let shown = path.display().to_string();
-        if !path.exists() {
-            return Err(XlsxError::Read {
-                path: shown,
-                message: "no such file".into(),
-            });
+impl<R: Read> Read for Bounded<R> {
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        let n = self.inner.read(buf)?;
+        self.total += n as u64;
+        if self.total > self.limits.part_bytes {
+            self.tripped.set(Some("part"));
+            return Err(std::io::Error::other("part too large"));
         }
-        let wb: Xlsx<_> = open_workbook(path).map_err(|e| XlsxError::Read {
-            path: shown.clone(),
-            message: format!("not a readable xlsx workbook ({e})"),
-        })?;
-        Ok(Book { path: shown, wb })
-    }
-
-    pub fn path(&self) -> &str {
-        &self.path
-    }
-
-    /// Workbook defined names: (name, refers-to text).
-    pub fn defined_names(&self) -> &[(String, String)] {
-        self.wb.defined_names()
-    }
-
-    /// The cell a defined name refers to (case-insensitive lookup).
-    pub fn resolve_name(&self, name: &str) -> Result<CellPos, XlsxError> {
-        let target = self
-            .defined_names()
-            .iter()
-            .find(|(n, _)| n.eq_ignore_ascii_case(name))
-            .map(|(_, t)| t.clone())
-            .ok_or_else(|| XlsxError::Cell {
-                book: self.path.clone(),
-                cell: name.to_string(),
-                message: "there is no defined name or `Sheet!C7` reference of that text".into(),
-            })?;
-        parse_sheet_ref(&target).ok_or_else(|| XlsxError::Cell {
-            book: self.path.clone(),
-            cell: name.to_string(),
-            message: format!("the name refers to `{target}`, not to a single cell"),
-        })
-    }
-
-    /// Read the given cells (streaming each sheet once). Cells not found
-    /// are `Empty`.
-    pub fn read(&mut self, wanted: &[CellPos]) -> Result<HashMap<CellPos, CellValue>, XlsxError> {
-        let mut out = HashMap::new();
-        let sheets = self.wb.sheet_names();
-        let mut by_sheet: HashMap<&str, Vec<&CellPos>> = HashMap::new();
-        for w in wanted {
-            by_sheet.entry(w.sheet.as_str()).or_default().push(w);
-        }
-        for (sheet, cells) in by_sheet {
-            let Some(real) = sheets.iter().find(|s| s.eq_ignore_ascii_case(sheet)) else {
-                return Err(XlsxError::Cell {
-                    book: self.path.clone(),
-                    cell: cells[0].a1(),
-                    message: format!(
-                        "the workbook has no sheet `{sheet}`; its sheets are: {}",
-                        sheets.join(", ")
-                    ),
-                });
-            };
-            let max_row = cells.iter().map(|c| c.row).max().unwrap_or(0);
-            let mut reader = self
-                .wb
-                .worksheet_cells_reader(real)
-                .map_err(|e| XlsxError::Read {
-                    path: self.path.clone(),
-                    message: format!("cannot read sheet `{real}` ({e})"),
-                })?;
-            let mut found = 0;
-            loop {
-                let cell = reader.next_cell().map_err(|e| XlsxError::Read {
-                    path: self.path.clone(),
-                    message: format!("cannot read sheet `{sheet}` ({e})"),
-                })?;
-                let Some(cell) = cell else { break };
-                let (r, c) = cell.get_position();
-                if r > max_row {
-                    break;
-                }
-                if let Some(w) = cells.iter().find(|w| w.row == r && w.col == c) {
-                    out.insert((*w).clone(), value_of(cell.get_value()));
-                    found += 1;
-                    if found == cells.len() {
-                        break;
+        let chunk = &buf[..n];
+        match chunk.iter().rposition(|&b| b == b'<' || b == b'>') {
+            Some(i) => {
+                // The longest run inside this chunk, then the open tail.
+                let mut last = None::<usize>;
+                for (j, &b) in chunk[..=i].iter().enumerate() {
+                    if b == b'<' || b == b'>' {
+                        let len = match last {
+                            Some(l) => (j - l) as u64,
+                            None => self.run + j as u64,
+                        };
+                        if len > self.limits.run_bytes {
+                            self.tripped.set(Some("run"));
+                            return Err(std::io::Error::other("run too long"));
+                        }
+                        last = Some(j);
                     }
                 }
+                self.run = (n - 1 - i) as u64;
             }
+            None => self.run += n as u64,
         }
-        for w in wanted {
-            out.entry(w.clone()).or_insert(CellValue::Empty);
+        if self.run > self.limits.run_bytes {
+            self.tripped.set(Some("run"));
+            return Err(std::io::Error::other("run too long"));
         }
-        Ok(out)
+        Ok(n)
     }
 }
 
-/// The number in a workbook cell (`Sheet!C7`) or defined name, for the
-/// `cell` built-in. Errors name the workbook and the cell.
-pub fn read_cell(path: &Path, reference: &str) -> Result<f64, XlsxError> {
-    let mut book = Book::open(path)?;
-    let pos = match parse_sheet_ref(reference) {
-        Some(p) => p,
-        None => book.resolve_name(reference)?,
-    };
-    let vals = book.read(std::slice::from_ref(&pos))?;
-    let cell = if parse_sheet_ref(reference).is_some() {
-        pos.a1()
-    } else {
-        format!("{reference} ({})", pos.a1())
-    };
-    let err = |message: String| XlsxError::Cell {
-        book: book.path().to_string(),
-        cell: cell.clone(),
-        message,
-    };
-    match vals.get(&pos) {
-        Some(CellValue::Number(x)) if x.is_finite() => Ok(*x),
-        Some(CellValue::Text(t)) => {
-            Err(err(format!("the cell holds text (\"{t}\"), not a number")))
+struct Package<'a> {
+    zip: ZipArchive<Cursor<&'a [u8]>>,
+    limits: Limits,
+}
+
+fn book_err(message: impl Into<String>) -> XlsxError {
+    XlsxError::Book(message.into())
+}
+
+impl<'a> Package<'a> {
+    fn open(bytes: &'a [u8], limits: Limits) -> Result<Package<'a>, XlsxError> {
+        let zip = ZipArchive::new(Cursor::new(bytes))
+            .map_err(|_| book_err("not a readable xlsx workbook (not a zip archive)"))?;
+        if zip.len() > limits.parts {
+            return Err(book_err(format!(
+                "not read: the workbook has more than {} parts",
+                limits.parts
+            )));
         }
-        Some(CellValue::Bool(b)) => Err(err(format!("the cell holds {b}, not a number"))),
-        Some(CellValue::Error(e)) => Err(err(format!("the cell holds the error {e}"))),
-        _ => Err(err("the cell is empty".into())),
+        Ok(Package { zip, limits })
     }
+
+    /// Stream the XML of part `name` through `f`. `Ok(false)` when the
+    /// part does not exist.
+    fn with_part<T>(
+        &mut self,
+        name: &str,
+        f: impl FnOnce(
+            &mut Reader<BufReader<Bounded<zip::read::ZipFile<'_, Cursor<&'a [u8]>>>>>,
+        ) -> Result<T, quick_xml::Error>,
+    ) -> Result<Option<T>, XlsxError> {
+        let limits = self.limits;
+        let file = match self.zip.by_name(name) {
+            Ok(f) => f,
+            Err(zip::result::ZipError::FileNotFound) => return Ok(None),
+            Err(_) => {
+                return Err(book_err(format!(
+                    "not a readable xlsx workbook (part `{name}` cannot be read)"
+                )));
+            }
+        };
+        let tripped: Tripped = Rc::new(Cell::new(None));
+        let bounded = Bounded {
+            inner: file,
+            total: 0,
+            run: 0,
+            limits,
+            tripped: tripped.clone(),
+        };
+        let mut reader = Reader::from_reader(BufReader::with_capacity(64 << 10, bounded));
+        let result = f(&mut reader);
+        match (result, tripped.get()) {
+            (Ok(v), _) => Ok(Some(v)),
+            (Err(_), Some("part")) => Err(book_err(format!(
+                "not read: part `{name}` inflates to more than {} MiB (a compressed bomb?)",
+                limits.part_bytes >> 20
+            ))),
+            (Err(_), Some(_)) => Err(book_err(format!(
+                "not read: part `{name}` has a tag or text longer than {} MiB",
+                limits.run_bytes >> 20
+            ))),
+            (Err(e), None) => Err(book_err(format!(
+                "not a readable xlsx workbook (part `{name}`: {})",
+                short_xml_error(&e)
+            ))),
+        }
+    }
+}
+
+fn short_xml_error(e: &quick_xml::Error) -> String {
+    match e {
+        quick_xml::Error::Io(_) => "damaged compressed data".into(),
+        _ => "malformed XML".into(),
+    }
+}
+
+fn local(name: &str) -> &str {
+    name.rsplit_once(':').map_or(name, |(_, l)| l)
+}
+
+fn attr(e: &BytesStart, key: &str) -> Option<String> {
+    e.attributes()
+        .flatten()
+        .find(|a| local(a.key.as_ref()) == key)
+        .and_then(|a| {
+            a.normalized_value(quick_xml::XmlVersion::Implicit1_0)
+                .ok()
+                .map(|v| v.into_owned())
+        })
+}
+
+/// Append the text of a text or entity event to `out` (kept up to
+/// `TEXT_KEPT` bytes; `len` counts every character).
+fn push_text(ev: &Event, out: &mut String, len: &mut usize) {
+    let mut add = |s: &str| {
+        *len += s.chars().count();
+        for c in s.chars() {
+            if out.len() + c.len_utf8() > TEXT_KEPT {
+                break;
+            }
+            out.push(c);
+        }
+    };
+    match ev {
+        Event::Text(t) => add(&t.xml10_content()),
+        Event::CData(t) => add(&t.xml10_content()),
+        Event::GeneralRef(r) => {
+            if let Ok(Some(c)) = r.resolve_char_ref() {
+                add(c.encode_utf8(&mut [0; 4]));
+            } else {
+                let s = match &*r.xml10_content() {
+                    "amp" => "&",
+                    "lt" => "<",
+                    "gt" => ">",
+                    "quot" => "\"",
+                    "apos" => "'",
+                    _ => "",
+                };
+                add(s);
+            }
+        }
+        _ => {}
+    }
+}
+
+// ------------------------------------------------------------- workbook
+
+/// A defined name: its text, the sheet it is scoped to, what it refers to.
+#[derive(Clone, Debug)]
+struct DefinedName {
+    name: String,
+    local_sheet: Option<usize>,
+    target: String,
+}
+
+struct Workbook {
+    /// (sheet name, part path), in workbook order.
+    sheets: Vec<(String, String)>,
+    names: Vec<DefinedName>,
+    /// Whether each cell style (`s` index) shows a date or time.
+    date_styles: Vec<bool>,
+}
+
+fn read_workbook(pkg: &mut Package) -> Result<Workbook, XlsxError> {
+    // Sheets and defined names.
+    let (sheets_rid, names) = pkg
+        .with_part("xl/workbook.xml", |r| {
+            let mut buf = Vec::new();
+            let mut sheets = Vec::new();
+            let mut names = Vec::new();
+            let mut current: Option<(String, Option<usize>, String)> = None;
+            let mut len = 0;
+            loop {
+                let ev = r.read_event_into(&mut buf)?;
+                match &ev {
+                    Event::Start(e) | Event::Empty(e) if local(e.name().as_ref()) == "sheet" => {
+                        if let (Some(n), Some(id)) = (attr(e, "name"), rid(e)) {
+                            sheets.push((n, id));
+                        }
+                    }
+                    Event::Start(e) if local(e.name().as_ref()) == "definedName" => {
+                        current = attr(e, "name").map(|n| {
+                            let ls = attr(e, "localSheetId").and_then(|x| x.parse().ok());
+                            (n, ls, String::new())
+                        });
+                    }
+                    Event::End(e) if local(e.name().as_ref()) == "definedName" => {
+                        if let Some((name, local_sheet, target)) = current.take() {
+                            names.push(DefinedName {
+                                name,
+                                local_sheet,
+                                target,
+                            });
+                        }
+                    }
+                    Event::Text(_) | Event::GeneralRef(_) | Event::CData(_) => {
+                        if let Some((_, _, t)) = current.as_mut() {
+                            push_text(&ev, t, &mut len);
+                        }
+                    }
+                    Event::Eof => break,
+                    _ => {}
+                }
+                buf.clear();
+            }
+            Ok((sheets, names))
+        })?
+        .ok_or_else(|| book_err("not a readable xlsx workbook (no xl/workbook.xml)"))?;
+    // Sheet parts.
+    let rels = pkg
+        .with_part("xl/_rels/workbook.xml.rels", |r| {
+            let mut buf = Vec::new();
+            let mut rels = HashMap::new();
+            loop {
+                match r.read_event_into(&mut buf)? {
+                    Event::Start(e) | Event::Empty(e)
+                        if local(e.name().as_ref()) == "Relationship" =>
+                    {
+                        if let (Some(id), Some(t)) = (attr(&e, "Id"), attr(&e, "Target")) {
+                            rels.insert(id, t);
+                        }
+                    }
+                    Event::Eof => break,
+                    _ => {}
+                }
+                buf.clear();
+            }
+            Ok(rels)
+        })?
+        .unwrap_or_default();
+    let sheets = sheets_rid
+        .into_iter()
+        .filter_map(|(name, id)| {
+            let t = rels.get(&id)?;
+            let path = match t.strip_prefix('/') {
+                Some(abs) => abs.to_string(),
+                None => format!("xl/{t}"),
+            };
+            Some((name, path))
+        })
+        .collect();
+    let date_styles = read_styles(pkg)?;
+    Ok(Workbook {
+        sheets,
+        names,
+        date_styles,
+    })
+}
+
+/// The relationship id of a `<sheet>` (`r:id`, any prefix).
+fn rid(e: &BytesStart) -> Option<String> {
+    e.attributes()
+        .flatten()
+        .find(|a| {
+            let k: &str = a.key.as_ref();
+            k.contains(':') && local(k) == "id"
+        })
+        .and_then(|a| {
+            a.normalized_value(quick_xml::XmlVersion::Implicit1_0)
+                .ok()
+                .map(|v| v.into_owned())
+        })
+}
+
+/// Built-in number formats that show dates or times (ECMA-376 Part 1,
+/// 18.8.30).
+fn builtin_date_format(id: u32) -> bool {
+    matches!(id, 14..=22 | 27..=36 | 45..=47 | 50..=58)
+}
+
+/// Whether a custom number format code shows a date or time: a y, m, d,
+/// h or s outside quotes, brackets and escapes.
+fn date_format_code(code: &str) -> bool {
+    let mut in_quote = false;
+    let mut in_bracket = false;
+    let mut escaped = false;
+    for c in code.chars() {
+        if escaped {
+            escaped = false;
+            continue;
+        }
+        match c {
+            '\\' | '_' | '*' => escaped = true,
+            '"' => in_quote = !in_quote,
+            '[' if !in_quote => in_bracket = true,
+            ']' if !in_quote => in_bracket = false,
+            'y' | 'Y' | 'm' | 'M' | 'd' | 'D' | 'h' | 'H' | 's' | 'S'
+                if !in_quote && !in_bracket =>
+            {
+                return !code.eq_ignore_ascii_case("general");
+            }
+            _ => {}
+        }
+    }
+    false
+}
+
+fn read_styles(pkg: &mut Package) -> Result<Vec<bool>, XlsxError> {
+    Ok(pkg
+        .with_part("xl/styles.xml", |r| {
+            let mut buf = Vec::new();
+            let mut custom: HashMap<u32, bool> = HashMap::new();
+            let mut xfs = Vec::new();
+            let mut in_cell_xfs = false;
+            loop {
+                match r.read_event_into(&mut buf)? {
+                    Event::Start(e) | Event::Empty(e) => match local(e.name().as_ref()) {
+                        "numFmt" => {
+                            if let (Some(id), Some(code)) = (
+                                attr(&e, "numFmtId").and_then(|x| x.parse().ok()),
+                                attr(&e, "formatCode"),
+                            ) {
+                                custom.insert(id, date_format_code(&code));
+                            }
+                        }
+                        "cellXfs" => in_cell_xfs = true,
+                        "xf" if in_cell_xfs => {
+                            let id: u32 = attr(&e, "numFmtId")
+                                .and_then(|x| x.parse().ok())
+                                .unwrap_or(0);
+                            xfs.push(
+                                custom
+                                    .get(&id)
+                                    .copied()
+                                    .unwrap_or_else(|| builtin_date_format(id)),
+                            );
+                        }
+                        _ => {}
+                    },
+                    Event::End(e) if local(e.name().as_ref()) == "cellXfs" => in_cell_xfs = false,
+                    Event::Eof => break,
+                    _ => {}
+                }
+                buf.clear();
+            }
+            Ok(xfs)
+        })?
+        .unwrap_or_default())
+}
+
+// ---------------------------------------------------------------- sheets
+
+/// Read the wanted cells of one sheet part, stopping after the last row
+/// wanted or once every cell is found.
+fn read_sheet(
+    pkg: &mut Package,
+    part: &str,
+    wanted: &HashSet<(u32, u32)>,
+    date_styles: &[bool],
+) -> Result<HashMap<(u32, u32), Raw>, XlsxError> {
+    let max_row = wanted.iter().map(|w| w.0).max().unwrap_or(0);
+    let found = pkg.with_part(part, |r| {
+        let mut buf = Vec::new();
+        let mut out = HashMap::new();
+        let mut row: u32 = 0;
+        let mut next_col: u32 = 0;
+        // The cell being read: position, type, style, formula seen,
+        // value text.
+        let mut cell: Option<((u32, u32), String, usize, bool)> = None;
+        let mut value: Option<String> = None;
+        let mut in_v = false;
+        let mut in_is_t = false;
+        let mut text = String::new();
+        let mut text_len = 0usize;
+        loop {
+            let ev = r.read_event_into(&mut buf)?;
+            match &ev {
+                Event::Start(e) | Event::Empty(e) => {
+                    let empty = matches!(ev, Event::Empty(_));
+                    match local(e.name().as_ref()) {
+                        "row" => {
+                            row = attr(e, "r")
+                                .and_then(|x| x.parse::<u32>().ok())
+                                .map_or(row + 1, |r| r.saturating_sub(1));
+                            next_col = 0;
+                            if row > max_row {
+                                break;
+                            }
+                        }
+                        "c" => {
+                            let pos = attr(e, "r")
+                                .and_then(|x| parse_a1(&x))
+                                .unwrap_or((row, next_col));
+                            row = pos.0;
+                            next_col = pos.1 + 1;
+                            let t = attr(e, "t").unwrap_or_default();
+                            let s = attr(e, "s").and_then(|x| x.parse().ok()).unwrap_or(0);
+                            value = None;
+                            text.clear();
+                            text_len = 0;
+                            if empty {
+                                if wanted.contains(&pos) {
+                                    out.insert(pos, Raw::Empty);
+                                }
+                            } else {
+                                cell = Some((pos, t, s, false));
+                            }
+                        }
+                        "f" => {
+                            if let Some(c) = cell.as_mut() {
+                                c.3 = true;
+                            }
+                        }
+                        "v" if !empty => in_v = true,
+                        "t" if !empty => in_is_t = true,
+                        _ => {}
+                    }
+                }
+                Event::Text(_) | Event::GeneralRef(_) | Event::CData(_) => {
+                    if let Some((pos, _, _, _)) = &cell
+                        && wanted.contains(pos)
+                    {
+                        if in_v {
+                            let v = value.get_or_insert_with(String::new);
+                            let mut n = 0;
+                            push_text(&ev, v, &mut n);
+                        } else if in_is_t {
+                            push_text(&ev, &mut text, &mut text_len);
+                        }
+                    }
+                }
+                Event::End(e) => match local(e.name().as_ref()) {
+                    "v" => in_v = false,
+                    "t" => in_is_t = false,
+                    "c" => {
+                        if let Some((pos, t, s, formula)) = cell.take()
+                            && wanted.contains(&pos)
+                        {
+                            let date = date_styles.get(s).copied().unwrap_or(false);
+                            out.insert(
+                                pos,
+                                classify(&t, value.take(), &text, text_len, formula, date),
+                            );
+                            if out.len() == wanted.len() {
+                                break;
+                            }
+                        }
+                    }
+                    "sheetData" => break,
+                    _ => {}
+                },
+                Event::Eof => break,
+                _ => {}
+            }
+            buf.clear();
+        }
+        Ok(out)
+    })?;
+    found.ok_or_else(|| book_err(format!("not a readable xlsx workbook (no part `{part}`)")))
+}
+
+fn classify(
+    t: &str,
+    v: Option<String>,
+    text: &str,
+    text_len: usize,
+    formula: bool,
+    date: bool,
+) -> Raw {
+    let v = v.map(|s| s.trim().to_string());
+    match (t, v) {
+        ("inlineStr", _) => Raw::Text(text_len, text.to_string()),
+        (_, None) if formula => Raw::FormulaNoValue,
+        (_, None) => Raw::Empty,
+        ("s", Some(v)) => v.parse().map_or(Raw::Empty, Raw::Shared),
+        ("str", Some(v)) => Raw::Text(v.chars().count(), v),
+        ("b", Some(v)) => Raw::Bool(v == "1"),
+        ("e", Some(v)) => Raw::Error(error_code(&v)),
+        ("d", Some(_)) => Raw::Date,
+        (_, Some(v)) => match v.parse::<f64>() {
+            Ok(_) if date => Raw::Date,
+            Ok(x) if formula => Raw::Computed(x),
+            Ok(x) => Raw::Number(x),
+            Err(_) => Raw::Text(v.chars().count(), String::new()),
+        },
+    }
+}
+
+/// A spreadsheet error code as shown; anything else is not echoed.
+fn error_code(v: &str) -> String {
+    const CODES: &[&str] = &[
+        "#NULL!",
+        "#DIV/0!",
+        "#VALUE!",
+        "#REF!",
+        "#NAME?",
+        "#NUM!",
+        "#N/A",
+        "#GETTING_DATA",
+        "#SPILL!",
+        "#CALC!",
+    ];
+    CODES
+        .iter()
+        .find(|c| **c == v)
+        .map_or_else(|| "value (an error)".to_string(), |c| (*c).to_string())
+}
+
+/// Texts of the wanted shared strings (length and kept text), reading the
+/// table only as far as the last index wanted.
+fn read_shared(
+    pkg: &mut Package,
+    wanted: &HashSet<usize>,
+) -> Result<HashMap<usize, (usize, String)>, XlsxError> {
+    if wanted.is_empty() {
+        return Ok(HashMap::new());
+    }
+    let last = wanted.iter().copied().max().unwrap_or(0);
+    Ok(pkg
+        .with_part("xl/sharedStrings.xml", |r| {
+            let mut buf = Vec::new();
+            let mut out = HashMap::new();
+            let mut index: Option<usize> = None;
+            let mut count = 0usize;
+            let mut depth_rph = 0usize;
+            let mut in_t = false;
+            let mut text = String::new();
+            let mut len = 0usize;
+            loop {
+                let ev = r.read_event_into(&mut buf)?;
+                match &ev {
+                    Event::Start(e) => match local(e.name().as_ref()) {
+                        "si" => {
+                            index = Some(count);
+                            count += 1;
+                            text.clear();
+                            len = 0;
+                        }
+                        "rPh" => depth_rph += 1,
+                        "t" => in_t = true,
+                        _ => {}
+                    },
+                    Event::Empty(e) if local(e.name().as_ref()) == "si" => {
+                        if wanted.contains(&count) {
+                            out.insert(count, (0, String::new()));
+                        }
+                        count += 1;
+                        if count > last {
+                            break;
+                        }
+                    }
+                    Event::Text(_) | Event::GeneralRef(_) | Event::CData(_)
+                        if in_t && depth_rph == 0 && index.is_some_and(|i| wanted.contains(&i)) =>
+                    {
+                        push_text(&ev, &mut text, &mut len);
+                    }
+                    Event::End(e) => match local(e.name().as_ref()) {
+                        "t" => in_t = false,
+                        "rPh" => depth_rph = depth_rph.saturating_sub(1),
+                        "si" => {
+                            if let Some(i) = index.take()
+                                && wanted.contains(&i)
+                            {
+                                out.insert(i, (len, std::mem::take(&mut text)));
+                            }
+                            if count > last {
+                                break;
+                            }
+                        }
+                        _ => {}
+                    },
+                    Event::Eof => break,
+                    _ => {}
+                }
+                buf.clear();
+            }
+            Ok(out)
+        })?
+        .unwrap_or_default())
+}
+
+/// Read cells of several sheets in one pass per sheet; shared strings
+/// resolved to text (length and kept text).
+fn read_positions(
+    pkg: &mut Package,
+    wb: &Workbook,
+    wanted: &[CellPos],
+) -> Result<HashMap<CellPos, Raw>, XlsxError> {
+    let mut by_sheet: BTreeMap<&str, HashSet<(u32, u32)>> = BTreeMap::new();
+    for w in wanted {
+        by_sheet
+            .entry(w.sheet.as_str())
+            .or_default()
+            .insert((w.row, w.col));
+    }
+    let mut out = HashMap::new();
+    for (sheet, cells) in by_sheet {
+        let Some((_, part)) = wb
+            .sheets
+            .iter()
+            .find(|(n, _)| n.eq_ignore_ascii_case(sheet))
+        else {
+            continue; // reported per cell
+        };
+        let found = read_sheet(pkg, part, &cells, &wb.date_styles)?;
+        for ((row, col), raw) in found {
+            out.insert(
+                CellPos {
+                    sheet: sheet.to_string(),
+                    row,
+                    col,
+                },
+                raw,
+            );
+        }
+    }
+    let shared: HashSet<usize> = out
+        .values()
+        .filter_map(|r| match r {
+            Raw::Shared(i) => Some(*i),
+            _ => None,
+        })
+        .collect();
+    let texts = read_shared(pkg, &shared)?;
+    for raw in out.values_mut() {
+        if let Raw::Shared(i) = raw {
+            *raw = match texts.get(i) {
+                Some((len, t)) => Raw::Text(*len, t.clone()),
+                None => Raw::Text(0, String::new()),
+            };
+        }
+    }
+    Ok(out)
+}
+
+/// Resolve a reference (`Sheet!C7` or a defined name) to a cell.
+fn resolve(wb: &Workbook, reference: &str) -> Result<CellPos, String> {
+    if let Some(p) = parse_sheet_ref(reference) {
+        if !wb
+            .sheets
+            .iter()
+            .any(|(n, _)| n.eq_ignore_ascii_case(&p.sheet))
+        {
+            return Err(format!("the workbook has no sheet `{}`", p.sheet));
+        }
+        return Ok(p);
+    }
+    let matches: Vec<&DefinedName> = wb
+        .names
+        .iter()
+        .filter(|n| n.name.eq_ignore_ascii_case(reference))
+        .collect();
+    let global: Vec<&&DefinedName> = matches.iter().filter(|n| n.local_sheet.is_none()).collect();
+    let chosen = match (global.len(), matches.len()) {
+        (_, 0) => {
+            return Err(
+                "there is no defined name or `Sheet!C7` reference of that text in the workbook"
+                    .into(),
+            );
+        }
+        (1, _) | (0, 1) => {
+            if global.len() == 1 {
+                *global[0]
+            } else {
+                matches[0]
+            }
+        }
+        _ => return Err(ambiguous(reference)),
+    };
+    if global.len() == 1 && matches.iter().any(|m| m.name != chosen.name) {
+        // `p_site` and `P_SITE`: one name to a spreadsheet, two here.
+        return Err(ambiguous(reference));
+    }
+    let pos = parse_sheet_ref(&chosen.target)
+        .ok_or_else(|| "the name does not refer to a single cell".to_string())?;
+    if !wb
+        .sheets
+        .iter()
+        .any(|(n, _)| n.eq_ignore_ascii_case(&pos.sheet))
+    {
+        return Err("the name refers to a sheet the workbook does not have".into());
+    }
+    Ok(pos)
+}
+
+fn ambiguous(reference: &str) -> String {
+    format!(
+        "the workbook defines `{reference}` more than once (sheet-scoped copies, or names that differ \
+         only in letter case, which a spreadsheet treats as one); not read"
+    )
+}
+
+/// The numbers in workbook cells: each reference is `Sheet!C7` or a
+/// defined name. The workbook is read once; each sheet once, only as far
+/// as its last requested row. `Err` when the workbook itself cannot be
+/// read (not an xlsx, or beyond the [`LIMITS`]); otherwise one result per
+/// reference.
+pub fn read_cells(bytes: &[u8], refs: &[&str]) -> Result<Vec<Result<f64, CellError>>, XlsxError> {
+    read_cells_with(bytes, refs, LIMITS)
+}
+
+/// [`read_cells`] under other limits.
+pub fn read_cells_with(
+    bytes: &[u8],
+    refs: &[&str],
+    limits: Limits,
+) -> Result<Vec<Result<f64, CellError>>, XlsxError> {
+    let mut pkg = Package::open(bytes, limits)?;
+    let wb = read_workbook(&mut pkg)?;
+    let resolved: Vec<Result<CellPos, String>> = refs.iter().map(|r| resolve(&wb, r)).collect();
+    let wanted: Vec<CellPos> = resolved.iter().filter_map(|r| r.clone().ok()).collect();
+    let vals = read_positions(&mut pkg, &wb, &wanted)?;
+    Ok(refs
+        .iter()
+        .zip(resolved)
+        .map(|(r, pos)| {
+            let shown = |p: Option<&CellPos>| match p {
+                Some(p) if parse_sheet_ref(r).is_none() => format!("{r} ({})", p.a1()),
+                Some(p) => p.a1(),
+                None => (*r).to_string(),
+            };
+            let pos = pos.map_err(|message| CellError {
+                cell: shown(None),
+                message,
+            })?;
+            let raw = vals.get(&pos).unwrap_or(&Raw::Empty);
+            number(raw).map_err(|message| CellError {
+                cell: shown(Some(&pos)),
+                message,
+            })
+        })
+        .collect())
 }
 
 /// One input cell of a reviewed package.
@@ -242,10 +934,12 @@ pub fn read_cell(path: &Path, reference: &str) -> Result<f64, XlsxError> {
 pub struct ReviewedInput {
     /// The sheaf name of the input.
     pub name: String,
-    /// The value in the cell (in the input's display unit).
+    /// The value in the cell (in the unit of the Unit cell beside it).
     pub value: f64,
     /// Where it is (`Calculation!C8`).
     pub cell: String,
+    /// The text of the Unit cell beside the value (`None`: empty).
+    pub unit: Option<String>,
 }
 
 /// What `pull` reads from a package.
@@ -258,32 +952,66 @@ pub struct Reviewed {
     pub inputs: Vec<ReviewedInput>,
 }
 
-/// Read the input cells of a package (by their defined names) and its
-/// package information.
-pub fn read_inputs(path: &Path) -> Result<Reviewed, XlsxError> {
-    let mut book = Book::open(path)?;
+/// Read the input cells of a package (by their defined names), the unit
+/// beside each, and its package information. An input defined more than
+/// once (a sheet-scoped copy, or a name differing only in letter case), a
+/// date, a formula or text in an input cell is an error: nothing is
+/// guessed.
+pub fn read_inputs(bytes: &[u8]) -> Result<Reviewed, XlsxError> {
+    read_inputs_with(bytes, LIMITS)
+}
+
+/// [`read_inputs`] under other limits.
+pub fn read_inputs_with(bytes: &[u8], limits: Limits) -> Result<Reviewed, XlsxError> {
+    let mut pkg = Package::open(bytes, limits)?;
+    let wb = read_workbook(&mut pkg)?;
     let mut inputs: Vec<(String, CellPos)> = Vec::new();
+    let mut seen: HashMap<String, String> = HashMap::new();
     let mut info: HashMap<&'static str, CellPos> = HashMap::new();
-    for (n, target) in book.defined_names().to_vec() {
+    for dn in &wb.names {
         for key in [super::NAME_SHA, super::NAME_SOURCE, super::NAME_VERSION] {
-            if n.eq_ignore_ascii_case(key)
-                && let Some(p) = parse_sheet_ref(&target)
+            if dn.name.eq_ignore_ascii_case(key)
+                && let Some(p) = parse_sheet_ref(&dn.target)
             {
                 info.insert(key, p);
             }
         }
-        if let Some((NameKind::Input, name, None)) = names::decode(&n)
-            && let Some(p) = parse_sheet_ref(&target)
-        {
+        // `decode` ignores letter case as a spreadsheet does, so a copy
+        // in other case lands on the same input.
+        if let Some((NameKind::Input, name, None)) = names::decode(&dn.name) {
+            if let Some(first) = seen.insert(name.clone(), dn.target.clone()) {
+                return Err(XlsxError::Cell {
+                    cell: name.clone(),
+                    message: format!(
+                        "the package defines the input `{name}` more than once ({} and {}: a \
+                         sheet-scoped copy or a name in other letter case); nothing pulled",
+                        first.trim_start_matches('='),
+                        dn.target.trim_start_matches('=')
+                    ),
+                });
+            }
+            let p = parse_sheet_ref(&dn.target).ok_or_else(|| XlsxError::Cell {
+                cell: name.clone(),
+                message: format!(
+                    "the defined name of input `{name}` does not refer to a single cell"
+                ),
+            })?;
             inputs.push((name, p));
         }
     }
-    let mut wanted: Vec<CellPos> = inputs.iter().map(|(_, p)| p.clone()).collect();
+    let mut wanted: Vec<CellPos> = Vec::new();
+    for (_, p) in &inputs {
+        wanted.push(p.clone());
+        wanted.push(CellPos {
+            col: p.col + 1,
+            ..p.clone()
+        });
+    }
     wanted.extend(info.values().cloned());
-    let vals = book.read(&wanted)?;
+    let vals = read_positions(&mut pkg, &wb, &wanted)?;
     let text = |key: &str| -> Option<String> {
         match info.get(key).and_then(|p| vals.get(p)) {
-            Some(CellValue::Text(t)) => Some(t.clone()),
+            Some(Raw::Text(_, t)) => Some(t.clone()),
             _ => None,
         }
     };
@@ -294,61 +1022,37 @@ pub fn read_inputs(path: &Path) -> Result<Reviewed, XlsxError> {
         inputs: Vec::new(),
     };
     for (name, pos) in inputs {
-        let value = match vals.get(&pos) {
-            Some(CellValue::Number(x)) if x.is_finite() => *x,
-            other => {
-                let what = match other {
-                    Some(CellValue::Text(t)) => format!("holds text (\"{t}\"), not a number"),
-                    Some(CellValue::Bool(b)) => format!("holds {b}, not a number"),
-                    Some(CellValue::Error(e)) => format!("holds the error {e}"),
-                    _ => "is empty".to_string(),
-                };
-                return Err(XlsxError::Cell {
-                    book: book.path().to_string(),
-                    cell: pos.a1(),
-                    message: format!("the input `{name}` {what}"),
-                });
-            }
+        let raw = vals.get(&pos).unwrap_or(&Raw::Empty);
+        if matches!(raw, Raw::Computed(_)) {
+            return Err(XlsxError::Cell {
+                cell: pos.a1(),
+                message: format!(
+                    "input `{name}`: the cell holds a formula (its stored result may be stale); \
+                     type the number; nothing pulled"
+                ),
+            });
+        }
+        let value = number(raw).map_err(|message| XlsxError::Cell {
+            cell: pos.a1(),
+            message: format!("input `{name}`: {message}"),
+        })?;
+        let unit_pos = CellPos {
+            col: pos.col + 1,
+            ..pos.clone()
+        };
+        let unit = match vals.get(&unit_pos) {
+            Some(Raw::Text(_, t)) if !t.trim().is_empty() => Some(t.trim().to_string()),
+            _ => None,
         };
         out.inputs.push(ReviewedInput {
             name,
             value,
             cell: pos.a1(),
+            unit,
         });
     }
     Ok(out)
 }
 
 #[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn references() {
-        assert_eq!(parse_a1("C7"), Some((6, 2)));
-        assert_eq!(parse_a1("$AB$10"), Some((9, 27)));
-        assert_eq!(parse_a1("C0"), None);
-        assert_eq!(parse_a1("7C"), None);
-        assert_eq!(col_letters(27), "AB");
-        assert_eq!(col_letters(0), "A");
-        let p = parse_sheet_ref("'My sheet'!$C$7").unwrap();
-        assert_eq!(p.sheet, "My sheet");
-        assert_eq!(p.a1(), "'My sheet'!C7");
-        assert_eq!(parse_sheet_ref("p_site"), None);
-    }
-
-    #[test]
-    fn not_a_workbook_is_an_error() {
-        let dir = std::env::temp_dir().join(format!("sheaf-xlsx-reader-{}", std::process::id()));
-        std::fs::create_dir_all(&dir).unwrap();
-        let f = dir.join("bad.xlsx");
-        std::fs::write(&f, b"PK\x03\x04 truncated").unwrap();
-        let e = read_cell(&f, "Sheet1!A1").unwrap_err().to_string();
-        assert!(e.contains("bad.xlsx"), "{e}");
-        let missing = read_cell(&dir.join("none.xlsx"), "A!B2")
-            .unwrap_err()
-            .to_string();
-        assert!(missing.contains("no such file"), "{missing}");
-        std::fs::remove_dir_all(&dir).unwrap();
-    }
-}
+mod tests;
