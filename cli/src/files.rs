@@ -206,7 +206,6 @@ fn replace(target: &Path, bytes: &[u8], perms: Option<fs::Permissions>) -> Resul
 }
 
 /// Why a file a worksheet asked for was not read.
-#[allow(dead_code)] // called when the loader reads `cell()` workbooks and `use`d worksheets
 #[derive(Debug, Clone, PartialEq)]
 pub enum AccessError {
     /// Missing, outside the allowed folders, not a regular file, or not
@@ -243,7 +242,6 @@ impl std::error::Error for AccessError {}
 /// symbolic links are resolved, and the result must lie in `base_dir` or
 /// one of `allowed` (or below), be a regular file and hold at most
 /// `max_bytes`. Returns the resolved path and the bytes.
-#[allow(dead_code)] // called when the loader reads `cell()` workbooks and `use`d worksheets
 pub fn read_confined(
     base_dir: &Path,
     requested: &str,

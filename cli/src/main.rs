@@ -229,7 +229,7 @@ fn load(file: &Path) -> Result<(String, Model), u8> {
     let name = file.display().to_string();
     let dir = file.parent().map_or_else(PathBuf::new, Path::to_path_buf);
     let checked = sheaf_engine::Parsed::new(src.clone()).and_then(|parsed| {
-        let externals = workbooks::read_cells(&dir, &parsed.cell_requests());
+        let externals = workbooks::read_cells(&dir, &parsed.cell_requests(), &[]);
         parsed.check(&externals)
     });
     match checked {

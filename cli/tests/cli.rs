@@ -315,3 +315,33 @@ fn a_closed_output_pipe_is_not_a_panic() {
     assert!(!err.contains("panicked"), "{err}");
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn cell_reads_are_confined_to_the_worksheets_folder_with_one_neutral_message() {
+    // A workbook outside the worksheet's folder exists; a missing one does
+    // not: both get the same message, so existence cannot be probed.
+    let dir = std::env::temp_dir().join(format!("sheaf-confine-{}", std::process::id()));
+    let sub = dir.join("calc");
+    std::fs::create_dir_all(&sub).unwrap();
+    std::fs::write(dir.join("a.sheaf"), "# A\ninput len = 2.5 m\n").unwrap();
+    let o = sheaf(&["xlsx", dir.join("a.sheaf").to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let mut messages = Vec::new();
+    for book in ["../a.xlsx", "../missing.xlsx", "/etc/passwd"] {
+        std::fs::write(
+            sub.join("b.sheaf"),
+            format!("# B\ninput x = cell(\"{book}\", \"i_len\") * 1 m\n"),
+        )
+        .unwrap();
+        let o = sheaf(&["run", sub.join("b.sheaf").to_str().unwrap()]);
+        assert_eq!(o.status.code(), Some(1), "{book}: {}", stderr(&o));
+        let e = stderr(&o);
+        assert!(
+            e.contains("not a readable file in the worksheet's folder"),
+            "{e}"
+        );
+        messages.push(e.lines().next().unwrap_or_default().replace(book, "BOOK"));
+    }
+    assert_eq!(messages[0], messages[1]);
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -10,8 +10,6 @@ pub mod names;
 pub mod reader;
 mod writer;
 
-use std::path::Path;
-
 use sha2::{Digest, Sha256};
 use sheaf_grammar::{Expr, ExprKind, Span, StatementKind};
 
@@ -45,23 +43,6 @@ pub enum XlsxError {
 impl From<XlsxError> for String {
     fn from(e: XlsxError) -> String {
         e.to_string()
-    }
-}
-
-/// The number in a workbook cell, for the `cell` built-in (error as text).
-///
-/// Transitional: the built-in still opens its workbook here; once the CLI
-/// reads `cell()` workbooks (with `read_confined`) and hands the values to
-/// the model, this function and its file read go away.
-pub fn read_cell(path: &Path, reference: &str) -> Result<f64, String> {
-    let shown = path.display();
-    let bytes = std::fs::read(path).map_err(|_| format!("cannot read workbook {shown}"))?;
-    let mut results =
-        read_cells(&bytes, &[reference]).map_err(|e| format!("workbook {shown}: {e}"))?;
-    match results.pop() {
-        Some(Ok(x)) => Ok(x),
-        Some(Err(e)) => Err(format!("workbook {shown}, {e}")),
-        None => Err(format!("workbook {shown}: nothing read")),
     }
 }
 
