@@ -19,6 +19,7 @@ pub mod thermo;
 pub mod types;
 pub mod units;
 pub mod value;
+pub mod whatif;
 pub mod xlsx;
 
 pub use diag::{Diagnostic, Label, Severity};
