@@ -187,10 +187,7 @@ fn cases_table(runs: &[CaseRun], file: &str, sig: usize, md: bool) -> String {
         out.push('\n');
         let esc: Vec<String> = head.iter().map(|h| md_escape(h)).collect();
         out.push_str(&format!("| {} |\n", esc.join(" | ")));
-        out.push_str(&format!(
-            "|---|---|{}\n",
-            "---:|".repeat(runs.len())
-        ));
+        out.push_str(&format!("|---|---|{}\n", "---:|".repeat(runs.len())));
         for (k, line) in table.iter().chain(checks.iter()).enumerate() {
             let first = if k < table.len() {
                 md_code(&line[0])

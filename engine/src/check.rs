@@ -354,7 +354,11 @@ fn whatif_statements(
                 continue;
             }
             (a, b) => {
-                let (bad, ty) = if matches!(a, Ty::Num(_)) { (right, b) } else { (left, a) };
+                let (bad, ty) = if matches!(a, Ty::Num(_)) {
+                    (right, b)
+                } else {
+                    (left, a)
+                };
                 cx.diags.push(Diagnostic::error(
                     format!(
                         "the two sides of `where` must be numbers, but this is {}",
@@ -458,7 +462,8 @@ fn whatif_statements(
             ));
         }
     }
-    let solved_by = |x: usize, out: &whatif::WhatIf| out.finds.iter().find(|f| f.input == x).map(|f| f.span);
+    let solved_by =
+        |x: usize, out: &whatif::WhatIf| out.finds.iter().find(|f| f.input == x).map(|f| f.span);
 
     for stmt in &ws.statements {
         match &stmt.kind {
@@ -469,15 +474,19 @@ fn whatif_statements(
             } => {
                 if let Some(prev) = out.cases.iter().find(|c| c.name == name.name) {
                     cx.diags.push(
-                        Diagnostic::error(format!("case `{}` is defined twice", name.name), name.span)
-                            .with_secondary(prev.span, "first defined here"),
+                        Diagnostic::error(
+                            format!("case `{}` is defined twice", name.name),
+                            name.span,
+                        )
+                        .with_secondary(prev.span, "first defined here"),
                     );
                     continue;
                 }
                 if name.name == "base" {
-                    cx.diags.push(
-                        Diagnostic::error("`base` is the worksheet as written; name the case otherwise", name.span),
-                    );
+                    cx.diags.push(Diagnostic::error(
+                        "`base` is the worksheet as written; name the case otherwise",
+                        name.span,
+                    ));
                     continue;
                 }
                 let mut case = CaseDef {
@@ -543,8 +552,7 @@ fn whatif_statements(
                         let c = cx.constant_of(count, QTy::DIMENSIONLESS, "count", "the count");
                         match (a, b, c) {
                             (Some(a), Some(b), Some(c)) if c.fract() == 0.0 && c >= 0.0 => {
-                                whatif::count_points(a, b, c as usize)
-                                    .map_err(|m| (m, count.span))
+                                whatif::count_points(a, b, c as usize).map_err(|m| (m, count.span))
                             }
                             (Some(_), Some(_), Some(_)) => Err((
                                 "`count` must be a whole number of points".to_string(),
@@ -567,7 +575,8 @@ fn whatif_statements(
                 let pts = match pts {
                     Ok(p) => p,
                     Err((m, span)) => {
-                        cx.diags.push(Diagnostic::error(format!("sweep of `{name}`: {m}"), span));
+                        cx.diags
+                            .push(Diagnostic::error(format!("sweep of `{name}`: {m}"), span));
                         continue;
                     }
                 };
@@ -616,7 +625,10 @@ impl Cx<'_> {
             return None;
         };
         if nodes[i].kind != NodeKind::Input {
-            let def = nodes[i].name.as_ref().map_or(nodes[i].expr_span, |n| n.span);
+            let def = nodes[i]
+                .name
+                .as_ref()
+                .map_or(nodes[i].expr_span, |n| n.span);
             self.diags.push(
                 Diagnostic::error(
                     format!(
@@ -669,7 +681,10 @@ impl Cx<'_> {
             );
         if clash {
             let msg = if want.dim.is_none() && name == "count" {
-                format!("{what} must be a plain number, but this is {}", self.side(e, got))
+                format!(
+                    "{what} must be a plain number, but this is {}",
+                    self.side(e, got)
+                )
             } else {
                 format!(
                     "`{name}` is {}, but {what} here is {}",
@@ -688,7 +703,9 @@ impl Cx<'_> {
                         format!("{what} must be a constant (a number with its unit)"),
                         e.span,
                     )
-                    .with_note("help: cases, sweeps and brackets cannot use other names of the worksheet"),
+                    .with_note(
+                        "help: cases, sweeps and brackets cannot use other names of the worksheet",
+                    ),
                 );
                 None
             }

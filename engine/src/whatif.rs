@@ -174,7 +174,13 @@ pub fn step_points(a: f64, b: f64, d: f64) -> Result<Vec<f64>, String> {
     }
     let n = n as usize;
     Ok((0..=n)
-        .map(|i| if i == n && (span - n as f64).abs() <= 1e-9 { b } else { a + i as f64 * d })
+        .map(|i| {
+            if i == n && (span - n as f64).abs() <= 1e-9 {
+                b
+            } else {
+                a + i as f64 * d
+            }
+        })
         .collect())
 }
 
@@ -279,11 +285,7 @@ pub fn brent<E>(
         }
         a = b;
         fa = fb;
-        b += if d.abs() > tol1 {
-            d
-        } else {
-            tol1.copysign(xm)
-        };
+        b += if d.abs() > tol1 { d } else { tol1.copysign(xm) };
         fb = f(b).map_err(|err| RootError::Eval(b, err))?;
     }
     Err(RootError::NotConverged(b, fb))
@@ -661,7 +663,9 @@ impl Model {
                     _ => complete = false,
                 }
             }
-            message = errors.first().map_or_else(String::new, |d| d.message.clone());
+            message = errors
+                .first()
+                .map_or_else(String::new, |d| d.message.clone());
             if !complete && message.is_empty() {
                 message = first_failure(self, &ok);
             }
@@ -724,7 +728,10 @@ mod tests {
 
     #[test]
     fn step_points_include_the_end_within_a_tolerance() {
-        assert_eq!(step_points(0.0, 1.0, 0.25).unwrap(), vec![0.0, 0.25, 0.5, 0.75, 1.0]);
+        assert_eq!(
+            step_points(0.0, 1.0, 0.25).unwrap(),
+            vec![0.0, 0.25, 0.5, 0.75, 1.0]
+        );
         // 0.7 + 4*0.05 = 0.9000000000000001 in floating point: the end is taken as written.
         let p = step_points(0.7, 0.9, 0.05).unwrap();
         assert_eq!(p.len(), 5);
@@ -732,7 +739,10 @@ mod tests {
         // The end is not a point: stop before it.
         assert_eq!(step_points(0.0, 1.0, 0.3).unwrap().len(), 4);
         // Downwards.
-        assert_eq!(step_points(10.0, 4.0, -2.0).unwrap(), vec![10.0, 8.0, 6.0, 4.0]);
+        assert_eq!(
+            step_points(10.0, 4.0, -2.0).unwrap(),
+            vec![10.0, 8.0, 6.0, 4.0]
+        );
         assert!(step_points(0.0, 1.0, -0.1).is_err());
         assert!(step_points(0.0, 1.0, 0.0).is_err());
         assert_eq!(step_points(2.0, 2.0, 1.0).unwrap(), vec![2.0]);
@@ -740,7 +750,10 @@ mod tests {
 
     #[test]
     fn count_points_are_inclusive() {
-        assert_eq!(count_points(1.0, 2.0, 5).unwrap(), vec![1.0, 1.25, 1.5, 1.75, 2.0]);
+        assert_eq!(
+            count_points(1.0, 2.0, 5).unwrap(),
+            vec![1.0, 1.25, 1.5, 1.75, 2.0]
+        );
         assert!(count_points(1.0, 2.0, 1).is_err());
     }
 

@@ -59,7 +59,9 @@ fn st() -> St {
             .set_bold()
             .set_font_color(Color::RGB(0xB00020))
             .set_background_color(Color::RGB(0xF8D7DA)),
-        note: Format::new().set_italic().set_font_color(Color::RGB(0x555555)),
+        note: Format::new()
+            .set_italic()
+            .set_font_color(Color::RGB(0x555555)),
     }
 }
 
@@ -96,7 +98,12 @@ fn cases_sheet(model: &Model) -> Result<Worksheet, XlsxError> {
             m.report(),
         ));
     }
-    ws.write_string_with_format(0, 0, "Cases: the worksheet evaluated by sheaf for each case (engine values)", &s.title)?;
+    ws.write_string_with_format(
+        0,
+        0,
+        "Cases: the worksheet evaluated by sheaf for each case (engine values)",
+        &s.title,
+    )?;
     ws.write_string_with_format(
         1,
         0,
@@ -134,11 +141,15 @@ fn cases_sheet(model: &Model) -> Result<Worksheet, XlsxError> {
             // Automatic units may pick another prefix per case: every case
             // in the base's unit.
             let v = match (q.si_value, b.si_value, b.value) {
-                (Some(x), Some(bs), Some(bv)) if q.unit != b.unit && bs != 0.0 => Some(x * (bv / bs)),
+                (Some(x), Some(bs), Some(bv)) if q.unit != b.unit && bs != 0.0 => {
+                    Some(x * (bv / bs))
+                }
                 _ => q.value,
             };
             match (v, &q.text, q.boolean) {
-                (_, _, Some(x)) => ws.write_string_with_format(r, cc, if x { "yes" } else { "no" }, f)?,
+                (_, _, Some(x)) => {
+                    ws.write_string_with_format(r, cc, if x { "yes" } else { "no" }, f)?
+                }
                 (Some(v), _, _) => ws.write_number_with_format(r, cc, v, f)?,
                 (None, Some(t), _) => ws.write_string_with_format(r, cc, t, f)?,
                 (None, None, _) => ws.write_string_with_format(
@@ -292,7 +303,13 @@ fn sweep_sheet(model: &Model, k: usize) -> Result<Worksheet, XlsxError> {
         &s.note,
     )?;
     let hr = 3u32;
-    let head = |n: &str, u: &str| if u.is_empty() { n.to_string() } else { format!("{n} [{u}]") };
+    let head = |n: &str, u: &str| {
+        if u.is_empty() {
+            n.to_string()
+        } else {
+            format!("{n} [{u}]")
+        }
+    };
     ws.write_string_with_format(hr, 0, head(&input_name, &cv[0].2), &s.header)?;
     for (c, col) in sweep.show.iter().enumerate() {
         ws.write_string_with_format(hr, 1 + c as u16, head(&col.name, &cv[c + 1].2), &s.header)?;

@@ -10,8 +10,8 @@ use rust_xlsxwriter::{
 
 use super::formula::{self, Env, Ex, Own, SubSym};
 use super::names::{self, NameKind};
-use super::{PackageInfo, XlsxError, shown};
 use super::whatif_sheets::add_whatif_sheets;
+use super::{PackageInfo, XlsxError, shown};
 use crate::check::{DisplayUnit, NodeKind};
 use crate::eval::{Code, Value};
 use crate::model::{Model, Status};
