@@ -57,6 +57,7 @@ mod diagnostics;
 mod files;
 mod package;
 mod render;
+mod whatif;
 mod workbooks;
 
 use std::io::IsTerminal;
@@ -68,9 +69,9 @@ use serde_json::json;
 use sheaf_engine::{Model, units};
 
 /// Exit statuses (DESIGN §5).
-const EXIT_ERRORS: u8 = 1;
-const EXIT_USAGE: u8 = 2;
-const EXIT_CHECK_FAILED: u8 = 3;
+pub(crate) const EXIT_ERRORS: u8 = 1;
+pub(crate) const EXIT_USAGE: u8 = 2;
+pub(crate) const EXIT_CHECK_FAILED: u8 = 3;
 
 #[derive(Parser)]
 #[command(
@@ -81,7 +82,8 @@ const EXIT_CHECK_FAILED: u8 = 3;
 with ideal-gas, incompressible and IAPWS-IF97 water/steam models, and reports the results.",
     after_help = "Examples:\n  sheaf run worksheets/air_receiver.sheaf\n  sheaf run pump.sheaf --set 'p2=12 barg' --format json\n  \
 sheaf check pump.sheaf\n  sheaf eval \"14.7 psi\" --in kPa\n  sheaf units pressure\n\n\
-Exit status: 0 fine; 1 the worksheet has errors; 2 usage or file error; 3 a check failed."
+Exit status: 0 fine; 1 the worksheet has errors; 2 usage or file error; 3 a check failed.\n\n\
+What-if:\n  sheaf run FILE --case NAME | --cases\n  sheaf sweep FILE --format csv"
 )]
 struct Cli {
     #[command(subcommand)]
@@ -101,8 +103,11 @@ enum Command {
     #[command(
         after_help = "Examples:\n  sheaf run worksheets/air_receiver.sheaf\n  \
 sheaf run worksheets/air_receiver.sheaf --set 'V_rec=3 m^3' --set 'p_high=9 barg'\n  \
-sheaf run worksheets/air_receiver.sheaf --format json > results.json\n\n\
-Exit status: 0 all checks pass; 1 errors; 2 usage or file error; 3 a check failed."
+sheaf run worksheets/air_receiver.sheaf --format json > results.json\n  \
+sheaf run worksheets/plant_air_whatif.sheaf --case hot_day\n  \
+sheaf run worksheets/plant_air_whatif.sheaf --cases\n\n\
+Exit status: 0 all checks pass; 1 errors; 2 usage or file error; 3 a check failed (with --cases: \
+in any case)."
     )]
     Run {
         /// The worksheet (.sheaf).
@@ -113,6 +118,30 @@ Exit status: 0 all checks pass; 1 errors; 2 usage or file error; 3 a check faile
         /// Output format.
         #[arg(long, value_enum, default_value_t = Format::Text)]
         format: Format,
+        /// Significant figures in text and markdown output.
+        #[arg(long, default_value_t = 4, value_parser = clap::value_parser!(u8).range(1..=15))]
+        sig: u8,
+        /// Evaluate the worksheet with the inputs of this `case` (--set applies on top).
+        #[arg(long, value_name = "NAME", conflicts_with = "cases")]
+        case: Option<String>,
+        /// Evaluate the worksheet as written (case `base`) and every case; print them side by side.
+        #[arg(long)]
+        cases: bool,
+    },
+    /// Run every `sweep` of a worksheet; print its table.
+    #[command(after_help = whatif::SWEEP_HELP)]
+    Sweep {
+        /// The worksheet (.sheaf).
+        file: PathBuf,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = whatif::SweepFormat::Text)]
+        format: whatif::SweepFormat,
+        /// Sweep around the inputs of this `case`.
+        #[arg(long, value_name = "NAME")]
+        case: Option<String>,
+        /// Override an input: NAME=VALUE with a unit. Repeatable.
+        #[arg(long = "set", value_name = "NAME=VALUE")]
+        set: Vec<String>,
         /// Significant figures in text and markdown output.
         #[arg(long, default_value_t = 4, value_parser = clap::value_parser!(u8).range(1..=15))]
         sig: u8,
@@ -166,6 +195,9 @@ sheaf eval 'state(fluid(\"water\"), p: 3 MPa, T: 400 degC).h' --in kJ/kg")]
         /// Override an input: NAME=VALUE with a unit. Repeatable.
         #[arg(long = "set", value_name = "NAME=VALUE")]
         set: Vec<String>,
+        /// Write the package for the inputs of this `case`.
+        #[arg(long, value_name = "NAME")]
+        case: Option<String>,
     },
     /// Read inputs a reviewer changed in a package back into the worksheet.
     #[command(after_help = package::PULL_HELP)]
@@ -192,7 +224,28 @@ fn main() -> ExitCode {
             set,
             format,
             sig,
-        } => cmd_run(&file, &set, format, usize::from(sig)),
+            case,
+            cases,
+        } => {
+            if cases {
+                match load_with_sets(&file, &set, None) {
+                    Ok((name, model)) => whatif::cmd_cases(&name, &model, format, usize::from(sig)),
+                    Err(c) => c,
+                }
+            } else {
+                cmd_run(&file, &set, case.as_deref(), format, usize::from(sig))
+            }
+        }
+        Command::Sweep {
+            file,
+            format,
+            case,
+            set,
+            sig,
+        } => match load_with_sets(&file, &set, case.as_deref()) {
+            Ok((name, model)) => whatif::cmd_sweep(&name, model, format, usize::from(sig)),
+            Err(c) => c,
+        },
         Command::Check { file } => cmd_check(&file),
         Command::Eval {
             expr,
@@ -203,7 +256,12 @@ fn main() -> ExitCode {
         Command::Units { word } => cmd_units(word.as_deref()),
         Command::Functions => cmd_functions(),
         Command::Fmt { file, write } => cmd_fmt(&file, write),
-        Command::Xlsx { file, out, set } => package::cmd_xlsx(&file, out.as_deref(), &set),
+        Command::Xlsx {
+            file,
+            out,
+            set,
+            case,
+        } => package::cmd_xlsx(&file, out.as_deref(), &set, case.as_deref()),
         Command::Pull {
             file,
             from,
@@ -246,9 +304,16 @@ fn load(file: &Path) -> Result<(String, Model), u8> {
     }
 }
 
-/// [`load`], then apply `--set NAME=VALUE` overrides.
-fn load_with_sets(file: &Path, sets: &[String]) -> Result<(String, Model), u8> {
+/// [`load`], then apply a `--case` and `--set NAME=VALUE` overrides (in
+/// that order).
+fn load_with_sets(file: &Path, sets: &[String], case: Option<&str>) -> Result<(String, Model), u8> {
     let (name, mut model) = load(file)?;
+    if let Some(c) = case
+        && let Err(e) = model.apply_case(c)
+    {
+        eprintln!("error: --case {e}");
+        return Err(EXIT_USAGE);
+    }
     for s in sets {
         let Some((n, v)) = s.split_once('=') else {
             eprintln!("error: --set expects NAME=VALUE (e.g. --set 'p2=8 barg'), got `{s}`");
@@ -262,8 +327,8 @@ fn load_with_sets(file: &Path, sets: &[String]) -> Result<(String, Model), u8> {
     Ok((name, model))
 }
 
-fn cmd_run(file: &Path, sets: &[String], format: Format, sig: usize) -> u8 {
-    let (name, mut model) = match load_with_sets(file, sets) {
+fn cmd_run(file: &Path, sets: &[String], case: Option<&str>, format: Format, sig: usize) -> u8 {
+    let (name, mut model) = match load_with_sets(file, sets, case) {
         Ok(x) => x,
         Err(c) => return c,
     };

@@ -12,7 +12,8 @@ const EXIT_ERRORS: u8 = 1;
 const EXIT_USAGE: u8 = 2;
 
 pub const XLSX_HELP: &str = "Examples:\n  sheaf xlsx worksheets/air_receiver.sheaf\n  \
-sheaf xlsx pump.sheaf -o review/pump-rev-B.xlsx\n  sheaf xlsx pump.sheaf --set 'p2=12 barg'\n\n\
+sheaf xlsx pump.sheaf -o review/pump-rev-B.xlsx\n  sheaf xlsx pump.sheaf --set 'p2=12 barg'\n  \
+sheaf xlsx worksheets/plant_air_whatif.sheaf --case hot_day\n\n\
 The package has a cover (checks, sign-off fields, caution), the calculation sheet with live \
 formulas on SI cells, and a data sheet with the input values sheaf used.";
 
@@ -40,8 +41,8 @@ fn today() -> String {
     format!("{y:04}-{m:02}-{d:02}")
 }
 
-pub fn cmd_xlsx(file: &Path, out: Option<&Path>, sets: &[String]) -> u8 {
-    let (name, mut model) = match crate::load_with_sets(file, sets) {
+pub fn cmd_xlsx(file: &Path, out: Option<&Path>, sets: &[String], case: Option<&str>) -> u8 {
+    let (name, mut model) = match crate::load_with_sets(file, sets, case) {
         Ok(x) => x,
         Err(c) => return c,
     };

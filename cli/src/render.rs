@@ -2,7 +2,7 @@
 
 use serde_json::{Value as Json, json};
 use sheaf_engine::CAUTION;
-use sheaf_engine::report::{Block, CheckRow, GAUGE_NOTE, QuantityRow, Report, Shown};
+use sheaf_engine::report::{Block, CheckRow, FoundRow, GAUGE_NOTE, QuantityRow, Report, Shown};
 use sheaf_engine::units::format_sig;
 
 /// Terminal styles; empty strings when colour is off.
@@ -66,11 +66,11 @@ pub fn escape_controls(s: &str) -> String {
 }
 
 /// Short name of [`escape_controls`] for the text renderer.
-fn t(s: &str) -> String {
+pub fn t(s: &str) -> String {
     escape_controls(s)
 }
 
-fn value_text(row: &QuantityRow, sig: usize) -> String {
+pub fn value_text(row: &QuantityRow, sig: usize) -> String {
     match (row.value, &row.text, &row.problem) {
         (_, _, Some(p)) if row.value.is_none() => format!("({})", t(p)),
         (Some(v), _, _) => format_sig(v, sig),
@@ -79,7 +79,7 @@ fn value_text(row: &QuantityRow, sig: usize) -> String {
     }
 }
 
-fn pad(s: &str, w: usize) -> String {
+pub fn pad(s: &str, w: usize) -> String {
     let n = s.chars().count();
     if n >= w {
         s.to_string()
@@ -147,7 +147,9 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
             }
             Block::Note(n) => out.push_str(&format!("  {}{}{}\n", st.dim, t(n), st.reset)),
             Block::Quantity(q) => {
-                let tag = if q.kind == "input" {
+                let tag = if q.kind == "found" {
+                    format!("{}fd{}", st.input, st.reset)
+                } else if q.kind == "input" {
                     format!("{}in{}", st.input, st.reset)
                 } else {
                     "  ".into()
@@ -158,6 +160,9 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
                     pad(&t(&q.name), wn)
                 };
                 let mut desc = t(q.description.as_deref().unwrap_or_default());
+                if let Some(f) = &q.found {
+                    desc = format!("{}[{}]{} {desc}", st.dim, found_text(q, f, sig), st.reset);
+                }
                 if let Some(o) = &q.overridden {
                     desc = format!("{}[overridden: {}]{} {desc}", st.warn, t(o), st.reset);
                 }
@@ -256,6 +261,20 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
     out
 }
 
+/// How a value was found: "found where T4 = T_max in 2 .. 12 bar, 8
+/// steps, residual 1.2e-13 (SI)".
+pub fn found_text(q: &QuantityRow, f: &FoundRow, sig: usize) -> String {
+    format!(
+        "found where {} in {} .. {} {}, {} steps, residual {} (SI)",
+        t(&f.condition),
+        format_sig(f.low_shown, sig),
+        format_sig(f.high_shown, sig),
+        t(&q.unit),
+        f.iterations,
+        format_sig(f.residual, 2)
+    )
+}
+
 /// Last segment of `name.field`.
 fn short(name: &str) -> &str {
     name.rsplit('.').next().unwrap_or(name)
@@ -352,6 +371,14 @@ pub fn json(report: &Report) -> Json {
             if q.overridden.is_some() {
                 o["overridden"] = json!(true);
             }
+            if let Some(f) = &q.found {
+                o["found"] = json!({
+                    "low": f.low,
+                    "high": f.high,
+                    "iterations": f.iterations,
+                    "residual": f.residual,
+                });
+            }
             o
         })
         .collect();
@@ -402,7 +429,7 @@ pub fn md_escape(s: &str) -> String {
 /// any run inside it (so it cannot be closed early; HTML inside a code
 /// span is shown, not interpreted), control characters escaped, `|`
 /// escaped for tables.
-fn md_code(s: &str) -> String {
+pub fn md_code(s: &str) -> String {
     let s = escape_controls(s).replace('|', "\\|");
     let mut longest = 0;
     let mut run = 0;
@@ -464,10 +491,14 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
                     );
                     in_table = true;
                 }
-                let tag = match (&q.overridden, q.kind == "input") {
+                let tag = match (&q.overridden, q.kind) {
                     (Some(o), _) => format!("input, overridden: {}", md_escape(o)),
-                    (None, true) => "input".to_string(),
-                    (None, false) => String::new(),
+                    (None, "input") => "input".to_string(),
+                    (None, "found") => match &q.found {
+                        Some(f) => md_escape(&found_text(q, f, sig)),
+                        None => "found".to_string(),
+                    },
+                    (None, _) => String::new(),
                 };
                 for r in std::iter::once(q.as_ref()).chain(q.fields.iter()) {
                     out.push_str(&format!(

@@ -28,14 +28,7 @@ pub enum NodeKind {
     Check,
 }
 
-/// How a node's value is shown.
-#[derive(Clone, Debug, PartialEq)]
-pub enum DisplayUnit {
-    /// A unit fixed by an annotation or an input literal; `text` as written.
-    Fixed { unit: Unit, text: String },
-    /// Coherent SI with an engineering prefix chosen from the value.
-    Auto,
-}
+pub use crate::units::DisplayUnit;
 
 /// One evaluable item of the worksheet: an input, a computed value or a
 /// check.
@@ -72,12 +65,14 @@ pub struct Operand {
 }
 
 /// The checked and compiled worksheet.
-#[derive(Debug)]
+#[derive(Clone, Debug)]
 pub struct Checked {
     pub nodes: Vec<Node>,
     /// Topological order (every node after its dependencies).
     pub order: Vec<usize>,
     pub names: HashMap<String, usize>,
+    /// Cases, sweeps and finds.
+    pub whatif: crate::study::WhatIf,
 }
 
 /// Check and compile a parsed worksheet. `src` is the source the spans
@@ -111,14 +106,10 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
             StatementKind::Check { cond, description } => {
                 (NodeKind::Check, None, cond, None, description)
             }
-            StatementKind::Case { name, .. } => {
-                diags.push(not_supported_yet("`case`", name.span));
-                continue;
-            }
-            StatementKind::Sweep { input, .. } | StatementKind::Find { input, .. } => {
-                diags.push(not_supported_yet("`sweep` / `find`", input.span));
-                continue;
-            }
+            // Checked after the nodes (whatif_statements).
+            StatementKind::Case { .. }
+            | StatementKind::Sweep { .. }
+            | StatementKind::Find { .. } => continue,
             StatementKind::Use { path, .. } => {
                 diags.push(not_supported_yet("`use`", path.span));
                 continue;
@@ -245,16 +236,580 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
         nodes[i].code = code;
         nodes[i].display = display;
     }
+    let whatif = whatif_statements(&mut cx, ws, &nodes, &order);
     diags.extend(cx.diags);
     if diags.is_empty() {
         Ok(Checked {
             nodes,
             order,
             names,
+            whatif,
         })
     } else {
         diags.sort_by_key(|d| d.span().map_or(0, |s| s.start));
         Err(diags)
+    }
+}
+
+/// Check `case`, `sweep` and `find` statements against the checked nodes
+/// (DESIGN §2): a case and a sweep set only inputs, with values of the
+/// input's quantity; a find solves an input for a condition of one
+/// dimension, and the input it solves cannot be set otherwise.
+fn whatif_statements(
+    cx: &mut Cx,
+    ws: &Worksheet,
+    nodes: &[Node],
+    order: &[usize],
+) -> crate::study::WhatIf {
+    use crate::study::{self as whatif, CaseDef, CaseSetting, FindDef, SweepDef};
+    use sheaf_grammar::SweepPoints;
+    let mut out = whatif::WhatIf::default();
+    let n = nodes.len();
+    // Transitive dependencies, by node (bit sets would do; worksheets with
+    // finds are small).
+    let upstream_of = |start: &[usize]| -> Vec<bool> {
+        let mut seen = vec![false; n];
+        let mut stack = start.to_vec();
+        while let Some(i) = stack.pop() {
+            if !seen[i] {
+                seen[i] = true;
+                stack.extend(nodes[i].deps.iter().copied());
+            }
+        }
+        seen
+    };
+
+    // Finds first: cases and sweeps must not set their inputs.
+    let mut finds: Vec<FindDef> = Vec::new();
+    let mut find_up: Vec<Vec<bool>> = Vec::new();
+    let mut find_spans: Vec<Span> = Vec::new();
+    for stmt in &ws.statements {
+        let StatementKind::Find {
+            input,
+            low,
+            high,
+            left,
+            eq_span: _,
+            right,
+            description,
+        } = &stmt.kind
+        else {
+            continue;
+        };
+        let Some((x, want)) = cx.input_for(input, nodes, "a `find`") else {
+            continue;
+        };
+        if let Some(k) = finds.iter().position(|f| f.input == x) {
+            cx.diags.push(
+                Diagnostic::error(
+                    format!("`{}` is solved by two `find`s", input.name),
+                    input.span,
+                )
+                .with_secondary(find_spans[k], "first solved here")
+                .with_note("help: one `find` per input"),
+            );
+            continue;
+        }
+        let lo = cx.constant_of(low, want, &input.name, "the bracket");
+        let hi = cx.constant_of(high, want, &input.name, "the bracket");
+        let (lt, lc) = cx.expr(left);
+        let (rt, rc) = cx.expr(right);
+        let dim = match (lt, rt) {
+            (Ty::Error, _) | (_, Ty::Error) => continue,
+            (Ty::Num(a), Ty::Num(b)) if a.dim == b.dim => {
+                if matches!(
+                    (a.aff, b.aff),
+                    (Affinity::Absolute, Affinity::Difference)
+                        | (Affinity::Difference, Affinity::Absolute)
+                ) {
+                    cx.diags.push(
+                        Diagnostic::error(
+                            "the two sides of `where` mix an absolute value with a difference",
+                            right.span,
+                        )
+                        .with_secondary(left.span, cx.side(left, a)),
+                    );
+                    continue;
+                }
+                a.dim
+            }
+            (Ty::Num(a), Ty::Num(b)) => {
+                cx.diags.push(
+                    Diagnostic::error(
+                        format!(
+                            "the two sides of `where` must be one quantity: the left is {}, the right is {}",
+                            cx.side(left, a),
+                            cx.side(right, b)
+                        ),
+                        right.span,
+                    )
+                    .with_secondary(left.span, cx.side(left, a)),
+                );
+                continue;
+            }
+            (a, b) => {
+                let (bad, ty) = if matches!(a, Ty::Num(_)) {
+                    (right, b)
+                } else {
+                    (left, a)
+                };
+                cx.diags.push(Diagnostic::error(
+                    format!(
+                        "the two sides of `where` must be numbers, but this is {}",
+                        ty.describe()
+                    ),
+                    bad.span,
+                ));
+                continue;
+            }
+        };
+        let (Some(lo), Some(hi)) = (lo, hi) else {
+            continue;
+        };
+        if lo == hi {
+            cx.diags.push(Diagnostic::error(
+                "the bracket of a `find` needs two different ends",
+                low.span.join(high.span),
+            ));
+            continue;
+        }
+        let side_display = cx.comparison_display(&[left, right]);
+        let mut refs = Vec::new();
+        collect_names(left, &mut refs);
+        collect_names(right, &mut refs);
+        let direct: Vec<usize> = refs
+            .iter()
+            .filter_map(|(name, _)| cx.names.get(*name).copied())
+            .collect();
+        let up = upstream_of(&direct);
+        if !up[x] {
+            cx.diags.push(
+                Diagnostic::error(
+                    format!(
+                        "the condition of this `find` does not depend on `{}`",
+                        input.name
+                    ),
+                    left.span.join(right.span),
+                )
+                .with_secondary(input.span, "the input to solve for")
+                .with_note("help: the condition must change when the input changes"),
+            );
+            continue;
+        }
+        let mut plan = vec![x];
+        plan.extend(order.iter().copied().filter(|&i| up[i] && i != x));
+        let depends_on: Vec<usize> = (0..n)
+            .filter(|&i| up[i] && i != x && nodes[i].kind == NodeKind::Input)
+            .collect();
+        let condition_span = left.span.join(right.span);
+        find_up.push(up);
+        find_spans.push(input.span);
+        finds.push(FindDef {
+            input: x,
+            input_name: input.name.clone(),
+            span: input.span,
+            condition: condition_span.slice(cx.src).to_string(),
+            condition_span,
+            description: description.as_ref().map(|d| d.value.clone()),
+            low: lo,
+            high: hi,
+            left: lc,
+            right: rc,
+            dim,
+            side_display,
+            input_display: cx.display_of[x].clone(),
+            input_dim: want.dim,
+            plan,
+            depends_on,
+        });
+    }
+    // Solving order: a find whose condition uses another's input after it.
+    let fdeps: Vec<Vec<usize>> = (0..finds.len())
+        .map(|a| {
+            (0..finds.len())
+                .filter(|&b| b != a && find_up[a][finds[b].input])
+                .collect()
+        })
+        .collect();
+    match graph::topo_order(&fdeps) {
+        Ok(o) => {
+            let mut slots: Vec<Option<FindDef>> = finds.into_iter().map(Some).collect();
+            out.finds = o.into_iter().filter_map(|k| slots[k].take()).collect();
+        }
+        Err(cycle) => {
+            let names: Vec<String> = cycle
+                .iter()
+                .map(|&k| format!("`{}`", finds[k].input_name))
+                .collect();
+            let mut d = Diagnostic::error(
+                format!(
+                    "these `find`s depend on each other ({}): each condition uses an input another one solves",
+                    names.join(", ")
+                ),
+                finds[cycle[0]].span,
+            );
+            for &k in &cycle[1..] {
+                d = d.with_secondary(finds[k].span, "solved here");
+            }
+            cx.diags.push(d.with_note(
+                "help: solving several finds together (a simultaneous solve) is not supported yet and may come later; make one of them an input",
+            ));
+        }
+    }
+    let solved_by =
+        |x: usize, out: &whatif::WhatIf| out.finds.iter().find(|f| f.input == x).map(|f| f.span);
+
+    for stmt in &ws.statements {
+        match &stmt.kind {
+            StatementKind::Case {
+                name,
+                settings,
+                description,
+            } => {
+                if let Some(prev) = out.cases.iter().find(|c| c.name == name.name) {
+                    cx.diags.push(
+                        Diagnostic::error(
+                            format!("case `{}` is defined twice", name.name),
+                            name.span,
+                        )
+                        .with_secondary(prev.span, "first defined here"),
+                    );
+                    continue;
+                }
+                if name.name == "base" {
+                    cx.diags.push(Diagnostic::error(
+                        "`base` is the worksheet as written; name the case otherwise",
+                        name.span,
+                    ));
+                    continue;
+                }
+                let mut case = CaseDef {
+                    name: name.name.clone(),
+                    span: name.span,
+                    description: description.as_ref().map(|d| d.value.clone()),
+                    settings: Vec::new(),
+                };
+                for s in settings {
+                    let Some((x, want)) = cx.input_for(&s.input, nodes, "a case") else {
+                        continue;
+                    };
+                    if let Some(fs) = solved_by(x, &out) {
+                        cx.diags.push(found_set_error(&s.input, fs, "a case"));
+                        continue;
+                    }
+                    if case.settings.iter().any(|c| c.input == x) {
+                        cx.diags.push(Diagnostic::error(
+                            format!("case `{}` sets `{}` twice", name.name, s.input.name),
+                            s.span,
+                        ));
+                        continue;
+                    }
+                    if let Some(v) = cx.constant_of(&s.value, want, &s.input.name, "a case value") {
+                        case.settings.push(CaseSetting {
+                            input: x,
+                            si_value: v,
+                            text: s.value.span.slice(cx.src).trim().to_string(),
+                            span: s.span,
+                        });
+                    }
+                }
+                out.cases.push(case);
+            }
+            StatementKind::Sweep {
+                input,
+                points,
+                show,
+                description,
+            } => {
+                let Some((x, want)) = cx.input_for(input, nodes, "a sweep") else {
+                    continue;
+                };
+                if let Some(fs) = solved_by(x, &out) {
+                    cx.diags.push(found_set_error(input, fs, "a sweep"));
+                    continue;
+                }
+                let name = input.name.as_str();
+                let pts = match points {
+                    SweepPoints::Step { from, to, step } => {
+                        let a = cx.constant_of(from, want, name, "a sweep value");
+                        let b = cx.constant_of(to, want, name, "a sweep value");
+                        let d = cx.step_of(step, want, name);
+                        match (a, b, d) {
+                            (Some(a), Some(b), Some(d)) => whatif::step_points(a, b, d)
+                                .map_err(|m| (m, from.span.join(step.span))),
+                            _ => continue,
+                        }
+                    }
+                    SweepPoints::Count { from, to, count } => {
+                        let a = cx.constant_of(from, want, name, "a sweep value");
+                        let b = cx.constant_of(to, want, name, "a sweep value");
+                        let c = cx.constant_of(count, QTy::DIMENSIONLESS, "count", "the count");
+                        match (a, b, c) {
+                            (Some(a), Some(b), Some(c)) if c.fract() == 0.0 && c >= 0.0 => {
+                                whatif::count_points(a, b, c as usize).map_err(|m| (m, count.span))
+                            }
+                            (Some(_), Some(_), Some(_)) => Err((
+                                "`count` must be a whole number of points".to_string(),
+                                count.span,
+                            )),
+                            _ => continue,
+                        }
+                    }
+                    SweepPoints::Over(list) => {
+                        let vals: Vec<Option<f64>> = list
+                            .iter()
+                            .map(|e| cx.constant_of(e, want, name, "a sweep value"))
+                            .collect();
+                        match vals.into_iter().collect::<Option<Vec<f64>>>() {
+                            Some(v) => Ok(v),
+                            None => continue,
+                        }
+                    }
+                };
+                let pts = match pts {
+                    Ok(p) => p,
+                    Err((m, span)) => {
+                        cx.diags
+                            .push(Diagnostic::error(format!("sweep of `{name}`: {m}"), span));
+                        continue;
+                    }
+                };
+                let mut cols = Vec::new();
+                for target in show {
+                    if let Some(c) = cx.show_column(target, nodes) {
+                        cols.push(c);
+                    }
+                }
+                if cols.len() != show.len() {
+                    continue;
+                }
+                out.sweeps.push(SweepDef {
+                    input: x,
+                    span: input.span,
+                    description: description.as_ref().map(|d| d.value.clone()),
+                    points: pts,
+                    show: cols,
+                });
+            }
+            _ => {}
+        }
+    }
+    out
+}
+
+fn found_set_error(input: &Ident, find_span: Span, what: &str) -> Diagnostic {
+    Diagnostic::error(
+        format!(
+            "`{}` is solved by a `find`, so {what} cannot set it",
+            input.name
+        ),
+        input.span,
+    )
+    .with_secondary(find_span, "solved here")
+    .with_note("help: remove the `find`, or set another input")
+}
+
+impl Cx<'_> {
+    /// The input named by a case, sweep or find: its node and quantity
+    /// (located errors otherwise).
+    fn input_for(&mut self, id: &Ident, nodes: &[Node], what: &str) -> Option<(usize, QTy)> {
+        let Some(&i) = self.names.get(&id.name) else {
+            let d = unknown_name(&id.name, id.span, &name_suggester(self.names));
+            self.diags.push(d);
+            return None;
+        };
+        if nodes[i].kind != NodeKind::Input {
+            let def = nodes[i]
+                .name
+                .as_ref()
+                .map_or(nodes[i].expr_span, |n| n.span);
+            self.diags.push(
+                Diagnostic::error(
+                    format!(
+                        "`{}` is computed, not an input; {what} can only set inputs",
+                        id.name
+                    ),
+                    id.span,
+                )
+                .with_secondary(def, "defined here by a formula")
+                .with_note("help: set one of the inputs it is computed from"),
+            );
+            return None;
+        }
+        match self.types[i] {
+            Ty::Num(q) => Some((i, q)),
+            Ty::Error => None,
+            t => {
+                self.diags.push(Diagnostic::error(
+                    format!(
+                        "input `{}` is {}; {what} can only set numbers",
+                        id.name,
+                        t.describe()
+                    ),
+                    id.span,
+                ));
+                None
+            }
+        }
+    }
+
+    /// A constant of the quantity `want` (dimension-checked like `--set`).
+    fn constant_of(&mut self, e: &Expr, want: QTy, name: &str, what: &str) -> Option<f64> {
+        let (ty, code) = self.expr(e);
+        let got = match ty {
+            Ty::Error => return None,
+            Ty::Num(q) => q,
+            t => {
+                self.diags.push(Diagnostic::error(
+                    format!("{what} must be a number, but this is {}", t.describe()),
+                    e.span,
+                ));
+                return None;
+            }
+        };
+        let clash = got.dim != want.dim
+            || matches!(
+                (want.aff, got.aff),
+                (Affinity::Absolute, Affinity::Difference)
+                    | (Affinity::Difference, Affinity::Absolute)
+            );
+        if clash {
+            let msg = if want.dim.is_none() && name == "count" {
+                format!(
+                    "{what} must be a plain number, but this is {}",
+                    self.side(e, got)
+                )
+            } else {
+                format!(
+                    "`{name}` is {}, but {what} here is {}",
+                    describe_qty(want),
+                    self.side(e, got)
+                )
+            };
+            self.diags.push(Diagnostic::error(msg, e.span));
+            return None;
+        }
+        match const_value(&code) {
+            Some(v) if v.is_finite() => Some(v),
+            _ => {
+                self.diags.push(
+                    Diagnostic::error(
+                        format!("{what} must be a constant (a number with its unit)"),
+                        e.span,
+                    )
+                    .with_note(
+                        "help: cases, sweeps and brackets cannot use other names of the worksheet",
+                    ),
+                );
+                None
+            }
+        }
+    }
+
+    /// The step of a sweep: a constant of the input's dimension, never
+    /// absolute (`5 degC` as a step would be 278.15 K).
+    fn step_of(&mut self, e: &Expr, want: QTy, name: &str) -> Option<f64> {
+        let (ty, code) = self.expr(e);
+        let got = match ty {
+            Ty::Error => return None,
+            Ty::Num(q) => q,
+            t => {
+                self.diags.push(Diagnostic::error(
+                    format!("the step must be a number, but this is {}", t.describe()),
+                    e.span,
+                ));
+                return None;
+            }
+        };
+        if got.dim != want.dim {
+            let msg = format!(
+                "the step of `{name}` must be {}, but this is {}",
+                units::quantity_name(want.dim),
+                self.side(e, got)
+            );
+            self.diags.push(Diagnostic::error(msg, e.span));
+            return None;
+        }
+        if got.aff == Affinity::Absolute {
+            self.diags.push(
+                Diagnostic::error(
+                    "the step is a difference, but this is written in an absolute (offset) unit",
+                    e.span,
+                )
+                .with_note("help: write a temperature step in K or delta_degC, a pressure step in bar or kPa"),
+            );
+            return None;
+        }
+        match const_value(&code) {
+            Some(v) if v.is_finite() => Some(v),
+            _ => {
+                self.diags.push(Diagnostic::error(
+                    "the step must be a constant (a number with its unit)",
+                    e.span,
+                ));
+                None
+            }
+        }
+    }
+
+    /// A shown column of a sweep: a number, or `state.field`.
+    fn show_column(&mut self, target: &Ident, nodes: &[Node]) -> Option<crate::study::ShowColumn> {
+        let (base, field) = match target.name.split_once('.') {
+            Some((b, f)) => (b, Some(f)),
+            None => (target.name.as_str(), None),
+        };
+        let Some(&i) = self.names.get(base) else {
+            let d = unknown_name(base, target.span, &name_suggester(self.names));
+            self.diags.push(d);
+            return None;
+        };
+        let _ = nodes;
+        match (self.types[i], field) {
+            (Ty::Num(q), None) => Some(crate::study::ShowColumn {
+                name: target.name.clone(),
+                node: i,
+                field: None,
+                dim: q.dim,
+                display: self.display_of[i].clone(),
+            }),
+            (Ty::State(k), Some(f)) => match Field::from_name(f) {
+                Some(fld) if k.has_field(fld) => {
+                    let dim = match field_type(fld) {
+                        Ty::Num(q) => q.dim,
+                        _ => Dim::NONE,
+                    };
+                    Some(crate::study::ShowColumn {
+                        name: target.name.clone(),
+                        node: i,
+                        field: Some(fld),
+                        dim,
+                        display: DisplayUnit::Auto,
+                    })
+                }
+                _ => {
+                    self.diags.push(Diagnostic::error(
+                        format!("`{}` has no field `.{f}` to show", base),
+                        target.span,
+                    ));
+                    None
+                }
+            },
+            (Ty::Error, _) => None,
+            (t, _) => {
+                self.diags.push(
+                    Diagnostic::error(
+                        format!(
+                            "a sweep shows numbers, but `{}` is {}",
+                            target.name,
+                            t.describe()
+                        ),
+                        target.span,
+                    )
+                    .with_note("help: show a number, or a field of a state such as `st2.T`"),
+                );
+                None
+            }
+        }
     }
 }
 

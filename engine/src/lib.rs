@@ -17,11 +17,13 @@ pub mod fields;
 pub(crate) mod graph;
 pub mod model;
 pub mod report;
+pub mod study;
 mod suggest;
 pub mod thermo;
 pub mod types;
 pub mod units;
 pub mod value;
+pub mod whatif;
 pub mod xlsx;
 
 pub use calc::{CalcError, Calculated, Evaluated, Reading, evaluate_expression};

@@ -54,21 +54,25 @@ pub struct Override {
 }
 
 /// A checked and compiled worksheet with its current values.
-#[derive(Debug)]
+#[derive(Clone, Debug)]
 pub struct Model {
     source: String,
     worksheet: Worksheet,
-    checked: Checked,
-    users: Vec<Vec<usize>>,
-    values: Vec<Value>,
-    status: Vec<Status>,
+    pub(crate) checked: Checked,
+    pub(crate) users: Vec<Vec<usize>>,
+    pub(crate) values: Vec<Value>,
+    pub(crate) status: Vec<Status>,
     warnings: Vec<Vec<Diagnostic>>,
     /// For each check: the values of its comparisons' operands (SI), kept
     /// for reports (actual value and limit).
     operand_values: Vec<Vec<Option<f64>>>,
     /// Inputs whose value is not the worksheet's own.
-    overrides: Vec<Option<Override>>,
-    dirty: Vec<bool>,
+    pub(crate) overrides: Vec<Option<Override>>,
+    pub(crate) dirty: Vec<bool>,
+    /// Inputs solved by a `find`: how (see [`crate::whatif`]).
+    pub(crate) found: Vec<Option<crate::study::Found>>,
+    /// An input changed since the finds were last solved.
+    pub(crate) finds_dirty: bool,
 }
 
 /// A parsed worksheet, not yet checked: the caller may read the external
@@ -131,6 +135,8 @@ impl Model {
             operand_values: vec![Vec::new(); n],
             overrides: vec![None; n],
             dirty: vec![true; n],
+            found: vec![None; n],
+            finds_dirty: true,
         })
     }
 
@@ -184,63 +190,70 @@ impl Model {
     }
 
     /// Evaluate everything not yet evaluated or affected by a change since
-    /// the last evaluation. Returns how many nodes were evaluated.
+    /// the last evaluation; `find`s are solved first when an input
+    /// changed. Returns how many nodes were evaluated (outside the finds).
     pub fn evaluate(&mut self) -> usize {
+        self.solve_finds();
         let mut count = 0;
         for k in 0..self.checked.order.len() {
             let i = self.checked.order[k];
-            if !self.dirty[i] {
-                continue;
+            if self.dirty[i] && self.eval_node(i) {
+                count += 1;
             }
-            self.dirty[i] = false;
-            self.warnings[i].clear();
-            let node = &self.checked.nodes[i];
-            if node
-                .deps
-                .iter()
-                .any(|&d| !matches!(self.status[d], Status::Ok))
-            {
-                self.status[i] = Status::Skipped;
-                self.values[i] = Value::Absent;
-                continue;
-            }
-            count += 1;
-            let mut w = Vec::new();
-            let result =
-                eval::eval(&node.code, &self.values, node.expr_span, &mut w).and_then(|v| {
-                    match physical(node, &v) {
-                        Ok(()) => Ok(v),
-                        Err(message) => Err(eval::EvalError {
-                            span: node.expr_span,
-                            message,
-                        }),
-                    }
-                });
-            match result {
-                Ok(v) => {
-                    self.values[i] = v;
-                    self.status[i] = Status::Ok;
-                    if !node.operands.is_empty() {
-                        self.operand_values[i] = node
-                            .operands
-                            .iter()
-                            .map(|o| {
-                                eval::eval(&o.code, &self.values, o.span, &mut Vec::new())
-                                    .ok()
-                                    .and_then(|v| v.as_num())
-                            })
-                            .collect();
-                    }
-                }
-                Err(e) => {
-                    self.values[i] = Value::Absent;
-                    self.status[i] = Status::Failed(runtime_diagnostic(node, e.span, &e.message));
-                }
-            }
-            w.dedup();
-            self.warnings[i] = w;
         }
         count
+    }
+
+    /// Evaluate node `i` (its dependencies evaluated); false when it was
+    /// skipped because a dependency failed.
+    pub(crate) fn eval_node(&mut self, i: usize) -> bool {
+        self.dirty[i] = false;
+        self.warnings[i].clear();
+        let node = &self.checked.nodes[i];
+        if node
+            .deps
+            .iter()
+            .any(|&d| !matches!(self.status[d], Status::Ok))
+        {
+            self.status[i] = Status::Skipped;
+            self.values[i] = Value::Absent;
+            return false;
+        }
+        let mut w = Vec::new();
+        let result =
+            eval::eval(&node.code, &self.values, node.expr_span, &mut w).and_then(
+                |v| match physical(node, &v) {
+                    Ok(()) => Ok(v),
+                    Err(message) => Err(eval::EvalError {
+                        span: node.expr_span,
+                        message,
+                    }),
+                },
+            );
+        match result {
+            Ok(v) => {
+                self.values[i] = v;
+                self.status[i] = Status::Ok;
+                if !node.operands.is_empty() {
+                    self.operand_values[i] = node
+                        .operands
+                        .iter()
+                        .map(|o| {
+                            eval::eval(&o.code, &self.values, o.span, &mut Vec::new())
+                                .ok()
+                                .and_then(|v| v.as_num())
+                        })
+                        .collect();
+                }
+            }
+            Err(e) => {
+                self.values[i] = Value::Absent;
+                self.status[i] = Status::Failed(runtime_diagnostic(node, e.span, &e.message));
+            }
+        }
+        w.dedup();
+        self.warnings[i] = w;
+        true
     }
 
     /// Replace an input's value (SI) and mark what depends on it for
@@ -270,9 +283,22 @@ impl Model {
         if !si_value.is_finite() {
             return Err(format!("input `{name}`: the value must be a finite number"));
         }
+        if let Some(f) = self.find_of(i) {
+            return Err(format!(
+                "input `{name}` is solved by `find {name} ... where {}`; it cannot be set",
+                f.condition
+            ));
+        }
+        self.set_input_node(i, si_value);
+        Ok(())
+    }
+
+    /// Set input node `i` to an SI value (checked by the caller) and mark
+    /// what depends on it, finds included.
+    pub(crate) fn set_input_node(&mut self, i: usize, si_value: f64) {
         self.checked.nodes[i].code = Code::Const(si_value);
         graph::mark_downstream(&self.users, i, &mut self.dirty);
-        Ok(())
+        self.finds_dirty = true;
     }
 
     /// Replace an input's value from text such as `8 barg`, checked against

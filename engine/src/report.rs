@@ -88,11 +88,26 @@ pub struct QuantityRow {
     pub boolean: Option<bool>,
     /// An input whose value is not the worksheet's: where it came from.
     pub overridden: Option<String>,
+    /// An input solved by a `find`: how.
+    pub found: Option<FoundRow>,
     /// Why there is no value ("not evaluated: ..."), if so.
     pub problem: Option<String>,
     /// States and substances: their fields as `name.field` rows.
     pub fields: Vec<QuantityRow>,
     pub node: usize,
+}
+
+/// How a `find` found an input: bracket (SI and as shown), steps,
+/// residual (LEFT − RIGHT, SI) and the condition as written.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct FoundRow {
+    pub low: f64,
+    pub high: f64,
+    pub low_shown: f64,
+    pub high_shown: f64,
+    pub iterations: usize,
+    pub residual: f64,
+    pub condition: String,
 }
 
 #[derive(Clone, Debug, Serialize)]
@@ -178,6 +193,7 @@ fn number_row(
         text: None,
         boolean: None,
         overridden: None,
+        found: None,
         problem: None,
         fields: Vec::new(),
         node,
@@ -397,6 +413,18 @@ impl Model {
         row.description = node.description.clone();
         row.problem = problem;
         row.overridden = self.override_of(i).map(|o| o.source.to_string());
+        if let Some(f) = self.find_of(i) {
+            row.kind = "found";
+            row.found = self.found(i).map(|fd| FoundRow {
+                low: fd.low,
+                high: fd.high,
+                low_shown: shown(&node.display, f.input_dim, fd.low).0,
+                high_shown: shown(&node.display, f.input_dim, fd.high).0,
+                iterations: fd.iterations,
+                residual: fd.residual,
+                condition: f.condition.clone(),
+            });
+        }
         row
     }
 

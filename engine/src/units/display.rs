@@ -146,3 +146,12 @@ pub fn auto_display(dim: Dim, si: f64) -> (f64, String) {
 pub(crate) fn known_dims() -> impl Iterator<Item = Dim> {
     KNOWN.iter().map(|q| q.dim)
 }
+
+/// How a node's value is shown.
+#[derive(Clone, Debug, PartialEq)]
+pub enum DisplayUnit {
+    /// A unit fixed by an annotation or an input literal; `text` as written.
+    Fixed { unit: super::Unit, text: String },
+    /// Coherent SI with an engineering prefix chosen from the value.
+    Auto,
+}

@@ -26,7 +26,7 @@ mod table;
 #[cfg(test)]
 mod tests;
 
-pub use display::{auto_display, quantity_name, si_unit};
+pub use display::{DisplayUnit, auto_display, quantity_name, si_unit};
 pub use format::format_sig;
 
 /// Number of base quantities: length, mass, time, temperature, amount,

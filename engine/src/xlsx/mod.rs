@@ -8,6 +8,7 @@
 pub mod formula;
 pub mod names;
 pub mod reader;
+mod whatif_sheets;
 mod writer;
 
 use sha2::{Digest, Sha256};

@@ -10,6 +10,7 @@ use rust_xlsxwriter::{
 
 use super::formula::{self, Env, Ex, Own, SubSym};
 use super::names::{self, NameKind};
+use super::whatif_sheets::add_whatif_sheets;
 use super::{PackageInfo, XlsxError, shown};
 use crate::check::{DisplayUnit, NodeKind};
 use crate::eval::{Code, Value};
@@ -865,6 +866,7 @@ fn package_bytes(model: &Model, info: &PackageInfo) -> Result<Vec<u8>, rust_xlsx
     wb.push_worksheet(cover);
     wb.push_worksheet(calc);
     wb.push_worksheet(data);
+    add_whatif_sheets(&mut wb, model)?;
     for (n, target) in &defined {
         wb.define_name(n, target)?;
     }
