@@ -152,7 +152,7 @@ pub fn step_points(a: f64, b: f64, d: f64) -> Result<Vec<f64>, String> {
     }
     let span = (b - a) / d;
     let n = (span + 1e-9).floor();
-    if !(n < MAX_POINTS as f64) {
+    if n.is_nan() || n >= MAX_POINTS as f64 {
         return Err(format!(
             "{} points; a sweep has at most {MAX_POINTS}",
             n + 1.0
