@@ -63,9 +63,7 @@ pub fn line_col(src: &str, offset: usize) -> (usize, usize) {
 /// Parses a whole worksheet. Every bad statement (logical line) yields one
 /// error; all of them are returned, in source order.
 pub fn parse(src: &str) -> Result<Worksheet, Vec<ParseError>> {
-    parser::parse_lines(src).map(|lines| Worksheet {
-        statements: lines.into_iter().map(|l| l.stmt).collect(),
-    })
+    parser::parse_statements(src).map(|statements| Worksheet { statements })
 }
 
 /// Parses one expression (for `sheaf eval "EXPR"`). Spans are offsets into

@@ -10,6 +10,8 @@
 //! So neither parsing, nor later recursive passes over the tree, nor dropping
 //! it, can recurse deeper than about `MAX_NESTING` levels.
 
+use std::borrow::Cow;
+
 use pest::Parser;
 use pest::error::{ErrorVariant, InputLocation};
 use pest::iterators::Pair;
@@ -81,14 +83,15 @@ struct Logical {
 }
 
 /// Returns the source with line continuations (`\` + line break) and a
-/// leading byte-order mark replaced by spaces (same byte offsets), and the
-/// logical lines.
-fn split_lines(src: &str) -> (String, Vec<Logical>) {
-    let mut bytes = src.as_bytes().to_vec();
-    if src.starts_with('\u{feff}') {
-        for b in bytes.iter_mut().take(3) {
-            *b = b' ';
-        }
+/// leading byte-order mark replaced by spaces (same byte offsets; borrowed
+/// when there is nothing to replace), and the logical lines.
+fn split_lines(src: &str) -> (Cow<'_, str>, Vec<Logical>) {
+    let bytes = src.as_bytes();
+    // Byte ranges to blank.
+    let mut blank: Vec<(usize, usize)> = Vec::new();
+    let bom = if src.starts_with('\u{feff}') { 3 } else { 0 };
+    if bom > 0 {
+        blank.push((0, bom));
     }
     // Physical lines: (start, content_end, next_start). A line ends at
     // LF, CR LF or a lone CR.
@@ -107,7 +110,8 @@ fn split_lines(src: &str) -> (String, Vec<Logical>) {
     let mut i = 0;
     while i < phys.len() {
         let (start, mut end, _) = phys[i];
-        let first = first_non_ws(&bytes[start..end]);
+        let skip = if i == 0 { bom.min(end) } else { 0 };
+        let first = first_non_ws(&bytes[start + skip..end]).map(|f| f + skip);
         let single = first.is_some_and(|f| {
             let rest = &bytes[start + f..end];
             rest.starts_with(b"//") || rest.starts_with(b"#") || rest.starts_with(b">")
@@ -126,18 +130,25 @@ fn split_lines(src: &str) -> (String, Vec<Logical>) {
                     break;
                 }
                 // Blank the `\`, trailing blanks and the line break.
-                for b in &mut bytes[ls + tlen - 1..next] {
-                    *b = b' ';
-                }
+                blank.push((ls + tlen - 1, next));
                 i += 1;
             }
         }
         lines.push(Logical { start, end });
         i += 1;
     }
+    if blank.is_empty() {
+        return (Cow::Borrowed(src), lines);
+    }
+    let mut copy = bytes.to_vec();
+    for (a, b) in blank {
+        for c in &mut copy[a..b] {
+            *c = b' ';
+        }
+    }
     // Only ASCII bytes (and a whole BOM) were replaced by ASCII spaces, so
     // the text is still valid UTF-8; fall back to the source just in case.
-    let norm = String::from_utf8(bytes).unwrap_or_else(|_| src.to_string());
+    let norm = String::from_utf8(copy).map_or(Cow::Borrowed(src), Cow::Owned);
     (norm, lines)
 }
 
@@ -177,13 +188,24 @@ fn comment_start(b: &[u8]) -> Option<usize> {
 
 // ------------------------------------------------------------------ entry points
 
-pub(crate) fn parse_lines(src: &str) -> Result<Vec<ParsedLine>, Vec<ParseError>> {
-    parse_lines_norm(src).map(|(_, lines)| lines)
+/// The statements of a worksheet (without what only the formatter needs,
+/// so that only one list of statements is ever held).
+pub(crate) fn parse_statements(src: &str) -> Result<Vec<Statement>, Vec<ParseError>> {
+    parse_lines_with(src, |l| l.stmt).map(|(_, lines)| lines)
 }
 
-/// Like [`parse_lines`], also returning the source with continuations
-/// blanked (same byte offsets), for the formatter.
-pub(crate) fn parse_lines_norm(src: &str) -> Result<(String, Vec<ParsedLine>), Vec<ParseError>> {
+/// The parsed lines and the source with continuations blanked (same byte
+/// offsets), for the formatter.
+pub(crate) fn parse_lines_norm(
+    src: &str,
+) -> Result<(Cow<'_, str>, Vec<ParsedLine>), Vec<ParseError>> {
+    parse_lines_with(src, |l| l)
+}
+
+fn parse_lines_with<T>(
+    src: &str,
+    keep: impl Fn(ParsedLine) -> T,
+) -> Result<(Cow<'_, str>, Vec<T>), Vec<ParseError>> {
     if src.len() > MAX_SOURCE_BYTES {
         let mut at = MAX_SOURCE_BYTES;
         while !src.is_char_boundary(at) {
@@ -204,7 +226,8 @@ pub(crate) fn parse_lines_norm(src: &str) -> Result<(String, Vec<ParsedLine>), V
     let mut errors = Vec::new();
     for l in lines {
         match parse_line(src, &norm, l) {
-            Ok(p) => out.push(p),
+            Ok(p) if errors.is_empty() => out.push(keep(p)),
+            Ok(_) => {}
             Err(e) => errors.push(e),
         }
     }
@@ -849,12 +872,16 @@ impl Builder<'_> {
                     }
                     let mut ends = ends.into_iter();
                     points = Some(match (ends.next(), ends.next(), last) {
-                        (Some(from), Some(to), Some((true, step))) => {
-                            SweepPoints::Step { from, to, step }
-                        }
-                        (Some(from), Some(to), Some((false, count))) => {
-                            SweepPoints::Count { from, to, count }
-                        }
+                        (Some(from), Some(to), Some((true, step))) => SweepPoints::Step {
+                            from: Box::new(from),
+                            to: Box::new(to),
+                            step: Box::new(step),
+                        },
+                        (Some(from), Some(to), Some((false, count))) => SweepPoints::Count {
+                            from: Box::new(from),
+                            to: Box::new(to),
+                            count: Box::new(count),
+                        },
                         _ => return Err(internal(rspan)),
                     });
                 }
@@ -899,11 +926,11 @@ impl Builder<'_> {
             (Some(input), Some(low), Some(high), Some(left), Some(eq_span), Some(right)) => {
                 Ok(StatementKind::Find {
                     input,
-                    low,
-                    high,
-                    left,
+                    low: Box::new(low),
+                    high: Box::new(high),
+                    left: Box::new(left),
                     eq_span,
-                    right,
+                    right: Box::new(right),
                     description,
                 })
             }
