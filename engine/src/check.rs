@@ -107,8 +107,12 @@ pub fn check(ws: &Worksheet, src: &str) -> Result<Checked, Vec<Diagnostic>> {
                 diags.push(not_supported_yet("`case`", name.span));
                 continue;
             }
-            StatementKind::Sweep { input, .. } | StatementKind::Find { input, .. } => {
-                diags.push(not_supported_yet("`sweep` / `find`", input.span));
+            StatementKind::Sweep { input, .. } => {
+                diags.push(not_supported_yet("`sweep`", input.span));
+                continue;
+            }
+            StatementKind::Find { input, .. } => {
+                diags.push(not_supported_yet("`find`", input.span));
                 continue;
             }
             StatementKind::Use { path, .. } => {
