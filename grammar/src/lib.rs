@@ -14,6 +14,12 @@ pub use ast::*;
 /// located error instead of exhausting the stack.
 pub const MAX_NESTING: usize = 256;
 
+/// Most operands of one left-associative chain (`a + b - c + ...`,
+/// `a * b / c`, `p and q and ...`). Interim: the grammar builds, formats
+/// and drops any chain without recursion, but the engine's checker and
+/// evaluator still recurse once per operand; raise this when they do not.
+pub const MAX_CHAIN_OPERANDS: usize = 1024;
+
 /// Largest worksheet accepted (64 MiB); a larger one is refused with an
 /// error located at the first byte past the limit.
 pub const MAX_SOURCE_BYTES: usize = 64 << 20;

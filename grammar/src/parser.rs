@@ -18,7 +18,9 @@ use pest::iterators::Pair;
 use pest_derive::Parser;
 
 use crate::ast::*;
-use crate::{MAX_NESTING, MAX_SOURCE_BYTES, MAX_STATEMENT_BYTES, ParseError, line_col};
+use crate::{
+    MAX_CHAIN_OPERANDS, MAX_NESTING, MAX_SOURCE_BYTES, MAX_STATEMENT_BYTES, ParseError, line_col,
+};
 
 #[derive(Parser)]
 #[grammar = "worksheet.pest"]
@@ -1051,6 +1053,9 @@ impl Builder<'_> {
     /// `a * b / c`, `p and q and r`) is one level however long it is.
     fn expr(&self, pair: Pair<'_, Rule>) -> Result<Node, ParseError> {
         let mut out: Vec<Node> = Vec::new();
+        // Beside each node on `out`: how many operands its left-associative
+        // chain has (1 for anything that is not a chain).
+        let mut chains: Vec<usize> = Vec::new();
         let mut ops: Vec<StackOp> = Vec::new();
         // `+` then `-` then a number (`0.78 +- 0.02`): start of the `+`.
         let mut last_add: Option<Span> = None;
@@ -1106,6 +1111,9 @@ impl Builder<'_> {
                         self.primary(p)?
                     }
                 };
+                if rule != Rule::field && rule != Rule::f_field {
+                    chains.push(1);
+                }
                 out.push(n);
                 last_add = None;
                 tolerance = None;
@@ -1139,7 +1147,7 @@ impl Builder<'_> {
             while let Some(top) = ops.last() {
                 let tp = top.prec();
                 if tp > prec || (tp == prec && !right_assoc) {
-                    self.reduce(&mut out, &mut ops)?;
+                    self.reduce(&mut out, &mut chains, &mut ops)?;
                 } else {
                     break;
                 }
@@ -1147,7 +1155,7 @@ impl Builder<'_> {
             ops.push(StackOp::Infix { op, span: sp });
         }
         while !ops.is_empty() {
-            self.reduce(&mut out, &mut ops)?;
+            self.reduce(&mut out, &mut chains, &mut ops)?;
         }
         match (out.pop(), out.is_empty()) {
             (Some(n), true) => Ok(n),
@@ -1199,7 +1207,12 @@ impl Builder<'_> {
         ))
     }
 
-    fn reduce(&self, out: &mut Vec<Node>, ops: &mut Vec<StackOp>) -> Result<(), ParseError> {
+    fn reduce(
+        &self,
+        out: &mut Vec<Node>,
+        chains: &mut Vec<usize>,
+        ops: &mut Vec<StackOp>,
+    ) -> Result<(), ParseError> {
         let Some(op) = ops.pop() else {
             return Err(internal(Span::default()));
         };
@@ -1220,6 +1233,9 @@ impl Builder<'_> {
                     Prefix::Neg => ExprKind::Neg(Box::new(e)),
                     Prefix::Not => ExprKind::Not(Box::new(e)),
                 };
+                if let Some(c) = chains.last_mut() {
+                    *c = 1;
+                }
                 let d = self.check_depth(d + 1, span)?;
                 out.push((Expr { kind, span: full }, d));
             }
@@ -1227,6 +1243,8 @@ impl Builder<'_> {
                 let (Some((r, rd)), Some((mut l, ld))) = (out.pop(), out.pop()) else {
                     return Err(internal(span));
                 };
+                chains.pop();
+                let left_len = chains.pop().unwrap_or(1);
                 let full = l.span.join(r.span);
                 if let (Infix::Cmp(cop), ExprKind::Compare { rest, .. }) = (op, &mut l.kind) {
                     // A chain `a < b <= c`: one more link.
@@ -1238,9 +1256,30 @@ impl Builder<'_> {
                     l.span = full;
                     let d = self.check_depth(ld.max(rd + 1), span)?;
                     out.push((l, d));
+                    chains.push(1);
                     return Ok(());
                 }
-                let ld = if continues_chain(&l, op) { ld } else { ld + 1 };
+                let chain = continues_chain(&l, op);
+                let len = if chain { left_len + 1 } else { 2 };
+                if len > MAX_CHAIN_OPERANDS {
+                    return Err(ParseError {
+                        span,
+                        message: format!(
+                            "more than {MAX_CHAIN_OPERANDS} operands joined by `{}` and operators like it in one chain; split it into named intermediate values",
+                            match op {
+                                Infix::Bin(b) => b.symbol(),
+                                Infix::Logic(l) => l.keyword(),
+                                Infix::Cmp(c) => c.symbol(),
+                            }
+                        ),
+                    });
+                }
+                chains.push(if matches!(op, Infix::Bin(BinOp::Pow)) {
+                    1
+                } else {
+                    len
+                });
+                let ld = if chain { ld } else { ld + 1 };
                 let d = self.check_depth(ld.max(rd + 1), span)?;
                 let (l, r) = (Box::new(l), Box::new(r));
                 let kind = match op {
