@@ -96,14 +96,15 @@ pub enum StatementKind {
         description: Option<StringLit>,
     },
     /// `find INPUT in LOW .. HIGH where LEFT = RIGHT ["description"]`
+    /// (expressions boxed to keep every statement small).
     Find {
         input: Ident,
-        low: Expr,
-        high: Expr,
-        left: Expr,
+        low: Box<Expr>,
+        high: Box<Expr>,
+        left: Box<Expr>,
         /// Span of the `=` between `left` and `right`.
         eq_span: Span,
-        right: Expr,
+        right: Box<Expr>,
         description: Option<StringLit>,
     },
     /// `use "OTHER.sheaf" as PREFIX`
@@ -127,13 +128,22 @@ pub struct CaseSetting {
     pub span: Span,
 }
 
-/// The points of a `sweep`.
+/// The points of a `sweep` (expressions boxed to keep every statement
+/// small).
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub enum SweepPoints {
     /// `from A to B step D`
-    Step { from: Expr, to: Expr, step: Expr },
+    Step {
+        from: Box<Expr>,
+        to: Box<Expr>,
+        step: Box<Expr>,
+    },
     /// `from A to B count N`
-    Count { from: Expr, to: Expr, count: Expr },
+    Count {
+        from: Box<Expr>,
+        to: Box<Expr>,
+        count: Box<Expr>,
+    },
     /// `over A, B, C`
     Over(Vec<Expr>),
 }

@@ -14,6 +14,12 @@ pub use ast::*;
 /// located error instead of exhausting the stack.
 pub const MAX_NESTING: usize = 256;
 
+/// Most operands of one left-associative chain (`a + b - c + ...`,
+/// `a * b / c`, `p and q and ...`). Interim: the grammar builds, formats
+/// and drops any chain without recursion, but the engine's checker and
+/// evaluator still recurse once per operand; raise this when they do not.
+pub const MAX_CHAIN_OPERANDS: usize = 1024;
+
 /// Largest worksheet accepted (64 MiB); a larger one is refused with an
 /// error located at the first byte past the limit.
 pub const MAX_SOURCE_BYTES: usize = 64 << 20;
@@ -63,9 +69,7 @@ pub fn line_col(src: &str, offset: usize) -> (usize, usize) {
 /// Parses a whole worksheet. Every bad statement (logical line) yields one
 /// error; all of them are returned, in source order.
 pub fn parse(src: &str) -> Result<Worksheet, Vec<ParseError>> {
-    parser::parse_lines(src).map(|lines| Worksheet {
-        statements: lines.into_iter().map(|l| l.stmt).collect(),
-    })
+    parser::parse_statements(src).map(|statements| Worksheet { statements })
 }
 
 /// Parses one expression (for `sheaf eval "EXPR"`). Spans are offsets into

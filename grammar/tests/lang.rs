@@ -572,7 +572,7 @@ fn size_limits() {
     assert_eq!(line_col(&src, errs[0].span.start), (2, 1));
     assert!(parse_expr(&"1+".repeat(MAX_STATEMENT_BYTES)).is_err());
     // A statement just under it is fine.
-    let src = format!("x = a{}\n", " + a".repeat(MAX_STATEMENT_BYTES / 4 - 2));
+    let src = format!("x = 1 \"{}\"\n", "d".repeat(MAX_STATEMENT_BYTES - 8));
     assert!(parse(&src).is_ok());
     // A worksheet over the limit is refused before any work.
     let line = format!("// {}\n", "c".repeat(1000));
@@ -652,7 +652,7 @@ fn formatter_keeps_continuation_lines() {
 
 #[test]
 fn formatter_handles_long_chains_and_else_if() {
-    let src = format!("x = a{}\n", " + a".repeat(50_000));
+    let src = format!("x = a{}\n", " + a".repeat(MAX_CHAIN_OPERANDS - 1));
     assert_eq!(fmt2(&src), src);
     let src = "y = if p then 1 else if q then 2 else 3\n";
     assert_eq!(fmt2(src), src);

@@ -1,7 +1,7 @@
 //! Deeply nested input must give one clean error, never a stack overflow.
 //! `cargo test` runs each test on a 2 MiB thread, which is part of the point.
 
-use sheaf_grammar::{MAX_NESTING, parse, parse_expr, parse_unit};
+use sheaf_grammar::{MAX_CHAIN_OPERANDS, MAX_NESTING, Span, parse, parse_expr, parse_unit};
 
 const MSG: &str =
     "expression nested too deeply (more than 256 levels); split it into named intermediate values";
@@ -38,35 +38,71 @@ fn ten_thousand_unary_minus() {
 
 #[test]
 fn long_flat_chains_are_not_nesting() {
-    // A chain of one operator family is one level, however long; the
-    // tree is as deep as the chain, so building, formatting and dropping it
-    // must not recurse per operand (this runs on a 2 MiB test thread).
-    for (op, n) in [
-        ("+", 100_000),
-        ("-", 1_000),
-        ("*", 10_000),
-        ("/", 258),
-        (" and ", 10_000),
-    ] {
+    // A chain of one operator family is one level, however long (up to
+    // MAX_CHAIN_OPERANDS operands, an interim limit for the engine's sake).
+    let n = MAX_CHAIN_OPERANDS - 1;
+    for op in ["+", "-", "*", "/", " and ", " or "] {
         let src = format!("x = a{}", format!("{op}a").repeat(n));
         let w = parse(&src).unwrap_or_else(|e| panic!("{op}: {:?}", &e[..1]));
         assert_eq!(w.statements.len(), 1);
-        let out = sheaf_grammar::format(&src).unwrap_or_else(|e| panic!("{op}: {:?}", &e[..1]));
-        assert_eq!(
-            out.len(),
-            src.len() + 2 * n + 1 - if op == " and " { 2 * n } else { 0 }
-        );
-        drop(w);
+        sheaf_grammar::format(&src).unwrap_or_else(|e| panic!("{op}: {:?}", &e[..1]));
     }
     let src = format!(
         "x = a1{}",
         (2..=1000).map(|i| format!(" + a{i}")).collect::<String>()
     );
     assert!(parse(&src).is_ok());
-    let e = parse_expr(&format!("a{}", " or a".repeat(50_000))).unwrap();
-    drop(e);
-    // A comparison chain is a list.
+    // Mixed `+` and `-` are one chain; a product inside is its own chain.
+    let src = format!("x = a{}", " + b * c - d".repeat(n / 2));
+    assert!(parse(&src).is_ok());
+    // A comparison chain is a list, not limited.
     assert!(parse_expr(&format!("a{}", " < a".repeat(10_000))).is_ok());
+}
+
+#[test]
+fn chain_operand_limit() {
+    let n = MAX_CHAIN_OPERANDS;
+    assert_eq!(n, 1024);
+    let src = format!("x = a{}", " + a".repeat(n));
+    let errs = parse(&src).unwrap_err();
+    assert_eq!(errs.len(), 1);
+    assert_eq!(
+        errs[0].message,
+        "more than 1024 operands joined by `+` and operators like it in one chain; split it into named intermediate values"
+    );
+    // At the operator that adds operand 1025.
+    assert_eq!(errs[0].span.start, 4 + 1 + 4 * (n - 1) + 1);
+    assert_eq!(&src[errs[0].span.start..errs[0].span.end], "+");
+    let e = parse_expr(&format!("p{}", " and p".repeat(100_000))).unwrap_err();
+    assert!(
+        e.message
+            .starts_with("more than 1024 operands joined by `and`")
+    );
+    // Parentheses start a new chain.
+    let half = format!("a{}", " + a".repeat(n - 1));
+    assert!(parse(&format!("x = ({half}) + ({half})")).is_ok());
+}
+
+#[test]
+fn dropping_a_very_deep_tree_does_not_recurse() {
+    // Built by hand (the parser would refuse it): 1 000 000 nested `+`.
+    use sheaf_grammar::{Expr, ExprKind};
+    let leaf = || Expr {
+        kind: ExprKind::Name("a".into()),
+        span: Span::default(),
+    };
+    let mut e = leaf();
+    for _ in 0..1_000_000 {
+        e = Expr {
+            kind: ExprKind::Binary {
+                op: sheaf_grammar::BinOp::Add,
+                left: Box::new(e),
+                right: Box::new(leaf()),
+            },
+            span: Span::default(),
+        };
+    }
+    drop(e);
 }
 
 #[test]
