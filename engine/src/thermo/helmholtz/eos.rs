@@ -285,6 +285,34 @@ pub struct Ancillary {
 }
 
 impl Ancillary {
+    /// ln y and d(ln y)/dT of an exponential-form ancillary (the pressure).
+    pub fn ln_and_slope(&self, t: f64) -> (f64, f64) {
+        let theta = (1.0 - t / self.t_r).max(0.0);
+        let (mut sum, mut dsum) = (0.0, 0.0);
+        if theta > 0.0 {
+            let lt = theta.ln();
+            for (n, e) in self.n.iter().zip(self.t) {
+                let x = n * (e * lt).exp();
+                sum += x;
+                dsum += x * e / theta;
+            }
+        }
+        // d theta / dT = -1/T_r.
+        dsum *= -1.0 / self.t_r;
+        let (f, df) = if self.using_tau_r {
+            (self.t_r / t, -self.t_r / (t * t))
+        } else {
+            (1.0, 0.0)
+        };
+        match self.form {
+            AncForm::Exp => (self.reducing.ln() + f * sum, df * sum + f * dsum),
+            AncForm::NoExp => {
+                let y = 1.0 + sum;
+                ((self.reducing * y).ln(), dsum / y)
+            }
+        }
+    }
+
     pub fn eval(&self, t: f64) -> f64 {
         let theta = (1.0 - t / self.t_r).max(0.0);
         let mut sum = 0.0;

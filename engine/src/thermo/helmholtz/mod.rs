@@ -497,7 +497,9 @@ impl Fluid {
                 hi = hi.min(rho);
             }
             let mut next = rho - f / df;
-            if df > 0.0 && (next - rho).abs() <= 1e-13 * rho {
+            if df > 0.0 && (next - rho).abs() <= 1e-9 * rho {
+                // Quadratic convergence: after a step below 1e-9 the error
+                // is at round-off level.
                 let pt = self.point(t, next);
                 return ((pt.p() - p).abs() <= 1e-8 * p + 1e-12 * pt.rho * self.r() * t)
                     .then_some(pt);
@@ -724,7 +726,7 @@ impl Fluid {
             }
             dl += x1;
             dv += x2;
-            if x1.abs() <= 1e-13 * dl && x2.abs() <= 1e-13 * dv {
+            if x1.abs() <= 1e-9 * dl && x2.abs() <= 1e-9 * dv {
                 return (dl - dv > 1e-7 * dl).then_some((dl, dv));
             }
         }
@@ -740,15 +742,14 @@ impl Fluid {
         let mut t = 1.0 / (1.0 / tc + (1.0 / tt - 1.0 / tc) * (pc.ln() - lp) / (pc.ln() - pt.ln()));
         for _ in 0..8 {
             let t1 = t.clamp(tt, tc * (1.0 - 1e-9));
-            let dt = 1e-6 * t1;
-            let f = self.anc_p.eval(t1).ln() - lp;
-            let df = (self.anc_p.eval(t1 - dt).ln() - self.anc_p.eval(t1 - 2.0 * dt).ln()) / dt;
-            let next = t1 - f / df;
+            let (f, df) = self.anc_p.ln_and_slope(t1);
+            let next = t1 - (f - lp) / df;
             if !next.is_finite() {
                 break;
             }
             t = next.clamp(tt, tc);
-            if (next - t1).abs() < 1e-10 * t1 {
+            // A starting value only: 1e-9 is ample.
+            if (next - t1).abs() < 1e-9 * t1 {
                 break;
             }
         }
@@ -823,7 +824,9 @@ impl Fluid {
             tau += xt;
             dl += xl;
             dv += xv;
-            if xt.abs() <= 1e-13 * tau && xl.abs() <= 1e-13 * dl && xv.abs() <= 1e-13 * dv {
+            // Quadratic convergence: after steps below 1e-9 the error is at
+            // round-off level.
+            if xt.abs() <= 1e-9 * tau && xl.abs() <= 1e-9 * dl && xv.abs() <= 1e-9 * dv {
                 done = true;
                 break;
             }
@@ -994,7 +997,7 @@ impl Fluid {
             }
             t += scale * dt;
             rho += scale * drho;
-            if (scale * dt).abs() <= 1e-12 * t && (scale * drho).abs() <= 1e-12 * rho {
+            if (scale * dt).abs() <= 1e-9 * t && (scale * drho).abs() <= 1e-9 * rho {
                 let pt = self.point(t, rho);
                 if t < t_lo * (1.0 - 1e-9) || t > t_hi * (1.0 + 1e-9) || pt.dp_drho() <= 0.0 {
                     return None;
