@@ -66,5 +66,26 @@ fn saturation(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, forward, backward, saturation);
+/// The pairs solved for the pressure: (h, s), (T, s), (T, v). No target
+/// yet (each is a few dozen (p, h) or (T, p) evaluations).
+fn pairs(c: &mut Criterion) {
+    let mut g = c.benchmark_group("pairs");
+    for (label, t, p) in POINTS {
+        let Ok(st) = if97::state_tp(t, p) else {
+            continue;
+        };
+        g.bench_function(format!("hs {label}"), |b| {
+            b.iter(|| if97::state_hs(black_box(st.h), black_box(st.s)).map(|s| s.p))
+        });
+        g.bench_function(format!("ts {label}"), |b| {
+            b.iter(|| if97::state_ts(black_box(t), black_box(st.s)).map(|s| s.p))
+        });
+        g.bench_function(format!("tv {label}"), |b| {
+            b.iter(|| if97::state_tv(black_box(t), black_box(st.v)).map(|s| s.p))
+        });
+    }
+    g.finish();
+}
+
+criterion_group!(benches, forward, backward, saturation, pairs);
 criterion_main!(benches);

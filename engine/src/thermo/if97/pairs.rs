@@ -291,7 +291,8 @@ impl Prop {
     fn tol(self, y: f64) -> f64 {
         match self {
             Prop::S => tol_s(y),
-            Prop::V => 1e-13 * y.abs(),
+            // On ln(v / v_given): 1e-13 relative.
+            Prop::V => 1e-13,
         }
     }
 }
@@ -323,7 +324,16 @@ fn state_t_y(t: f64, y: f64, prop: Prop) -> Result<State> {
     let p_top = if t > T_MAX { P_MAX5 } else { P_MAX };
     let what = || format!("T = {} and {} = {}", fmt_t(t), prop.name(), prop.fmt(y));
     let at = |p: f64| super::tp_unchecked(t, p);
-    let f = |x: f64| -> Result<f64> { Ok(prop.of(&at(x.exp().clamp(P_LO, p_top))?) - y) };
+    // The residual: s − s_given, or ln(v / v_given) (v spans decades over
+    // the pressure range and is nearly a power of p for a gas, so its
+    // logarithm is nearly linear in ln p).
+    let f = |x: f64| -> Result<f64> {
+        let val = prop.of(&at(x.exp().clamp(P_LO, p_top))?);
+        Ok(match prop {
+            Prop::S => val - y,
+            Prop::V => (val / y).ln(),
+        })
+    };
     let tol = prop.tol(y);
     // Search [p_a, p_b] (ln p) with the values at the ends known.
     let search = |pa: f64, pb: f64| -> Result<Option<State>> {
@@ -356,7 +366,10 @@ fn state_t_y(t: f64, y: f64, prop: Prop) -> Result<State> {
         let ps = forward::psat(t).min(P_CRIT);
         let (l, v) = sat::sat_props(t, ps)?;
         let (yl, yv) = (prop.of_props(&l), prop.of_props(&v));
-        let near = |a: f64, b: f64| (a - b).abs() <= tol;
+        let near = |a: f64, b: f64| match prop {
+            Prop::S => (a - b).abs() <= tol,
+            Prop::V => (a - b).abs() <= tol * b.abs(),
+        };
         if near(y, yl) {
             return Ok(two_phase(t, ps, &l, &v, 0.0));
         }
