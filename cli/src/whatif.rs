@@ -307,7 +307,7 @@ impl Progress {
         }
     }
     fn tick(&mut self, label: &str, done: usize, total: usize) {
-        if !self.on || done % 1024 != 0 {
+        if !self.on || !done.is_multiple_of(1024) {
             return;
         }
         let now = Instant::now();
