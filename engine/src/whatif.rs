@@ -412,22 +412,49 @@ impl Model {
                 .iter()
                 .map(|s| matches!(s, Status::Ok))
                 .collect();
+            // Plain arithmetic nodes run as stack programs on f64; the
+            // rest (calls, states, conditions) through the evaluator.
+            let numeric: Vec<bool> = nodes
+                .iter()
+                .map(|n| matches!(n.ty, crate::types::Ty::Num(_)))
+                .collect();
+            let mut nums: Vec<f64> = values.iter().map(|v| v.as_num().unwrap_or(0.0)).collect();
+            let ops: Vec<Option<Vec<Op>>> = prog
+                .iter()
+                .map(|&i| {
+                    let mut out = Vec::new();
+                    (numeric[i] && compile_ops(&nodes[i].code, &numeric, &mut out)).then_some(out)
+                })
+                .collect();
+            let mut stack: Vec<f64> = Vec::with_capacity(16);
             let mut w = Vec::new();
             let mut message = String::new();
             for (index, &x) in sweep.points.iter().enumerate() {
                 values[x_node] = Value::Num(x);
+                nums[x_node] = x;
                 ok[x_node] = true;
                 let mut failed = false;
                 message.clear();
-                for &i in &prog {
+                for (k, &i) in prog.iter().enumerate() {
                     let node = &nodes[i];
                     if !node.deps.iter().all(|&d| ok[d]) {
                         ok[i] = false;
                         continue;
                     }
+                    if let Some(ops) = &ops[k]
+                        && let Some(r) = run_ops(ops, &nums, &mut stack)
+                    {
+                        nums[i] = r;
+                        values[i] = Value::Num(r);
+                        ok[i] = true;
+                        continue;
+                    }
                     w.clear();
                     match eval::eval(&node.code, &values, node.expr_span, &mut w) {
                         Ok(v) => {
+                            if let Value::Num(r) = v {
+                                nums[i] = r;
+                            }
                             values[i] = v;
                             ok[i] = true;
                         }
@@ -522,6 +549,89 @@ impl Model {
         self.evaluate();
         Ok(summary)
     }
+}
+
+/// One step of a stack program over f64 (plain arithmetic only).
+#[derive(Clone, Copy, Debug)]
+enum Op {
+    Const(f64),
+    Slot(usize),
+    Neg,
+    Add,
+    Sub,
+    Mul,
+    Div,
+    Pow,
+}
+
+/// Compile plain arithmetic on numbers to a stack program, operands in
+/// the evaluator's order (so results are bit for bit the same); false
+/// for anything else.
+fn compile_ops(code: &Code, numeric: &[bool], out: &mut Vec<Op>) -> bool {
+    let bin = |a: &Code, b: &Code, op: Op, out: &mut Vec<Op>| {
+        if compile_ops(a, numeric, out) && compile_ops(b, numeric, out) {
+            out.push(op);
+            true
+        } else {
+            false
+        }
+    };
+    match code {
+        Code::Const(x) => {
+            out.push(Op::Const(*x));
+            true
+        }
+        Code::Slot(i) if numeric.get(*i).copied().unwrap_or(false) => {
+            out.push(Op::Slot(*i));
+            true
+        }
+        Code::Neg(a) => {
+            let ok = compile_ops(a, numeric, out);
+            out.push(Op::Neg);
+            ok
+        }
+        Code::Add(a, b) => bin(a, b, Op::Add, out),
+        Code::Sub(a, b) => bin(a, b, Op::Sub, out),
+        Code::Mul(a, b) => bin(a, b, Op::Mul, out),
+        Code::Div(a, b, _) => bin(a, b, Op::Div, out),
+        Code::Pow(a, b, _) => bin(a, b, Op::Pow, out),
+        _ => false,
+    }
+}
+
+/// Run a stack program; None when the evaluator would report an error
+/// (division by zero, a power or result that is not finite), which the
+/// caller then gets, worded, from the evaluator.
+fn run_ops(ops: &[Op], nums: &[f64], stack: &mut Vec<f64>) -> Option<f64> {
+    stack.clear();
+    for op in ops {
+        let v = match *op {
+            Op::Const(x) => x,
+            Op::Slot(i) => *nums.get(i)?,
+            Op::Neg => -stack.pop()?,
+            _ => {
+                let b = stack.pop()?;
+                let a = stack.pop()?;
+                match *op {
+                    Op::Add => a + b,
+                    Op::Sub => a - b,
+                    Op::Mul => a * b,
+                    Op::Div if b == 0.0 => return None,
+                    Op::Div => a / b,
+                    _ => {
+                        let r = a.powf(b);
+                        if !r.is_finite() {
+                            return None;
+                        }
+                        r
+                    }
+                }
+            }
+        };
+        stack.push(v);
+    }
+    let r = stack.pop()?;
+    r.is_finite().then_some(r)
 }
 
 fn graph_mark(m: &mut Model, x: usize) {

@@ -332,3 +332,53 @@ fn finds_in_dependency_order() {
     assert!((m.number("a").unwrap() - 1.5).abs() < 1e-12);
     assert!((m.number("b").unwrap() - 5.5).abs() < 1e-12);
 }
+
+#[test]
+fn the_package_has_a_cases_sheet_and_a_sheet_with_charts_per_sweep() {
+    use calamine::{Data, Reader, Xlsx};
+    let m = model(&example());
+    let info = sheaf_engine::xlsx::PackageInfo {
+        source_name: "plant_air_whatif.sheaf".into(),
+        source_sha256: sheaf_engine::xlsx::sha256_hex(example().as_bytes()),
+        tool_version: "test".into(),
+        date: "2026-12-03".into(),
+    };
+    let bytes = sheaf_engine::xlsx::write_package(&m, &info).unwrap();
+    let mut wb: Xlsx<_> = Xlsx::new(std::io::Cursor::new(bytes.clone())).unwrap();
+    let names = wb.sheet_names();
+    assert!(names.contains(&"Cases".to_string()), "{names:?}");
+    assert!(names.contains(&"Sweep 1 p2".to_string()), "{names:?}");
+    // Cases: header row 4 (base, design_day, hot_day, high_header); T1 in
+    // hot_day is 36 degC.
+    let cases = wb.worksheet_range("Cases").unwrap();
+    let cell = |r: u32, c: u32| cases.get_value((r, c)).cloned().unwrap_or(Data::Empty);
+    assert_eq!(cell(3, 2), Data::String("base".into()));
+    assert_eq!(cell(3, 4), Data::String("hot_day".into()));
+    let t1_row = (0..cases.height() as u32)
+        .find(|&r| cell(r, 0) == Data::String("T1".into()))
+        .unwrap();
+    assert_eq!(cell(t1_row, 2), Data::Float(24.0));
+    assert_eq!(cell(t1_row, 4), Data::Float(36.0));
+    // Sweep: first point 2 barg, T2 as the engine computes it there.
+    let sw = wb.worksheet_range("Sweep 1 p2").unwrap();
+    assert_eq!(
+        sw.get_value((3, 0)),
+        Some(&Data::String("p2 [barg]".into()))
+    );
+    assert_eq!(sw.get_value((4, 0)), Some(&Data::Float(2.0)));
+    let mut at2 = model(&example());
+    at2.set_input_text("p2", "2 barg").unwrap();
+    at2.evaluate();
+    let t2 = at2.number("T2").unwrap() - 273.15;
+    match sw.get_value((4, 1)) {
+        Some(Data::Float(x)) => assert!((x - t2).abs() < 1e-9, "{x} vs {t2}"),
+        other => panic!("{other:?}"),
+    }
+    // One native chart per shown quantity (T2, W, r_p).
+    let zip = zip::ZipArchive::new(std::io::Cursor::new(bytes)).unwrap();
+    let charts = zip
+        .file_names()
+        .filter(|n| n.as_ref().is_ok_and(|n| n.starts_with("xl/charts/chart")))
+        .count();
+    assert_eq!(charts, 3);
+}

@@ -155,9 +155,14 @@ pub fn input_shown(model: &Model, node: usize) -> Option<(Shown, Option<Span>)> 
         };
         same_unit.then_some((span, v))
     });
+    // The literal's digits as written, unless the value is not the
+    // worksheet's own (set by --set or a case, or solved by a find).
+    let own = model.override_of(node).is_none() && model.find_of(node).is_none();
     match lit {
         Some((span, v)) => {
-            sh.value = v;
+            if own {
+                sh.value = v;
+            }
             Some((sh, Some(span)))
         }
         None => Some((sh, None)),
