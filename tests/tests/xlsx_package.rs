@@ -65,10 +65,7 @@ fn thermo_rows_are_live_where_a_closed_form_exists() {
     let out = dir.join("t.xlsx");
     write(&ws, &src, &m, &out);
     let book = Book::read(&out);
-    let basis = |name: &str| -> String {
-        let p = book.pos(name);
-        book.text(&Book::at(p, 2)).unwrap_or_default()
-    };
+    let basis = |name: &str| -> String { book.basis(name) };
     // Perfect gas and incompressible devices are closed forms.
     for n in [
         "f_st2_T",
@@ -94,12 +91,12 @@ fn thermo_rows_are_live_where_a_closed_form_exists() {
     assert_eq!(basis("q_ds_air"), "formula");
     // Ideal-gas compressor outlet: an inversion, engine-only with a flag.
     assert_eq!(basis("f_g2_T"), "engine");
-    let flag = Book::at(book.pos("f_g2_T"), 3);
+    let flag = book.flag_pos("f_g2_T");
     let f = book.formula(&flag).unwrap();
     assert!(f.contains("d1_T_g") && f.contains("d_p_g"), "{f}");
     // A live row computed from an engine value is flagged too.
     assert!(
-        book.formula(&Book::at(book.pos("q_dh_g"), 3))
+        book.formula(&book.flag_pos("q_dh_g"))
             .unwrap()
             .contains("d1_T_g")
     );

@@ -5,9 +5,14 @@
 //! Layout, name scheme and what is live are described in DEVELOPERS.md
 //! ("xlsx package") and in [`names`].
 
+mod calc_sheet;
+mod cover;
+mod data_sheet;
 pub mod formula;
 pub mod names;
+mod plan;
 pub mod reader;
+mod style;
 mod writer;
 
 use std::path::Path;
@@ -153,6 +158,15 @@ pub fn input_shown(model: &Model, node: usize) -> Option<(Shown, Option<Span>)> 
         return Some((sh, None));
     };
     let src = model.source();
+    if let Some(o) = model.override_of(node) {
+        // The value the engine used: the override, in the input's unit
+        // (the number as given when it was given in that unit).
+        if let Some(v) = number_in_unit(&o.text, &sh.unit) {
+            sh.value = v;
+        }
+        let span = input_literal(value, src).map(|(span, _, _)| span);
+        return Some((sh, span));
+    }
     let lit = input_literal(value, src).and_then(|(span, v, unit)| {
         let same_unit = match (&n.display, unit) {
             (DisplayUnit::Fixed { text, .. }, Some(u)) => {
@@ -170,6 +184,18 @@ pub fn input_shown(model: &Model, node: usize) -> Option<(Shown, Option<Span>)> 
         }
         None => Some((sh, None)),
     }
+}
+
+/// The number of `text` ("5 barg") when it is a plain number followed by
+/// exactly `unit` (or no unit when `unit` is empty).
+fn number_in_unit(text: &str, unit: &str) -> Option<f64> {
+    let t = text.trim();
+    let end = t
+        .find(|c: char| !(c.is_ascii_digit() || matches!(c, '.' | '-' | '+' | 'e' | 'E')))
+        .unwrap_or(t.len());
+    let (num, rest) = t.split_at(end);
+    let v: f64 = num.parse().ok()?;
+    (crate::check::normalise_unit_text(rest) == unit && v.is_finite()).then_some(v)
 }
 
 /// An input whose value a reviewer changed.
