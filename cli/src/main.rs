@@ -385,7 +385,7 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
                         && target.affinity == units::Affinity::Absolute
                     {
                         eprintln!(
-                            "error: --in {u}: the value is a difference; show it in K or delta_degC"
+                            "error: --in {u}: the value is a difference; show it in K or degC_diff"
                         );
                         return EXIT_USAGE;
                     }
@@ -394,12 +394,20 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
                         u.split_whitespace().collect::<Vec<_>>().join(" "),
                     )
                 }
-                None => units::auto_display(q.dim, si),
+                None => match typed_unit(&expr, text, q) {
+                    Some((u, t)) => (u.from_si(si), t),
+                    None => units::auto_display(q.dim, si),
+                },
             };
             match format {
                 Format::Json => outln!(
                     "{}",
                     json!({"value": shown, "unit": unit_text, "si_value": si, "si_unit": units::si_unit(q.dim)})
+                ),
+                Format::Md => outln!(
+                    "| value | unit |\n|---:|---|\n| {} | {} |",
+                    units::format_sig(shown, sig),
+                    unit_text
                 ),
                 _ => {
                     let v = units::format_sig(shown, sig);
@@ -417,21 +425,61 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
                 eprintln!("error: --in applies to a number; pick a field, e.g. `(...).h`");
                 return EXIT_USAGE;
             }
-            outln!("state of {}", sv.sub);
+            let mut fields = Vec::new();
             for f in Field::ALL {
                 if let Some(x) = sv.st.get(f) {
                     let dim = match sheaf_engine::check::field_type(f) {
                         Ty::Num(q) => q.dim,
                         _ => units::Dim::NONE,
                     };
-                    let (v, u) = units::auto_display(dim, x);
-                    outln!(
-                        "  .{:<4} {:>12} {:<10} {}",
-                        f.name(),
-                        units::format_sig(v, sig),
-                        u,
-                        field_words(f)
-                    );
+                    // Specific energies in kJ/kg (DESIGN §3), else SI with a prefix.
+                    let fixed = match f {
+                        Field::H | Field::U => Some("kJ/kg"),
+                        Field::S | Field::Cp | Field::Cv => Some("kJ/(kg K)"),
+                        _ => None,
+                    };
+                    let (v, u) = match fixed.and_then(sheaf_engine::report::fixed_unit) {
+                        Some(sheaf_engine::check::DisplayUnit::Fixed { unit, text }) => {
+                            (unit.from_si(x), text)
+                        }
+                        _ => units::auto_display(dim, x),
+                    };
+                    fields.push((f, v, u, x, units::si_unit(dim)));
+                }
+            }
+            match format {
+                Format::Json => outln!(
+                    "{}",
+                    json!({
+                        "model": sv.sub.to_string(),
+                        "fields": fields.iter().map(|(f, v, u, x, su)| json!({
+                            "name": f.name(), "value": v, "unit": u, "si_value": x, "si_unit": su,
+                        })).collect::<Vec<_>>(),
+                    })
+                ),
+                Format::Md => {
+                    outln!("State of {}\n", sv.sub);
+                    outln!("| field | value | unit | |\n|---|---:|---|---|");
+                    for (f, v, u, _, _) in &fields {
+                        outln!(
+                            "| `.{}` | {} | {u} | {} |",
+                            f.name(),
+                            units::format_sig(*v, sig),
+                            field_words(*f)
+                        );
+                    }
+                }
+                Format::Text => {
+                    outln!("state of {}", sv.sub);
+                    for (f, v, u, _, _) in &fields {
+                        outln!(
+                            "  .{:<4} {:>12} {:<10} {}",
+                            f.name(),
+                            units::format_sig(*v, sig),
+                            u,
+                            field_words(*f)
+                        );
+                    }
                 }
             }
             0
@@ -459,6 +507,45 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
             eprintln!("error: the expression has no value");
             EXIT_ERRORS
         }
+    }
+}
+
+/// The unit the user typed, when the expression is a plain quantity (a
+/// literal, or literals added and subtracted): the first literal unit of
+/// the result's dimension and kind (`20 degC + 10 K` is shown in degC;
+/// `20 degC - 10 degC`, a difference, is not).
+fn typed_unit(
+    e: &sheaf_grammar::Expr,
+    src: &str,
+    q: sheaf_engine::types::QTy,
+) -> Option<(units::Unit, String)> {
+    use sheaf_grammar::{BinOp, ExprKind};
+    match &e.kind {
+        ExprKind::Number { unit: Some(u), .. } => {
+            let r = units::resolve(u).ok()?;
+            let kind_ok = match q.aff {
+                units::Affinity::Difference => r.affinity != units::Affinity::Absolute,
+                units::Affinity::Absolute => r.affinity == units::Affinity::Absolute,
+                units::Affinity::Neutral => true,
+            };
+            (r.dim == q.dim && kind_ok).then(|| {
+                (
+                    r,
+                    u.span
+                        .slice(src)
+                        .split_whitespace()
+                        .collect::<Vec<_>>()
+                        .join(" "),
+                )
+            })
+        }
+        ExprKind::Paren(a) | ExprKind::Neg(a) => typed_unit(a, src, q),
+        ExprKind::Binary {
+            op: BinOp::Add | BinOp::Sub,
+            left,
+            right,
+        } => typed_unit(left, src, q).or_else(|| typed_unit(right, src, q)),
+        _ => None,
     }
 }
 
