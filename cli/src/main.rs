@@ -55,6 +55,7 @@ fn stdout_failed(e: &std::io::Error) {
 
 mod diagnostics;
 mod files;
+mod html;
 mod package;
 mod render;
 mod workbooks;
@@ -98,6 +99,8 @@ enum Format {
     Text,
     Json,
     Md,
+    /// A self-contained printable page (run only).
+    Html,
 }
 
 #[derive(Subcommand)]
@@ -294,6 +297,7 @@ fn cmd_run(file: &Path, sets: &[String], format: Format, sig: usize) -> u8 {
             }
         },
         Format::Md => out!("{}", render::markdown(&report, &name, sig)),
+        Format::Html => out!("{}", html::html(&report, &name, sig)),
     }
     if !errors.is_empty() {
         EXIT_ERRORS
@@ -469,7 +473,7 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
                         );
                     }
                 }
-                Format::Text => {
+                Format::Text | Format::Html => {
                     outln!("state of {}", sv.sub);
                     for (f, v, u, _, _) in &fields {
                         outln!(

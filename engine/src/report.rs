@@ -150,6 +150,8 @@ pub struct QuantityRow {
     pub problem: Option<String>,
     /// States and substances: their fields as `name.field` rows.
     pub fields: Vec<QuantityRow>,
+    /// The defining expression as written.
+    pub expr: String,
     pub node: usize,
 }
 
@@ -239,6 +241,7 @@ fn number_row(
         written: None,
         problem: None,
         fields: Vec::new(),
+        expr: String::new(),
         node,
     }
 }
@@ -440,6 +443,7 @@ impl Model {
             }
         };
         row.description = node.description.clone();
+        row.expr = node.expr_span.slice(self.source()).to_string();
         row.problem = problem;
         row.overridden = self.override_of(i).map(|o| o.source.to_string());
         if row.overridden.is_none() && node.kind == NodeKind::Input {
