@@ -490,8 +490,15 @@ fn cmd_eval(text: &str, unit: Option<&str>, format: Format, sig: usize) -> u8 {
         }
         (_, Value::Substance(sub)) => {
             outln!("{sub}");
-            for (n, dim, x, words) in substance_fields(&sub) {
-                let (v, u) = units::auto_display(dim, x);
+            for (n, dim, x, words) in substance_fields(&sub)
+                .into_iter()
+                .filter(|f| sheaf_engine::report::is_substance_field(f.0))
+            {
+                let (v, u) = sheaf_engine::report::shown(
+                    &sheaf_engine::report::substance_display(n),
+                    dim,
+                    x,
+                );
                 outln!(
                     "  .{n:<4} {:>12} {u:<10} {words}",
                     units::format_sig(v, sig)

@@ -336,9 +336,15 @@ fn xlsx_exits_3_after_writing_when_a_check_fails() {
 #[test]
 fn eval_keeps_the_unit_typed_and_formats_states() {
     assert_eq!(stdout(&sheaf(&["eval", "3 bar"])).trim(), "3 bar");
-    assert_eq!(stdout(&sheaf(&["eval", "20 degC + 10 K"])).trim(), "30 degC");
+    assert_eq!(
+        stdout(&sheaf(&["eval", "20 degC + 10 K"])).trim(),
+        "30 degC"
+    );
     // A difference of two absolute temperatures is not shown in degC.
-    assert_eq!(stdout(&sheaf(&["eval", "20 degC - 10 degC"])).trim(), "10 K");
+    assert_eq!(
+        stdout(&sheaf(&["eval", "20 degC - 10 degC"])).trim(),
+        "10 K"
+    );
     let o = sheaf(&[
         "eval",
         "state(fluid(\"water\"), p: 3 MPa, T: 400 degC)",
@@ -370,7 +376,10 @@ fn html_report_is_one_self_contained_page() {
     let html = stdout(&o);
     assert!(html.starts_with("<!DOCTYPE html>"));
     assert!(html.contains("@page { size: A4"), "print stylesheet");
-    assert!(!html.contains("<script") && !html.contains("http"), "no network");
+    assert!(
+        !html.contains("<script") && !html.contains("http"),
+        "no network"
+    );
     for part in [
         "NOT CHECKED",
         "<h2>State points</h2>",

@@ -405,10 +405,13 @@ impl Model {
                 row.si_unit = String::new();
                 row.unit = String::new();
                 for (fname, dim, x, words) in substance_fields(sub) {
+                    if !is_substance_field(fname) {
+                        continue;
+                    }
                     let mut fr = number_row(
                         format!("{name}.{fname}"),
                         kind,
-                        &DisplayUnit::Auto,
+                        &substance_display(fname),
                         dim,
                         Some(x),
                         line,
@@ -796,9 +799,20 @@ pub fn field_words(f: Field) -> &'static str {
     }
 }
 
-/// Fields listed for a substance: (name, dimension, SI value, words).
+/// Fields of a substance: (name, dimension, SI value, words). First the
+/// fields the language offers (`.M` molar mass when the model knows it,
+/// `.R` for gases; [`is_substance_field`]), then the model's parameters
+/// (cp, cv, k, density) that the package's formulas use.
 pub fn substance_fields(sub: &Substance) -> Vec<(&'static str, Dim, f64, &'static str)> {
     let mut out = Vec::new();
+    let m = match sub {
+        Substance::IdealGas(g) => Some(g.molar_mass()),
+        Substance::Fluid(f) => Some(f.molar_mass()),
+        _ => None,
+    };
+    if let Some(m) = m {
+        out.push(("M", Dim::MASS / Dim::AMOUNT, m, "molar mass"));
+    }
     if let Some(r) = sub.gas_constant() {
         out.push(("R", Dim::SPECIFIC_ENTROPY, r, "specific gas constant"));
     }
@@ -808,4 +822,18 @@ pub fn substance_fields(sub: &Substance) -> Vec<(&'static str, Dim, f64, &'stati
         }
     }
     out
+}
+
+/// Display unit of a substance field: molar mass in g/mol.
+pub fn substance_display(name: &str) -> DisplayUnit {
+    match name {
+        "M" => fixed_unit("g/mol").unwrap_or(DisplayUnit::Auto),
+        _ => DisplayUnit::Auto,
+    }
+}
+
+/// Whether a substance field is one the language offers (`.M`, `.R`;
+/// DESIGN §4); the others are model parameters.
+pub fn is_substance_field(name: &str) -> bool {
+    matches!(name, "M" | "R")
 }

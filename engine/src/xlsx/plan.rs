@@ -167,9 +167,17 @@ pub(super) fn plan(model: &Model) -> Vec<Option<NodeRows>> {
                         (Some(SubSym::Ideal(_)), "R") => Some(Ex::num(x)),
                         _ => None,
                     };
+                    let (symbol, description) = if crate::report::is_substance_field(fname) {
+                        (format!("{name}.{fname}"), words.to_string())
+                    } else {
+                        (
+                            format!("{name}: {fname}"),
+                            format!("{words} (model parameter)"),
+                        )
+                    };
                     fields.push(Row {
-                        symbol: format!("{name}.{fname}"),
-                        description: words.to_string(),
+                        symbol,
+                        description,
                         expr: String::new(),
                         si_name: names::field_name(&name, fname),
                         si: Some(x),
