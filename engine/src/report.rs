@@ -450,9 +450,7 @@ impl Model {
         row.problem = problem;
         row.overridden = self.override_of(i).map(|o| o.source.to_string());
         if row.overridden.is_none() && node.kind == NodeKind::Input {
-            row.written = crate::xlsx::input_shown(self, i)
-                .and_then(|(_, span)| span)
-                .map(|s| s.slice(src_of(self)).to_string());
+            row.written = self.written_digits(i);
         }
         row
     }
@@ -488,6 +486,38 @@ impl Model {
             operands,
             node: i,
         }
+    }
+}
+
+/// The literal of an input written as a plain number (possibly negated or
+/// in parentheses): (span to replace, value as written incl. sign, unit
+/// text).
+pub(crate) fn input_literal<'a>(
+    e: &'a sheaf_grammar::Expr,
+    src: &str,
+) -> Option<(
+    sheaf_grammar::Span,
+    f64,
+    Option<&'a sheaf_grammar::UnitExpr>,
+)> {
+    match &e.kind {
+        sheaf_grammar::ExprKind::Paren(a) => input_literal(a, src),
+        sheaf_grammar::ExprKind::Number { value, text, unit } => {
+            let span = sheaf_grammar::Span::new(e.span.start, e.span.start + text.len());
+            (span.slice(src) == text).then_some((span, *value, unit.as_ref()))
+        }
+        sheaf_grammar::ExprKind::Neg(a) => match &a.kind {
+            sheaf_grammar::ExprKind::Number { value, text, unit } => {
+                let end = a.span.start + text.len();
+                (sheaf_grammar::Span::new(a.span.start, end).slice(src) == text).then_some((
+                    sheaf_grammar::Span::new(e.span.start, end),
+                    -value,
+                    unit.as_ref(),
+                ))
+            }
+            _ => None,
+        },
+        _ => None,
     }
 }
 
@@ -615,6 +645,29 @@ impl Model {
             }
         }
         out
+    }
+
+    /// The number text of an input written as a plain literal in its
+    /// display unit (`1.01325` of `1.01325 bar`).
+    fn written_digits(&self, i: usize) -> Option<String> {
+        let n = self.nodes().get(i)?;
+        let StatementKind::Input { value, .. } = &self.worksheet().statements.get(n.stmt)?.kind
+        else {
+            return None;
+        };
+        let src = src_of(self);
+        let (span, _, unit) = input_literal(value, src)?;
+        let same_unit = match (&n.display, unit) {
+            (DisplayUnit::Fixed { text, .. }, Some(u)) => {
+                crate::check::normalise_unit_text(u.span.slice(src)) == *text
+            }
+            (DisplayUnit::Auto, None) => {
+                let Ty::Num(q) = n.ty else { return None };
+                q.dim == Dim::NONE
+            }
+            _ => false,
+        };
+        same_unit.then(|| span.slice(src).to_string())
     }
 
     fn state_table(&self, r: &Report) -> StateTable {

@@ -38,7 +38,17 @@ pub(super) fn write(l: &mut SheetLayout) -> XResult<Worksheet> {
         in_state_table: false,
     };
     w.head(l)?;
-    let blocks = l.report.blocks.clone();
+    // Consecutive note lines are one paragraph.
+    let mut blocks: Vec<Block> = Vec::new();
+    for b in &l.report.blocks {
+        match (blocks.last_mut(), b) {
+            (Some(Block::Note(prev)), Block::Note(t)) => {
+                prev.push(' ');
+                prev.push_str(t);
+            }
+            _ => blocks.push(b.clone()),
+        }
+    }
     let mut skipped_title = false;
     for block in &blocks {
         let is_state = matches!(block, Block::Quantity(q)
@@ -200,12 +210,14 @@ impl CalcWriter {
                     .write_formula_with_format(row, C_VAL, f, &l.st.check)?;
                 self.ws
                     .add_conditional_format(row, C_VAL, row, C_VAL, &fail_highlight())?;
-                self.ws.write_string(row, C_BASIS, "formula")?;
+                self.ws
+                    .write_string_with_format(row, C_BASIS, "formula", &l.st.unit)?;
             }
             (None, Some(p)) => {
                 self.ws
                     .write_string_with_format(row, C_VAL, p, &l.st.engine)?;
-                self.ws.write_string(row, C_BASIS, "engine")?;
+                self.ws
+                    .write_string_with_format(row, C_BASIS, "engine", &l.st.unit)?;
             }
             (_, None) => {
                 self.ws
@@ -244,7 +256,8 @@ impl CalcWriter {
                     .write_string_with_format(self.row, C_SYM, head, &l.st.label)?;
                 self.ws
                     .write_string_with_format(self.row, C_DESC, &desc, &l.st.wrap)?;
-                self.ws.write_string(self.row, C_VAL, text)?;
+                self.ws
+                    .write_string_with_format(self.row, C_VAL, text, &l.st.unit)?;
                 self.ws
                     .write_string_with_format(self.row, C_EXPR, expr, &l.st.wrap)?;
                 self.fit(&[(&desc, C_DESC), (expr, C_EXPR)])?;
@@ -420,10 +433,15 @@ impl CalcWriter {
                     Formula::new(f).set_result(num_result(si)),
                     &si_fmt(&st.live),
                 )?;
-                self.ws.write_string(row, C_BASIS, "input")?;
+                self.ws
+                    .write_string_with_format(row, C_BASIS, "input", &st.unit)?;
                 if let Some(o) = l.model.override_of(node) {
                     let written = l.model.nodes()[node].expr_span.slice(l.model.source());
-                    let text = format!("set: {}; worksheet: {written}", o.source);
+                    let from = match &o.source {
+                        crate::model::OverrideSource::CommandLine => "--set".to_string(),
+                        other => other.to_string(),
+                    };
+                    let text = format!("set by {from}; worksheet {written}");
                     self.ws
                         .write_string_with_format(row, C_FLAG, &text, &st.flag_wrap)?;
                     let h = fit_height(&text, WIDTHS[usize::from(C_FLAG)]);
@@ -459,7 +477,8 @@ impl CalcWriter {
                 )?;
                 self.ws
                     .write_string_with_format(row, C_UNIT, &unit, &st.unit)?;
-                self.ws.write_string(row, C_BASIS, basis)?;
+                self.ws
+                    .write_string_with_format(row, C_BASIS, basis, &st.unit)?;
                 let text = if basis == "engine" {
                     "stale: re-run sheaf"
                 } else {

@@ -18,7 +18,7 @@ mod writer;
 use std::path::Path;
 
 use sha2::{Digest, Sha256};
-use sheaf_grammar::{Expr, ExprKind, Span, StatementKind};
+use sheaf_grammar::{Span, StatementKind};
 
 use crate::check::{DisplayUnit, NodeKind};
 use crate::model::Model;
@@ -114,34 +114,6 @@ pub fn shown(display: &DisplayUnit, dim: crate::units::Dim, si: f64) -> Shown {
     }
 }
 
-/// The literal of an input written as a plain number (possibly negated or
-/// in parentheses): (span to replace, value as written incl. sign, unit
-/// text).
-fn input_literal<'a>(
-    e: &'a Expr,
-    src: &str,
-) -> Option<(Span, f64, Option<&'a sheaf_grammar::UnitExpr>)> {
-    match &e.kind {
-        ExprKind::Paren(a) => input_literal(a, src),
-        ExprKind::Number { value, text, unit } => {
-            let span = Span::new(e.span.start, e.span.start + text.len());
-            (span.slice(src) == text).then_some((span, *value, unit.as_ref()))
-        }
-        ExprKind::Neg(a) => match &a.kind {
-            ExprKind::Number { value, text, unit } => {
-                let end = a.span.start + text.len();
-                (Span::new(a.span.start, end).slice(src) == text).then_some((
-                    Span::new(e.span.start, end),
-                    -value,
-                    unit.as_ref(),
-                ))
-            }
-            _ => None,
-        },
-        _ => None,
-    }
-}
-
 /// An input as shown in the package: its value in its display unit and
 /// the conversion, and the literal span when the input is a plain literal
 /// in that unit (the value then is the literal as written).
@@ -164,10 +136,10 @@ pub fn input_shown(model: &Model, node: usize) -> Option<(Shown, Option<Span>)> 
         if let Some(v) = number_in_unit(&o.text, &sh.unit) {
             sh.value = v;
         }
-        let span = input_literal(value, src).map(|(span, _, _)| span);
+        let span = crate::report::input_literal(value, src).map(|(span, _, _)| span);
         return Some((sh, span));
     }
-    let lit = input_literal(value, src).and_then(|(span, v, unit)| {
+    let lit = crate::report::input_literal(value, src).and_then(|(span, v, unit)| {
         let same_unit = match (&n.display, unit) {
             (DisplayUnit::Fixed { text, .. }, Some(u)) => {
                 crate::check::normalise_unit_text(u.span.slice(src)) == *text

@@ -74,7 +74,10 @@ pub(super) fn styles() -> Styles {
             .set_num_format(";;;@")
             .set_bold()
             .set_font_color(Color::RGB(0xB0_00_20)),
-        check: Format::new().set_bold().set_align(FormatAlign::Center),
+        check: Format::new()
+            .set_bold()
+            .set_align(FormatAlign::Center)
+            .set_align(FormatAlign::Top),
         label: Format::new().set_bold().set_align(FormatAlign::Top),
         small: Format::new().set_font_color(Color::RGB(0x4A_55_60)),
         unit: Format::new().set_indent(1).set_align(FormatAlign::Top),
