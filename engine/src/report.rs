@@ -798,10 +798,10 @@ pub fn method_of(sub: &Substance) -> MethodRow {
     let (model, citation, range, reference) = match sub {
         Substance::IdealGas(g) => (
             format!("ideal gas {} (temperature-dependent cp)", g.name()),
-            "NASA Glenn 7-coefficient polynomials: McBride, Zehe & Gordon, NASA/TP-2002-211556 (2002),              coefficients as distributed in the Burcat thermochemical database"
+            "NASA Glenn 7-coefficient polynomials: McBride, Zehe & Gordon, NASA/TP-2002-211556 (2002), coefficients as distributed in the Burcat thermochemical database"
                 .to_string(),
             "200 K to 6000 K; ideal-gas behaviour (low pressure, far from condensation)".to_string(),
-            "h = 0 at 298.15 K (sensible enthalpy); s is the absolute (third-law) entropy at 100 kPa,              s = s°(T) - R ln(p / 100 kPa)"
+            "h = 0 at 298.15 K (sensible enthalpy); s is the absolute (third-law) entropy at 100 kPa, s = s°(T) - R ln(p / 100 kPa)"
                 .to_string(),
         ),
         Substance::PerfectGas(_) => (
