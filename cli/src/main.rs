@@ -55,6 +55,7 @@ fn stdout_failed(e: &std::io::Error) {
 
 mod diagnostics;
 mod files;
+mod html;
 mod package;
 mod render;
 mod whatif;
@@ -95,6 +96,8 @@ enum Format {
     Text,
     Json,
     Md,
+    /// A self-contained printable page (run only).
+    Html,
 }
 
 #[derive(Subcommand)]
@@ -354,6 +357,7 @@ fn cmd_run(file: &Path, sets: &[String], case: Option<&str>, format: Format, sig
             }
         },
         Format::Md => out!("{}", render::markdown(&report, &name, sig)),
+        Format::Html => out!("{}", html::html(&report, &name, sig)),
     }
     if !errors.is_empty() {
         EXIT_ERRORS

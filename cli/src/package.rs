@@ -10,6 +10,7 @@ use crate::diagnostics;
 
 const EXIT_ERRORS: u8 = 1;
 const EXIT_USAGE: u8 = 2;
+const EXIT_CHECK_FAILED: u8 = 3;
 
 pub const XLSX_HELP: &str = "Examples:\n  sheaf xlsx worksheets/air_receiver.sheaf\n  \
 sheaf xlsx pump.sheaf -o review/pump-rev-B.xlsx\n  sheaf xlsx pump.sheaf --set 'p2=12 barg'\n  \
@@ -84,7 +85,21 @@ pub fn cmd_xlsx(file: &Path, out: Option<&Path>, sets: &[String], case: Option<&
                 // `-o /dev/stdout`: keep the workbook's stream clean.
                 eprintln!("wrote {}", out.display());
             }
-            0
+            let failed = model
+                .report()
+                .checks
+                .iter()
+                .filter(|c| c.passed == Some(false))
+                .count();
+            if failed > 0 {
+                eprintln!(
+                    "{failed} check{} failed (the package says so on its cover)",
+                    if failed == 1 { "" } else { "s" }
+                );
+                EXIT_CHECK_FAILED
+            } else {
+                0
+            }
         }
         Err(e) => {
             eprintln!("error: {e}");

@@ -2,7 +2,9 @@
 
 use serde_json::{Value as Json, json};
 use sheaf_engine::CAUTION;
-use sheaf_engine::report::{Block, CheckRow, FoundRow, GAUGE_NOTE, QuantityRow, Report, Shown};
+use sheaf_engine::report::{
+    Block, CheckRow, FoundRow, GAUGE_NOTE, QuantityRow, Report, Shown, StateColumn,
+};
 use sheaf_engine::units::format_sig;
 
 /// Terminal styles; empty strings when colour is off.
@@ -71,6 +73,9 @@ pub fn t(s: &str) -> String {
 }
 
 pub fn value_text(row: &QuantityRow, sig: usize) -> String {
+    if let (Some(w), Some(_)) = (&row.written, row.value) {
+        return t(w);
+    }
     match (row.value, &row.text, &row.problem) {
         (_, _, Some(p)) if row.value.is_none() => format!("({})", t(p)),
         (Some(v), _, _) => format_sig(v, sig),
@@ -101,7 +106,7 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
         st.reset
     ));
     out.push_str(&format!("{}worksheet {file}{}\n", st.dim, st.reset));
-    for (k, v) in &report.meta {
+    for (k, v) in shown_meta(report) {
         out.push_str(&format!("{}{}: {}{}\n", st.dim, t(k), t(v), st.reset));
     }
 
@@ -135,7 +140,22 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
         .max(4);
 
     let mut first_heading = true;
+    let mut in_states = false;
+    let table = state_text_table(report, sig);
     for b in &report.blocks {
+        let state_row = match b {
+            Block::Quantity(q) => table.rows.iter().position(|(n, _)| *n == q.node),
+            _ => None,
+        };
+        if let Some(k) = state_row {
+            if !in_states {
+                out.push_str(&format!("  {}{}{}\n", st.dim, table.header, st.reset));
+                in_states = true;
+            }
+            out.push_str(&format!("  {}\n", table.rows[k].1.trim_end()));
+            continue;
+        }
+        in_states = false;
         match b {
             Block::Heading { level, text } => {
                 if *level == 1 && first_heading {
@@ -253,6 +273,22 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
             ));
         }
     }
+    for n in &report.states.notes {
+        out.push_str(&format!("\n{}{}{}\n", st.dim, t(n), st.reset));
+    }
+    if !report.methods.is_empty() {
+        out.push_str(&format!("\n{}methods{}\n", st.bold, st.reset));
+        for m in &report.methods {
+            out.push_str(&format!(
+                "  {} ({})\n    source: {}\n    range: {}\n    reference state: {}\n",
+                t(&m.model),
+                t(&m.used_by.join(", ")),
+                t(&m.citation),
+                t(&m.range),
+                t(&m.reference)
+            ));
+        }
+    }
     out.push('\n');
     if report.uses_gauge {
         out.push_str(&format!("{}{GAUGE_NOTE}{}\n", st.dim, st.reset));
@@ -273,6 +309,77 @@ pub fn found_text(q: &QuantityRow, f: &FoundRow, sig: usize) -> String {
         f.iterations,
         format_sig(f.residual, 2)
     )
+}
+
+/// Meta lines worth printing: not empty, not layout settings.
+fn shown_meta(report: &Report) -> impl Iterator<Item = &(String, String)> {
+    report
+        .meta
+        .iter()
+        .filter(|(k, v)| !v.trim().is_empty() && k != "state_columns")
+}
+
+/// Column header of a state-table column: `T degC`, `x`.
+fn state_head(c: &StateColumn) -> String {
+    if c.unit.is_empty() {
+        c.field.name().to_string()
+    } else {
+        format!("{} {}", c.field.name(), c.unit)
+    }
+}
+
+fn state_cell(v: Option<f64>, sig: usize) -> String {
+    v.map_or("–".to_string(), |x| format_sig(x, sig))
+}
+
+/// The state-point table laid out for a terminal: a header line and a
+/// line per state (node, text).
+struct TextTable {
+    header: String,
+    rows: Vec<(usize, String)>,
+}
+
+fn state_text_table(report: &Report, sig: usize) -> TextTable {
+    let s = &report.states;
+    let wn = s
+        .rows
+        .iter()
+        .map(|r| t(&r.name).chars().count())
+        .max()
+        .unwrap_or(5)
+        .max(5);
+    let widths: Vec<usize> = s
+        .columns
+        .iter()
+        .enumerate()
+        .map(|(k, c)| {
+            s.rows
+                .iter()
+                .map(|r| state_cell(r.cells[k], sig).chars().count())
+                .chain(std::iter::once(state_head(c).chars().count()))
+                .max()
+                .unwrap_or(4)
+        })
+        .collect();
+    let mut header = format!("   {}", pad("state", wn));
+    for (k, c) in s.columns.iter().enumerate() {
+        header.push_str(&format!("  {:>w$}", state_head(c), w = widths[k]));
+    }
+    let rows = s
+        .rows
+        .iter()
+        .map(|r| {
+            let mut line = format!("   {}", pad(&t(&r.name), wn));
+            for (k, v) in r.cells.iter().enumerate() {
+                line.push_str(&format!("  {:>w$}", state_cell(*v, sig), w = widths[k]));
+            }
+            if let Some(d) = &r.description {
+                line.push_str(&format!("  {}", t(d)));
+            }
+            (r.node, line)
+        })
+        .collect();
+    TextTable { header, rows }
 }
 
 /// Last segment of `name.field`.
@@ -446,16 +553,27 @@ pub fn md_code(s: &str) -> String {
     format!("{fence}{pad}{s}{pad}{fence}")
 }
 
+/// Header of the Markdown state-point table.
+fn md_state_header(states: &sheaf_engine::report::StateTable) -> String {
+    let mut h = "| state |".to_string();
+    let mut sep = "|---|".to_string();
+    for c in &states.columns {
+        h.push_str(&format!(" {} |", md_escape(&state_head(c))));
+        sep.push_str("---:|");
+    }
+    format!("{h} description |\n{sep}---|\n")
+}
+
 /// The results as Markdown (for a calc note or a pull request).
 pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
     let mut out = String::new();
     let title = report.title.clone().unwrap_or_else(|| file.to_string());
     out.push_str(&format!("# {}\n\n", md_escape(&title)));
     out.push_str(&format!("Worksheet: {}\n\n", md_code(file)));
-    for (k, v) in &report.meta {
+    for (k, v) in shown_meta(report) {
         out.push_str(&format!("- {}: {}\n", md_escape(k), md_escape(v)));
     }
-    if !report.meta.is_empty() {
+    if shown_meta(report).next().is_some() {
         out.push('\n');
     }
     let mut in_table = false;
@@ -466,7 +584,20 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
             *in_table = false;
         }
     };
+    let states = &report.states;
+    let mut in_states = false;
+    let mut last_note = false;
     for b in &report.blocks {
+        let is_state =
+            matches!(b, Block::Quantity(q) if states.rows.iter().any(|r| r.node == q.node));
+        if in_states && !is_state {
+            out.push('\n');
+            in_states = false;
+        }
+        let this_note = matches!(b, Block::Note(_));
+        let prev_note = last_note;
+        last_note = this_note;
+        let last_note = prev_note;
         match b {
             Block::Heading { level, text } => {
                 if *level == 1 && first_heading {
@@ -482,7 +613,31 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
             }
             Block::Note(t) => {
                 close(&mut out, &mut in_table);
-                out.push_str(&format!("> {}\n\n", md_escape(t)));
+                // Consecutive note lines are one paragraph.
+                if out.ends_with("\n\n") && last_note {
+                    out.truncate(out.len() - 2);
+                    out.push_str(&format!(" {}\n\n", md_escape(t)));
+                } else {
+                    out.push_str(&format!("> {}\n\n", md_escape(t)));
+                }
+            }
+            Block::Quantity(q) if states.rows.iter().any(|r| r.node == q.node) => {
+                if !in_states {
+                    close(&mut out, &mut in_table);
+                    out.push_str(&md_state_header(states));
+                    in_states = true;
+                }
+                if let Some(r) = states.rows.iter().find(|r| r.node == q.node) {
+                    let mut line = format!("| {} |", md_code(&r.name));
+                    for v in &r.cells {
+                        line.push_str(&format!(" {} |", state_cell(*v, sig)));
+                    }
+                    line.push_str(&format!(
+                        " {} |\n",
+                        md_escape(r.description.as_deref().unwrap_or_default())
+                    ));
+                    out.push_str(&line);
+                }
             }
             Block::Quantity(q) => {
                 if !in_table {
@@ -539,10 +694,34 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
         }
     }
     close(&mut out, &mut in_table);
+    if in_states {
+        out.push('\n');
+    }
+    for n in &states.notes {
+        out.push_str(&format!("{}\n\n", md_escape(n)));
+    }
     if !report.warnings.is_empty() {
         out.push_str("## Warnings\n\n");
         for w in &report.warnings {
             out.push_str(&format!("- {}\n", md_escape(&w.to_string())));
+        }
+        out.push('\n');
+    }
+    if !report.methods.is_empty() {
+        out.push_str("## Methods\n\n");
+        for m in &report.methods {
+            out.push_str(&format!(
+                "- **{}** (used by {}): {}. Range: {}. Reference state of h and s: {}.\n",
+                md_escape(&m.model),
+                m.used_by
+                    .iter()
+                    .map(|n| md_code(n))
+                    .collect::<Vec<_>>()
+                    .join(", "),
+                md_escape(m.citation.trim_end_matches('.')),
+                md_escape(m.range.trim_end_matches('.')),
+                md_escape(m.reference.trim_end_matches('.'))
+            ));
         }
         out.push('\n');
     }

@@ -106,6 +106,10 @@ pub fn cmd_cases(name: &str, model: &Model, format: Format, sig: usize) -> u8 {
         }
         Format::Text => out!("{}", cases_table(&runs, name, sig, false)),
         Format::Md => out!("{}", cases_table(&runs, name, sig, true)),
+        Format::Html => {
+            eprintln!("error: --cases prints text, md or json (html is for one case)");
+            return EXIT_USAGE;
+        }
     }
     if runs.iter().any(|r| r.errors) {
         EXIT_ERRORS

@@ -345,3 +345,79 @@ fn cell_reads_are_confined_to_the_worksheets_folder_with_one_neutral_message() {
     assert_eq!(messages[0], messages[1]);
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn xlsx_exits_3_after_writing_when_a_check_fails() {
+    let dir = std::env::temp_dir().join(format!("sheaf-cli-xlsx3-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let out = dir.join("tank.xlsx");
+    let o = sheaf(&[
+        "xlsx",
+        "worksheets/tank_heatup.sheaf",
+        "-o",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(3), "{}", stderr(&o));
+    assert!(out.exists(), "the package is written before exit 3");
+    assert!(stderr(&o).contains("failed"), "{}", stderr(&o));
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
+fn eval_keeps_the_unit_typed_and_formats_states() {
+    assert_eq!(stdout(&sheaf(&["eval", "3 bar"])).trim(), "3 bar");
+    assert_eq!(
+        stdout(&sheaf(&["eval", "20 degC + 10 K"])).trim(),
+        "30 degC"
+    );
+    // A difference of two absolute temperatures is not shown in degC.
+    assert_eq!(
+        stdout(&sheaf(&["eval", "20 degC - 10 degC"])).trim(),
+        "10 K"
+    );
+    let o = sheaf(&[
+        "eval",
+        "state(fluid(\"water\"), p: 3 MPa, T: 400 degC)",
+        "--format",
+        "json",
+    ]);
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let h = v["fields"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|f| f["name"] == "h")
+        .unwrap();
+    assert_eq!(h["unit"], "kJ/kg");
+    assert_eq!(h["si_unit"], "J/kg");
+    let o = sheaf(&[
+        "eval",
+        "state(fluid(\"water\"), p: 3 MPa, T: 400 degC)",
+        "--format",
+        "md",
+    ]);
+    assert!(stdout(&o).contains("| `.h` |"), "{}", stdout(&o));
+}
+
+#[test]
+fn html_report_is_one_self_contained_page() {
+    let o = sheaf(&["run", "worksheets/steam_turbine.sheaf", "--format", "html"]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let html = stdout(&o);
+    assert!(html.starts_with("<!DOCTYPE html>"));
+    assert!(html.contains("@page { size: A4"), "print stylesheet");
+    assert!(
+        !html.contains("<script") && !html.contains("http"),
+        "no network"
+    );
+    for part in [
+        "NOT CHECKED",
+        "<h2>State points</h2>",
+        "<code>mdot * (st1.h - st2.h)</code>",
+        "<h2>Checks</h2>",
+        "IAPWS R7-97(2012)",
+        "qualified engineer",
+    ] {
+        assert!(html.contains(part), "missing {part}");
+    }
+}

@@ -76,6 +76,10 @@ fn report_layouts_match_golden_files() {
         ("worksheets/tank_heatup.sheaf", "md", "md"),
         ("worksheets/feed_pump.sheaf", "text", "txt"),
         ("worksheets/feed_pump.sheaf", "md", "md"),
+        ("worksheets/steam_turbine.sheaf", "text", "txt"),
+        ("worksheets/steam_turbine.sheaf", "md", "md"),
+        ("tests/golden/reports/state_columns.sheaf", "text", "txt"),
+        ("tests/golden/reports/state_columns.sheaf", "md", "md"),
     ] {
         let out = Command::new(env!("CARGO_BIN_EXE_sheaf"))
             .current_dir(&root)

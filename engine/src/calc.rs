@@ -163,7 +163,17 @@ pub fn evaluate_expression(text: &str, in_unit: Option<&str>) -> Result<Calculat
 
 fn reading(f: Field, x: f64) -> Reading {
     let dim = fields::info(f).dim;
-    let (value, unit) = units::auto_display(dim, x);
+    // Specific energies in kJ/kg and entropies in kJ/(kg K), as reports
+    // show state fields; the rest in coherent SI with a prefix.
+    let fixed = match f {
+        Field::H | Field::U => crate::report::fixed_unit("kJ/kg"),
+        Field::S | Field::Cp | Field::Cv => crate::report::fixed_unit("kJ/(kg K)"),
+        _ => None,
+    };
+    let (value, unit) = match fixed {
+        Some(d) => crate::report::shown(&d, dim, x),
+        None => units::auto_display(dim, x),
+    };
     Reading {
         name: f.name().to_string(),
         value,

@@ -1657,7 +1657,7 @@ impl Cx<'_> {
                         );
                     } else if q.aff == Affinity::Difference && unit.affinity == Affinity::Absolute {
                         let alt = if units::quantity_name(q.dim) == "temperature" {
-                            "`K` or `delta_degC`"
+                            "`K` or `degC_diff`"
                         } else {
                             "an absolute unit such as `kPa` or `bar`"
                         };

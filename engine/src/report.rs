@@ -33,6 +33,61 @@ pub struct Report {
     pub warnings: Vec<WarningRow>,
     /// Whether any gauge unit appears (the report then says what gauge means).
     pub uses_gauge: bool,
+    /// The state-point table: one row per state, in worksheet order.
+    pub states: StateTable,
+    /// The property models used, with their sources (the "Methods" block).
+    pub methods: Vec<MethodRow>,
+    /// Inputs whose value is not the worksheet's: (name, value as given,
+    /// where from).
+    pub overrides: Vec<(String, String, String)>,
+}
+
+/// The state-point table: one row per state, one column per chosen field,
+/// one display unit per column.
+#[derive(Clone, Debug, Default, Serialize)]
+pub struct StateTable {
+    pub columns: Vec<StateColumn>,
+    pub rows: Vec<StateTableRow>,
+    /// Said under the table (gauge inputs shown as absolute pressures).
+    pub notes: Vec<String>,
+}
+
+/// A column of the state-point table.
+#[derive(Clone, Debug, Serialize)]
+pub struct StateColumn {
+    #[serde(skip)]
+    pub field: Field,
+    /// Unit text of the column ("degC", "bar"; empty when dimensionless).
+    pub unit: String,
+    #[serde(skip)]
+    pub display: DisplayUnit,
+}
+
+/// One state of the table.
+#[derive(Clone, Debug, Serialize)]
+pub struct StateTableRow {
+    pub name: String,
+    pub description: Option<String>,
+    /// The expression as written.
+    pub expr: String,
+    /// Value per column in the column's unit (None: the model has no such
+    /// field, e.g. x of a superheated state).
+    pub cells: Vec<Option<f64>>,
+    pub node: usize,
+}
+
+/// A property model used by the worksheet and where it comes from.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct MethodRow {
+    /// "water/steam (IAPWS-IF97)", "ideal gas air".
+    pub model: String,
+    pub citation: String,
+    /// Validity range in words.
+    pub range: String,
+    /// Reference state of h and s in words.
+    pub reference: String,
+    /// Worksheet names (substances and states) that use it.
+    pub used_by: Vec<String>,
 }
 
 /// A warning of the report.
@@ -90,10 +145,15 @@ pub struct QuantityRow {
     pub overridden: Option<String>,
     /// An input solved by a `find`: how.
     pub found: Option<FoundRow>,
+    /// An input written as a plain number in its display unit: the number
+    /// text as written (`1.01325`), shown instead of a rounded value.
+    pub written: Option<String>,
     /// Why there is no value ("not evaluated: ..."), if so.
     pub problem: Option<String>,
     /// States and substances: their fields as `name.field` rows.
     pub fields: Vec<QuantityRow>,
+    /// The defining expression as written.
+    pub expr: String,
     pub node: usize,
 }
 
@@ -194,8 +254,10 @@ fn number_row(
         boolean: None,
         overridden: None,
         found: None,
+        written: None,
         problem: None,
         fields: Vec::new(),
+        expr: String::new(),
         node,
     }
 }
@@ -224,6 +286,9 @@ impl Model {
             checks: Vec::new(),
             warnings: Vec::new(),
             uses_gauge: ["barg", "psig", "kPag"].iter().any(|g| src.contains(g)),
+            states: StateTable::default(),
+            methods: Vec::new(),
+            overrides: Vec::new(),
         };
         for (si, stmt) in ws.statements.iter().enumerate() {
             let line = lines.line(stmt.span.start);
@@ -273,6 +338,14 @@ impl Model {
                 }
             }
         }
+        r.states = self.state_table(&r);
+        r.methods = self.methods();
+        for (i, n) in self.nodes().iter().enumerate() {
+            if let (Some(o), Some(name)) = (self.override_of(i), &n.name) {
+                r.overrides
+                    .push((name.name.clone(), o.text.clone(), o.source.to_string()));
+            }
+        }
         r
     }
 
@@ -319,7 +392,7 @@ impl Model {
                         let mut fr = number_row(
                             fname,
                             kind,
-                            &DisplayUnit::Auto,
+                            &self.state_field_display(i, f),
                             field_dim(f),
                             Some(x),
                             line,
@@ -345,10 +418,13 @@ impl Model {
                 row.si_unit = String::new();
                 row.unit = String::new();
                 for (fname, dim, x, words) in substance_fields(sub) {
+                    if !is_substance_field(fname) {
+                        continue;
+                    }
                     let mut fr = number_row(
                         format!("{name}.{fname}"),
                         kind,
-                        &DisplayUnit::Auto,
+                        &substance_display(fname),
                         dim,
                         Some(x),
                         line,
@@ -411,6 +487,7 @@ impl Model {
             }
         };
         row.description = node.description.clone();
+        row.expr = node.expr_span.slice(self.source()).to_string();
         row.problem = problem;
         row.overridden = self.override_of(i).map(|o| o.source.to_string());
         if let Some(f) = self.find_of(i) {
@@ -424,6 +501,9 @@ impl Model {
                 residual: fd.residual,
                 condition: f.condition.clone(),
             });
+        }
+        if row.overridden.is_none() && node.kind == NodeKind::Input {
+            row.written = self.written_digits(i);
         }
         row
     }
@@ -459,6 +539,353 @@ impl Model {
             operands,
             node: i,
         }
+    }
+}
+
+/// The literal of an input written as a plain number (possibly negated or
+/// in parentheses): (span to replace, value as written incl. sign, unit
+/// text).
+pub(crate) fn input_literal<'a>(
+    e: &'a sheaf_grammar::Expr,
+    src: &str,
+) -> Option<(
+    sheaf_grammar::Span,
+    f64,
+    Option<&'a sheaf_grammar::UnitExpr>,
+)> {
+    match &e.kind {
+        sheaf_grammar::ExprKind::Paren(a) => input_literal(a, src),
+        sheaf_grammar::ExprKind::Number { value, text, unit } => {
+            let span = sheaf_grammar::Span::new(e.span.start, e.span.start + text.len());
+            (span.slice(src) == text).then_some((span, *value, unit.as_ref()))
+        }
+        sheaf_grammar::ExprKind::Neg(a) => match &a.kind {
+            sheaf_grammar::ExprKind::Number { value, text, unit } => {
+                let end = a.span.start + text.len();
+                (sheaf_grammar::Span::new(a.span.start, end).slice(src) == text).then_some((
+                    sheaf_grammar::Span::new(e.span.start, end),
+                    -value,
+                    unit.as_ref(),
+                ))
+            }
+            _ => None,
+        },
+        _ => None,
+    }
+}
+
+fn src_of(m: &Model) -> &str {
+    m.source()
+}
+
+/// Display unit from unit text (`kJ/kg`); None if it does not resolve.
+pub fn fixed_unit(text: &str) -> Option<DisplayUnit> {
+    let u = sheaf_grammar::parse_unit(text).ok()?;
+    let unit = units::resolve(&u).ok()?;
+    Some(DisplayUnit::Fixed {
+        unit,
+        text: text.to_string(),
+    })
+}
+
+/// The absolute unit of a gauge unit's text (`barg` -> `bar`).
+fn absolute_of(text: &str) -> &str {
+    match text {
+        "barg" => "bar",
+        "psig" => "psi",
+        "kPag" => "kPa",
+        t => t,
+    }
+}
+
+/// Default columns of the state-point table.
+pub const DEFAULT_STATE_COLUMNS: &str = "T p h s x v";
+
+impl Model {
+    /// Unit of the first number the node reads (directly, or through the
+    /// states it reads) with dimension `dim` and a fixed display unit.
+    fn unit_from_deps(&self, node: usize, dim: Dim, depth: usize) -> Option<String> {
+        let nodes = self.nodes();
+        let n = nodes.get(node)?;
+        for &d in &n.deps {
+            if let (Ty::Num(q), DisplayUnit::Fixed { text, .. }) = (nodes[d].ty, &nodes[d].display)
+                && q.dim == dim
+            {
+                return Some(text.clone());
+            }
+        }
+        if depth < 8 {
+            for &d in &n.deps {
+                if matches!(nodes[d].ty, Ty::State(_))
+                    && let Some(u) = self.unit_from_deps(d, dim, depth + 1)
+                {
+                    return Some(u);
+                }
+            }
+        }
+        None
+    }
+
+    /// Unit of the first input of dimension `dim` written with a unit.
+    fn first_input_unit(&self, dim: Dim) -> Option<String> {
+        self.nodes().iter().find_map(|n| match (&n.ty, &n.display) {
+            (Ty::Num(q), DisplayUnit::Fixed { text, .. })
+                if n.kind == NodeKind::Input && q.dim == dim =>
+            {
+                Some(text.clone())
+            }
+            _ => None,
+        })
+    }
+
+    /// Display unit of a state field (DESIGN §3): temperatures and
+    /// pressures in the units of the inputs that fixed the state (gauge
+    /// shown absolute), kJ/kg and kJ/(kg K) for specific energies and
+    /// entropies, otherwise coherent SI.
+    pub fn state_field_display(&self, node: usize, f: Field) -> DisplayUnit {
+        let text = match f {
+            Field::T | Field::P => {
+                let dim = if f == Field::T {
+                    Dim::TEMPERATURE
+                } else {
+                    Dim::PRESSURE
+                };
+                self.unit_from_deps(node, dim, 0)
+                    .or_else(|| self.first_input_unit(dim))
+                    .map(|t| absolute_of(&t).to_string())
+            }
+            Field::H | Field::U => Some("kJ/kg".to_string()),
+            Field::S | Field::Cp | Field::Cv => Some("kJ/(kg K)".to_string()),
+            Field::V => Some("m^3/kg".to_string()),
+            Field::Rho => Some("kg/m^3".to_string()),
+            Field::W => Some("m/s".to_string()),
+            Field::M => Some("g/mol".to_string()),
+            Field::R => Some("J/(kg K)".to_string()),
+            Field::K | Field::X => None,
+        };
+        text.and_then(|t| fixed_unit(&t))
+            .filter(|d| match d {
+                DisplayUnit::Fixed { unit, .. } => unit.dim == field_dim(f),
+                DisplayUnit::Auto => true,
+            })
+            .unwrap_or(DisplayUnit::Auto)
+    }
+
+    /// The columns chosen by `meta state_columns = "..."` (unknown field
+    /// names are skipped), else the default (x only when a state has it).
+    pub fn state_columns(&self) -> Vec<Field> {
+        let chosen = self
+            .worksheet()
+            .statements
+            .iter()
+            .find_map(|s| match &s.kind {
+                StatementKind::Meta { key, value } if key.name == "state_columns" => {
+                    Some(value.value.clone())
+                }
+                _ => None,
+            });
+        let explicit = chosen.is_some();
+        let text = chosen.unwrap_or_else(|| DEFAULT_STATE_COLUMNS.to_string());
+        let any_x = self.values().iter().any(|v| match v {
+            Value::State(sv) => sv.st.get(Field::X).is_some(),
+            _ => false,
+        });
+        let mut out: Vec<Field> = Vec::new();
+        for w in text.split([' ', ',']).filter(|w| !w.is_empty()) {
+            if let Some(f) = Field::from_name(w.trim_start_matches('.'))
+                && !out.contains(&f)
+                && (explicit || f != Field::X || any_x)
+            {
+                out.push(f);
+            }
+        }
+        out
+    }
+
+    /// The number text of an input written as a plain literal in its
+    /// display unit (`1.01325` of `1.01325 bar`).
+    fn written_digits(&self, i: usize) -> Option<String> {
+        let n = self.nodes().get(i)?;
+        let StatementKind::Input { value, .. } = &self.worksheet().statements.get(n.stmt)?.kind
+        else {
+            return None;
+        };
+        let src = src_of(self);
+        let (span, _, unit) = input_literal(value, src)?;
+        let same_unit = match (&n.display, unit) {
+            (DisplayUnit::Fixed { text, .. }, Some(u)) => {
+                crate::check::normalise_unit_text(u.span.slice(src)) == *text
+            }
+            (DisplayUnit::Auto, None) => {
+                let Ty::Num(q) = n.ty else { return None };
+                q.dim == Dim::NONE
+            }
+            _ => false,
+        };
+        same_unit.then(|| span.slice(src).to_string())
+    }
+
+    fn state_table(&self, r: &Report) -> StateTable {
+        let mut rows_nodes = Vec::new();
+        for b in &r.blocks {
+            if let Block::Quantity(q) = b
+                && matches!(self.value(q.node), Value::State(_))
+            {
+                rows_nodes.push(q.node);
+            }
+        }
+        let fields = self.state_columns();
+        let columns: Vec<StateColumn> = fields
+            .iter()
+            .map(|&f| {
+                let display = rows_nodes
+                    .first()
+                    .map_or(DisplayUnit::Auto, |&n| self.state_field_display(n, f));
+                let unit = match &display {
+                    DisplayUnit::Fixed { text, .. } => text.clone(),
+                    DisplayUnit::Auto => units::si_unit(field_dim(f)),
+                };
+                let unit = if field_dim(f) == Dim::NONE {
+                    String::new()
+                } else {
+                    unit
+                };
+                StateColumn {
+                    field: f,
+                    unit,
+                    display,
+                }
+            })
+            .collect();
+        let mut rows = Vec::new();
+        for &n in &rows_nodes {
+            let Value::State(sv) = self.value(n) else {
+                continue;
+            };
+            let node = &self.nodes()[n];
+            rows.push(StateTableRow {
+                name: node.name.as_ref().map_or(String::new(), |x| x.name.clone()),
+                description: node.description.clone(),
+                expr: node.expr_span.slice(self.source()).to_string(),
+                cells: columns
+                    .iter()
+                    .map(|c| {
+                        sv.st.get(c.field).map(|x| match &c.display {
+                            DisplayUnit::Fixed { unit, .. } => unit.from_si(x),
+                            DisplayUnit::Auto => x,
+                        })
+                    })
+                    .collect(),
+                node: n,
+            });
+        }
+        let mut notes = Vec::new();
+        if let Some(c) = columns.iter().find(|c| c.field == Field::P) {
+            let gauge: Vec<String> = self
+                .nodes()
+                .iter()
+                .filter(|n| {
+                    n.kind == NodeKind::Input
+                        && matches!(&n.display, DisplayUnit::Fixed { text, .. }
+                            if absolute_of(text) != text.as_str() && absolute_of(text) == c.unit)
+                })
+                .filter_map(|n| n.name.as_ref().map(|x| format!("`{}`", x.name)))
+                .collect();
+            if !gauge.is_empty() && !rows.is_empty() {
+                notes.push(format!(
+                    "Pressures in the state table are absolute ({}); the gauge input{} {} {} shown absolute.",
+                    c.unit,
+                    if gauge.len() == 1 { "" } else { "s" },
+                    gauge.join(", "),
+                    if gauge.len() == 1 { "is" } else { "are" }
+                ));
+            }
+        }
+        StateTable {
+            columns,
+            rows,
+            notes,
+        }
+    }
+
+    /// Every property model the worksheet used, with its source, range and
+    /// reference state, in order of first use.
+    pub fn methods(&self) -> Vec<MethodRow> {
+        let mut out: Vec<MethodRow> = Vec::new();
+        for &i in self.order() {
+            let sub = match self.value(i) {
+                Value::Substance(s) => &**s,
+                Value::State(sv) => &*sv.sub,
+                _ => continue,
+            };
+            let name = self.nodes()[i]
+                .name
+                .as_ref()
+                .map_or(String::new(), |n| n.name.clone());
+            let m = method_of(sub);
+            match out.iter_mut().find(|x| x.model == m.model) {
+                Some(x) => x.used_by.push(name),
+                None => {
+                    let mut m = m;
+                    m.used_by.push(name);
+                    out.push(m);
+                }
+            }
+        }
+        // Worksheet order of the names.
+        out.sort_by_key(|m| {
+            m.used_by
+                .iter()
+                .filter_map(|n| self.node_index(n))
+                .map(|i| self.nodes()[i].stmt)
+                .min()
+        });
+        for m in &mut out {
+            m.used_by
+                .sort_by_key(|n| self.node_index(n).map(|i| self.nodes()[i].stmt));
+        }
+        out
+    }
+}
+
+/// Source, range and reference state of a substance's model.
+pub fn method_of(sub: &Substance) -> MethodRow {
+    let (model, citation, range, reference) = match sub {
+        Substance::IdealGas(g) => (
+            format!("ideal gas {} (temperature-dependent cp)", g.name()),
+            "NASA Glenn 7-coefficient polynomials: McBride, Zehe & Gordon, NASA/TP-2002-211556 (2002), coefficients as distributed in the Burcat thermochemical database"
+                .to_string(),
+            "200 K to 6000 K; ideal-gas behaviour (low pressure, far from condensation)".to_string(),
+            "h = 0 at 298.15 K (sensible enthalpy); s is the absolute (third-law) entropy at 100 kPa, s = s°(T) - R ln(p / 100 kPa)"
+                .to_string(),
+        ),
+        Substance::PerfectGas(_) => (
+            "perfect gas (constant cp)".to_string(),
+            "ideal-gas relations with the constant cp and R written in the worksheet".to_string(),
+            "constant cp: a warning beyond a 200 K temperature span (common practice)".to_string(),
+            "h = 0 at 298.15 K; s = 0 at 298.15 K and 100 kPa".to_string(),
+        ),
+        Substance::Incompressible(_) => (
+            "incompressible substance (constant c and density)".to_string(),
+            "h = c (T - T_ref) + v (p - p_ref), s = c ln(T / T_ref), with c and density written in the worksheet"
+                .to_string(),
+            "liquids and solids far from saturation; the worksheet's values set the accuracy"
+                .to_string(),
+            "h = 0 at 298.15 K and 101.325 kPa; s = 0 at 298.15 K".to_string(),
+        ),
+        Substance::Fluid(f) => (
+            f.describe().to_string(),
+            f.citation().to_string(),
+            f.range().to_string(),
+            f.reference_state().to_string(),
+        ),
+    };
+    MethodRow {
+        model,
+        citation,
+        range,
+        reference,
+        used_by: Vec::new(),
     }
 }
 
@@ -501,7 +928,10 @@ pub fn saturation_fields(
     out
 }
 
-/// Fields listed for a substance: (name, dimension, SI value, words).
+/// Fields of a substance: (name, dimension, SI value, words). First the
+/// fields the language offers (`.M` molar mass when the model knows it,
+/// `.R` for gases; [`is_substance_field`]), then the model's parameters
+/// (cp, cv, k, density) that the package's formulas use.
 pub fn substance_fields(sub: &Substance) -> Vec<(&'static str, Dim, f64, &'static str)> {
     let mut out = Vec::new();
     for f in [
@@ -517,4 +947,18 @@ pub fn substance_fields(sub: &Substance) -> Vec<(&'static str, Dim, f64, &'stati
         }
     }
     out
+}
+
+/// Display unit of a substance field: molar mass in g/mol.
+pub fn substance_display(name: &str) -> DisplayUnit {
+    match name {
+        "M" => fixed_unit("g/mol").unwrap_or(DisplayUnit::Auto),
+        _ => DisplayUnit::Auto,
+    }
+}
+
+/// Whether a substance field is one the language offers (`.M`, `.R`;
+/// DESIGN §4); the others are model parameters.
+pub fn is_substance_field(name: &str) -> bool {
+    matches!(name, "M" | "R")
 }

@@ -445,7 +445,7 @@ fn units_after_numbers() {
     assert_eq!(e("3 µm"), "3[µm]");
     assert_eq!(e("2kg"), "2[kg]");
     assert_eq!(e("7.5 barg"), "7.5[barg]");
-    assert_eq!(e("1 delta_degC"), "1[delta_degC]");
+    assert_eq!(e("1 degC_diff"), "1[degC_diff]");
 }
 
 #[test]

@@ -48,12 +48,17 @@ fn adding_two_absolute_temperatures_is_an_error() {
 }
 
 #[test]
-fn a_delta_degc_difference_shown_in_kelvin_is_numerically_equal() {
-    let m = run("d : K = 10 delta_degC\n");
+fn a_degc_diff_difference_shown_in_kelvin_is_numerically_equal() {
+    let m = run("d : K = 10 degC_diff\n");
     assert!(close(m.number("d").unwrap(), 10.0, 1e-12));
     // An absolute temperature plus a difference stays absolute and may be shown in degC.
-    let m = run("t : degC = 20 degC + 10 delta_degC\n");
+    let m = run("t : degC = 20 degC + 10 degC_diff\n");
     assert!(close(m.number("t").unwrap(), 303.15, 1e-12));
+    // The symbol spellings Δ°C and Δ°F are the same units.
+    let m = run("a : K = 10 Δ°C\nb : K = 18 Δ°F\nc : degC = 20 °C + 5 Δ°C\n");
+    assert!(close(m.number("a").unwrap(), 10.0, 1e-12));
+    assert!(close(m.number("b").unwrap(), 10.0, 1e-12));
+    assert!(close(m.number("c").unwrap(), 298.15, 1e-12));
 }
 
 #[test]
@@ -68,10 +73,10 @@ fn a_difference_shown_in_degc_is_an_error() {
 #[test]
 fn fahrenheit_and_rankine() {
     // NIST SP 811 (2008) §B.8: T/K = (t/°F + 459.67)/1.8; T/K = (T/°R)/1.8.
-    let m = run("a = 212 degF\nb = 491.67 degR\nd : delta_degF = 212 degF - 32 degF\n");
+    let m = run("a = 212 degF\nb = 491.67 degR\nd : degF_diff = 212 degF - 32 degF\n");
     assert!(close(m.number("a").unwrap(), 373.15, 1e-12));
     assert!(close(m.number("b").unwrap(), 273.15, 1e-12));
-    assert!(close(m.number("d").unwrap(), 100.0, 1e-12)); // 180 delta_degF = 100 K
+    assert!(close(m.number("d").unwrap(), 100.0, 1e-12)); // 180 degF_diff = 100 K
 }
 
 #[test]

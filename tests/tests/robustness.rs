@@ -58,7 +58,7 @@ const TOKENS: &[&str] = &[
     "2 kJ/kg",
     "1 kJ/(kg K)",
     "4 m^3/h",
-    "10 delta_degC",
+    "10 degC_diff",
     "0.8",
     "1.3",
     "\"air\"",

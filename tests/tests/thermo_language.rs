@@ -81,7 +81,7 @@ fn argument_errors_are_worded() {
         "g = ideal_gas(\"air\")\nst = state(g, T: 300 K, p: 1 bar)\nb = pump(st, p: 3 bar, eta: 0.8)\n",
     );
     assert!(e.contains("`pump` needs a liquid"), "{e}");
-    let e = check_errors("g = ideal_gas(\"air\")\nst = state(g, T: 10 delta_degC, p: 1 bar)\n");
+    let e = check_errors("g = ideal_gas(\"air\")\nst = state(g, T: 10 degC_diff, p: 1 bar)\n");
     assert!(e.contains("absolute temperature"), "{e}");
 }
 

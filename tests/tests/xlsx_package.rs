@@ -65,10 +65,7 @@ fn thermo_rows_are_live_where_a_closed_form_exists() {
     let out = dir.join("t.xlsx");
     write(&ws, &src, &m, &out);
     let book = Book::read(&out);
-    let basis = |name: &str| -> String {
-        let p = book.pos(name);
-        book.text(&Book::at(p, 2)).unwrap_or_default()
-    };
+    let basis = |name: &str| -> String { book.basis(name) };
     // Perfect gas and incompressible devices are closed forms.
     for n in [
         "f_st2_T",
@@ -94,12 +91,12 @@ fn thermo_rows_are_live_where_a_closed_form_exists() {
     assert_eq!(basis("q_ds_air"), "formula");
     // Ideal-gas compressor outlet: an inversion, engine-only with a flag.
     assert_eq!(basis("f_g2_T"), "engine");
-    let flag = Book::at(book.pos("f_g2_T"), 3);
+    let flag = book.flag_pos("f_g2_T");
     let f = book.formula(&flag).unwrap();
     assert!(f.contains("d1_T_g") && f.contains("d_p_g"), "{f}");
     // A live row computed from an engine value is flagged too.
     assert!(
-        book.formula(&Book::at(book.pos("q_dh_g"), 3))
+        book.formula(&book.flag_pos("q_dh_g"))
             .unwrap()
             .contains("d1_T_g")
     );
@@ -253,4 +250,102 @@ fn pull_reads_the_unit_column() {
     assert_eq!(c.unit, "barg");
     assert!(c.note.as_deref().unwrap_or("").contains("psig"), "{c:?}");
     assert!(c.literal.is_some());
+}
+
+/// The XML of one part of an xlsx (zip) file.
+fn part(path: &std::path::Path, name: &str) -> String {
+    use std::io::Read;
+    let mut z = zip::ZipArchive::new(std::fs::File::open(path).unwrap()).unwrap();
+    let mut s = String::new();
+    z.by_name(name).unwrap().read_to_string(&mut s).unwrap();
+    s
+}
+
+/// What a printed, reviewed package needs beyond values: page setup on
+/// every sheet, row heights for wrapped text, number formats, protection
+/// with only the inputs unlocked, flag formulas caching text, the cover's
+/// status and review mark, and an override recorded where it is used.
+#[test]
+fn package_layout_protection_and_overrides_read_back() {
+    let ws = root().join("worksheets/steam_turbine.sheaf");
+    let (src, _) = load(&ws);
+    let mut m = Model::new(src.clone()).unwrap();
+    m.set_input_text("p2", "5 barg").unwrap();
+    m.evaluate();
+    let dir = tmp_dir("xlsx-layout");
+    let out = dir.join("set.xlsx");
+    write(&ws, &src, &m, &out);
+
+    // Sheets: Cover, Calculation, Data.
+    for (k, landscape) in [(1, false), (2, false), (3, true)] {
+        let xml = part(&out, &format!("xl/worksheets/sheet{k}.xml"));
+        assert!(xml.contains("paperSize=\"9\""), "sheet{k}: A4");
+        assert!(xml.contains("fitToHeight=\"0\""), "sheet{k}: fit to width");
+        assert_eq!(
+            xml.contains("orientation=\"landscape\""),
+            landscape,
+            "sheet{k}"
+        );
+        assert!(xml.contains("<sheetProtection"), "sheet{k}: protected");
+        assert!(!xml.contains("password"), "sheet{k}: no password");
+    }
+    let calc = part(&out, "xl/worksheets/sheet2.xml");
+    // Rows with wrapped text are taller than one line.
+    let tall = calc
+        .split("<row ")
+        .filter(|r| r.contains("customHeight=\"1\""))
+        .count();
+    assert!(tall >= 2, "{tall} rows with a fitted height");
+    // Every flag formula caches text (empty), never the number 0.
+    let mut flags = 0;
+    for c in calc.split("<c ").skip(1) {
+        if c.contains("<f>IF(OR(") {
+            assert!(c.contains("t=\"str\""), "flag cell caches a number: {c}");
+            assert!(c.contains("<v></v>"), "{c}");
+            flags += 1;
+        }
+    }
+    assert!(flags > 0);
+    // The data sheet's sha256 cell spans columns, so it prints whole.
+    let data = part(&out, "xl/worksheets/sheet3.xml");
+    assert!(
+        data.contains("<mergeCell ref=\"B4:H4\"/>"),
+        "sha256 cell merged"
+    );
+    // Number formats: display values rounded, SI values readable; inputs
+    // unlocked.
+    let styles = part(&out, "xl/styles.xml");
+    assert!(styles.contains("formatCode=\"0.000\""), "display format");
+    assert!(styles.contains("formatCode=\"0.0000\""), "SI format");
+    assert!(styles.contains("locked=\"0\""), "unlocked input cells");
+
+    let book = Book::read(&out);
+    // The input cell holds the override, the data sheet says where from.
+    let p2 = book.pos(&names::name_of(NameKind::Input, "p2")).clone();
+    assert_eq!(book.number(&p2), Some(5.0));
+    let u = book.pos(&names::name_of(NameKind::Recorded, "p2")).clone();
+    assert_eq!(book.number(&u), Some(5.0));
+    assert_eq!(
+        book.text(&Book::at(&u, 4)).as_deref(),
+        Some("5 barg (command line (--set))")
+    );
+    let cover_text = |r: u32, c: u32| match book.values.get(&("Cover".to_string(), r, c)) {
+        Some(calamine::Data::String(s)) => s.clone(),
+        other => format!("{other:?}"),
+    };
+    assert_eq!(cover_text(3, 1), "all 3 checks pass");
+    assert!(cover_text(4, 1).starts_with("NOT CHECKED"));
+    assert!(
+        book.values
+            .values()
+            .any(|v| matches!(v, calamine::Data::String(s) if s == "5 barg, from the command line (--set); the worksheet says 4.5 barg")),
+        "the cover names the override"
+    );
+    // Method and sources on the cover.
+    assert!(book.values.values().any(
+        |v| matches!(v, calamine::Data::String(s) if s.contains("IAPWS R7-97(2012)") && s.contains("triple point"))
+    ));
+    // The IF97 results were computed at 5 barg.
+    let st2p = book.pos("f_st2_p").clone();
+    assert_eq!(book.number(&st2p), Some(601_325.0));
 }

@@ -54,7 +54,15 @@ fn recalc(files: &[PathBuf], outdir: &Path) {
 
 /// Which rows are live formulas and which are flagged (by defined name).
 fn basis(book: &Book, name: &str) -> String {
-    book.text(&Book::at(book.pos(name), 2)).unwrap_or_default()
+    book.basis(name)
+}
+
+/// The cover's status line (Cover!B4) as recalculated.
+fn cover_status(book: &Book) -> String {
+    match book.values.get(&("Cover".to_string(), 3, 1)) {
+        Some(calamine::Data::String(s)) => s.clone(),
+        other => panic!("cover status: {other:?}"),
+    }
 }
 
 #[test]
@@ -95,7 +103,39 @@ fn libreoffice_reproduces_the_engine() {
         files.push(edited);
         edits.push((input, new));
     }
+    // A package written with an override (`sheaf xlsx --set 'p2=5 barg'`):
+    // its input cells hold the value the engine used.
+    let set_ws = root().join("worksheets/steam_turbine.sheaf");
+    let set_src = std::fs::read_to_string(&set_ws).unwrap();
+    let mut set_model = sheaf_engine::Model::new(set_src.clone()).unwrap();
+    set_model.set_input_text("p2", "5 barg").unwrap();
+    set_model.evaluate();
+    let set_out = dir.join("set.xlsx");
+    write(&set_ws, &set_src, &set_model, &set_out);
+    files.push(set_out);
     recalc(&files, &dir);
+    {
+        let book = Book::read(&dir.join("recalc/set.xlsx"));
+        let mut n = 0;
+        for (name, pos) in &book.names {
+            let Some(engine) = engine_value(&set_model, name) else {
+                continue;
+            };
+            let got = book.number(pos).unwrap();
+            assert!(
+                close(got, engine, REL),
+                "--set package: {name}: LibreOffice {got}, engine {engine}"
+            );
+            n += 1;
+        }
+        assert!(n > 30, "{n}");
+        let p2 = book.pos(&names::name_of(NameKind::Input, "p2"));
+        assert_eq!(book.number(p2), Some(5.0));
+        let d = book.pos(&names::name_of(NameKind::Differs, "p2"));
+        assert_eq!(book.number(d), Some(0.0), "no stale flag for the override");
+        let status = cover_status(&book);
+        assert!(status.starts_with("all 3 checks pass"), "{status}");
+    }
 
     let mut compared = 0;
     let mut flagged = 0;
@@ -139,7 +179,7 @@ fn libreoffice_reproduces_the_engine() {
             let Some(before) = engine_value(&m, name) else {
                 continue;
             };
-            let flag = book.text(&Book::at(pos, 3)).unwrap_or_default();
+            let flag = book.text(&book.flag_pos(name)).unwrap_or_default();
             let depends = before != engine;
             match basis(&book, name).as_str() {
                 "engine" if depends => {
@@ -167,6 +207,13 @@ fn libreoffice_reproduces_the_engine() {
         assert!(
             changed > 0,
             "{}: editing {input} changed no closed-form result",
+            ws.display()
+        );
+        // The cover's live status says the results are stale.
+        let status = cover_status(&book);
+        assert!(
+            status.starts_with("results stale"),
+            "{}: cover status after an edit: {status}",
             ws.display()
         );
         // The data sheet records the edit.

@@ -174,7 +174,7 @@ impl Q {
             }
             Q::Power => const { &[u("kW", 1e3), u("MW", 1e6), u("W", 1.0)] },
             Q::SpecHeat => const { &[u("kJ/(kg K)", 1e3), u("J/(kg*K)", 1.0)] },
-            Q::TempDiff => const { &[u("K", 1.0), u("delta_degC", 1.0)] },
+            Q::TempDiff => const { &[u("K", 1.0), u("degC_diff", 1.0)] },
             Q::Temp => {
                 const {
                     &[

@@ -143,7 +143,7 @@ impl fmt::Display for Dim {
 /// Absolute vs. difference quantities (temperature, gauge pressure).
 ///
 /// Units with an offset (`degC`, `degF`, `barg`, ...) and `degR` give
-/// `Absolute`; `delta_degC`, `delta_degF` give `Difference`; every other
+/// `Absolute`; `degC_diff`, `degF_diff` give `Difference`; every other
 /// unit (including `K`) gives `Neutral`, usable as either.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
 pub enum Affinity {

@@ -312,21 +312,23 @@ fn build() -> Vec<Entry> {
         row("degC", "degree Celsius", TH, c::<tt::degree_celsius>())
             .aliases(&["°C", "℃"])
             .offset(off::<tt::degree_celsius>(), Affinity::Absolute)
-            .note("also °C; absolute temperature, T/K = t/degC + 273.15; for differences use K or delta_degC"),
+            .note("also °C; absolute temperature, T/K = t/degC + 273.15; for differences use K or degC_diff"),
         row("degF", "degree Fahrenheit", TH, c::<tt::degree_fahrenheit>())
             .aliases(&["°F", "℉"])
             .offset(off::<tt::degree_fahrenheit>(), Affinity::Absolute)
-            .note("also °F; absolute temperature, T/K = (t/degF + 459.67)/1.8; for differences use delta_degF"),
+            .note("also °F; absolute temperature, T/K = (t/degF + 459.67)/1.8; for differences use degF_diff"),
         row("degR", "degree Rankine", TH, c::<tt::degree_rankine>())
             .aliases(&["°R"])
             .affinity(Affinity::Absolute)
             .note("also °R; absolute temperature, T/K = T/degR / 1.8"),
-        row("delta_degC", "degree Celsius (difference)", TH, c::<dt::degree_celsius>())
+        row("degC_diff", "degree Celsius (difference)", TH, c::<dt::degree_celsius>())
+            .aliases(&["Δ°C"])
             .affinity(Affinity::Difference)
-            .note("temperature difference, same size as K"),
-        row("delta_degF", "degree Fahrenheit (difference)", TH, c::<dt::degree_fahrenheit>())
+            .note("also Δ°C; temperature difference, same size as K"),
+        row("degF_diff", "degree Fahrenheit (difference)", TH, c::<dt::degree_fahrenheit>())
+            .aliases(&["Δ°F"])
             .affinity(Affinity::Difference)
-            .note("temperature difference, 1/1.8 K"),
+            .note("also Δ°F; temperature difference, 1/1.8 K"),
         // amount of substance
         row("mol", "mole", N, c::<amt::mole>()).prefixable(),
         row("kmol", "kilomole", N, c::<amt::kilomole>()),

@@ -257,9 +257,9 @@ fn fahrenheit_to_kelvin_nist() {
     close(r.to_si(491.67), 273.15, 1e-9, "degR");
     assert_eq!(r.affinity, Affinity::Absolute);
     assert_eq!(r.offset, 0.0);
-    // delta_degF: a difference of 1 °F is 1/1.8 K.
-    let d = u("delta_degF");
-    close(d.factor, 1.0 / 1.8, 1e-15, "delta_degF");
+    // degF_diff: a difference of 1 °F is 1/1.8 K.
+    let d = u("degF_diff");
+    close(d.factor, 1.0 / 1.8, 1e-15, "degF_diff");
     assert_eq!(d.affinity, Affinity::Difference);
 }
 
@@ -279,7 +279,7 @@ fn celsius_to_kelvin() {
         (k.factor, k.offset, k.affinity),
         (1.0, 0.0, Affinity::Neutral)
     );
-    let dc = u("delta_degC");
+    let dc = u("degC_diff");
     assert_eq!(
         (dc.factor, dc.offset, dc.affinity),
         (1.0, 0.0, Affinity::Difference)
@@ -505,8 +505,8 @@ fn catalogue_round_trip() {
         "degF",
         "°F",
         "degR",
-        "delta_degC",
-        "delta_degF",
+        "degC_diff",
+        "degF_diff",
         "mol",
         "kmol",
         "N",

@@ -41,11 +41,27 @@ pub struct Ex {
 /// A number as formula text: shortest text that reads back as the same
 /// `f64`; scientific notation outside 1e-4..1e15.
 pub fn number_text(x: f64) -> String {
-    let a = x.abs();
+    // The shortest decimal within one unit in the last place of `x`:
+    // constants folded from units (16.043 g/mol * 0.001) carry binary
+    // noise (0.016042999999999998) that says nothing to a reader; the
+    // neighbouring double 0.016043 differs by 2e-16 relative.
+    let mut y = x;
+    if x.is_finite() && x != 0.0 {
+        for digits in 1..17 {
+            let t = format!("{:.*e}", digits - 1, x);
+            if let Ok(v) = t.parse::<f64>()
+                && (v - x).abs() <= x.abs() * f64::EPSILON
+            {
+                y = v;
+                break;
+            }
+        }
+    }
+    let a = y.abs();
     if a == 0.0 || (1e-4..1e15).contains(&a) {
-        format!("{x}")
+        format!("{y}")
     } else {
-        format!("{x:e}").replace('e', "E")
+        format!("{y:e}").replace('e', "E")
     }
 }
 
@@ -783,8 +799,13 @@ mod tests {
             1e15,
         ] {
             let t = number_text(x);
-            assert_eq!(t.parse::<f64>().unwrap(), x, "{t}");
+            let back = t.parse::<f64>().unwrap();
+            assert!((back - x).abs() <= x.abs() * f64::EPSILON, "{t}");
         }
+        // Binary noise of folded constants is not written.
+        assert_eq!(16.043 * 0.001, 0.016042999999999998);
+        assert_eq!(number_text(16.043 * 0.001), "0.016043");
+        assert_eq!(number_text(1.0 / 3.0), "0.3333333333333333");
         assert_eq!(number_text(1e-7), "1E-7");
         assert_eq!(number_text(101325.0), "101325");
     }

@@ -5,14 +5,19 @@
 //! Layout, name scheme and what is live are described in DEVELOPERS.md
 //! ("xlsx package") and in [`names`].
 
+mod calc_sheet;
+mod cover;
+mod data_sheet;
 pub mod formula;
 pub mod names;
+mod plan;
 pub mod reader;
+mod style;
 mod whatif_sheets;
 mod writer;
 
 use sha2::{Digest, Sha256};
-use sheaf_grammar::{Expr, ExprKind, Span, StatementKind};
+use sheaf_grammar::{Span, StatementKind};
 
 use crate::check::{DisplayUnit, NodeKind};
 use crate::model::Model;
@@ -101,34 +106,6 @@ pub fn shown(display: &DisplayUnit, dim: crate::units::Dim, si: f64) -> Shown {
     }
 }
 
-/// The literal of an input written as a plain number (possibly negated or
-/// in parentheses): (span to replace, value as written incl. sign, unit
-/// text).
-fn input_literal<'a>(
-    e: &'a Expr,
-    src: &str,
-) -> Option<(Span, f64, Option<&'a sheaf_grammar::UnitExpr>)> {
-    match &e.kind {
-        ExprKind::Paren(a) => input_literal(a, src),
-        ExprKind::Number { value, text, unit } => {
-            let span = Span::new(e.span.start, e.span.start + text.len());
-            (span.slice(src) == text).then_some((span, *value, unit.as_ref()))
-        }
-        ExprKind::Neg(a) => match &a.kind {
-            ExprKind::Number { value, text, unit } => {
-                let end = a.span.start + text.len();
-                (Span::new(a.span.start, end).slice(src) == text).then_some((
-                    Span::new(e.span.start, end),
-                    -value,
-                    unit.as_ref(),
-                ))
-            }
-            _ => None,
-        },
-        _ => None,
-    }
-}
-
 /// An input as shown in the package: its value in its display unit and
 /// the conversion, and the literal span when the input is a plain literal
 /// in that unit (the value then is the literal as written).
@@ -145,7 +122,16 @@ pub fn input_shown(model: &Model, node: usize) -> Option<(Shown, Option<Span>)> 
         return Some((sh, None));
     };
     let src = model.source();
-    let lit = input_literal(value, src).and_then(|(span, v, unit)| {
+    if let Some(o) = model.override_of(node) {
+        // The value the engine used: the override, in the input's unit
+        // (the number as given when it was given in that unit).
+        if let Some(v) = number_in_unit(&o.text, &sh.unit) {
+            sh.value = v;
+        }
+        let span = crate::report::input_literal(value, src).map(|(span, _, _)| span);
+        return Some((sh, span));
+    }
+    let lit = crate::report::input_literal(value, src).and_then(|(span, v, unit)| {
         let same_unit = match (&n.display, unit) {
             (DisplayUnit::Fixed { text, .. }, Some(u)) => {
                 crate::check::normalise_unit_text(u.span.slice(src)) == *text
@@ -167,6 +153,18 @@ pub fn input_shown(model: &Model, node: usize) -> Option<(Shown, Option<Span>)> 
         }
         None => Some((sh, None)),
     }
+}
+
+/// The number of `text` ("5 barg") when it is a plain number followed by
+/// exactly `unit` (or no unit when `unit` is empty).
+fn number_in_unit(text: &str, unit: &str) -> Option<f64> {
+    let t = text.trim();
+    let end = t
+        .find(|c: char| !(c.is_ascii_digit() || matches!(c, '.' | '-' | '+' | 'e' | 'E')))
+        .unwrap_or(t.len());
+    let (num, rest) = t.split_at(end);
+    let v: f64 = num.parse().ok()?;
+    (crate::check::normalise_unit_text(rest) == unit && v.is_finite()).then_some(v)
 }
 
 /// An input whose value a reviewer changed.

@@ -151,6 +151,37 @@ impl Book {
         self.formulas.get(&(p.sheet.clone(), p.row, p.col))
     }
 
+    /// How the value behind a defined name is obtained: "input",
+    /// "formula" or "engine". Calculation-sheet rows say it in their Basis
+    /// column (two right of the SI cell); the state fields on the data
+    /// sheet are formulas or plain engine numbers.
+    pub fn basis(&self, name: &str) -> String {
+        let p = self.pos(name);
+        if p.sheet == "Data" {
+            return if self.formula(p).is_some() {
+                "formula".into()
+            } else {
+                "engine".into()
+            };
+        }
+        self.text(&Book::at(p, 2)).unwrap_or_default()
+    }
+
+    /// The stale flag cell of a defined name's row (calculation sheet:
+    /// three right of the SI cell; data-sheet state table: column N).
+    pub fn flag_pos(&self, name: &str) -> reader::CellPos {
+        let p = self.pos(name);
+        if p.sheet == "Data" {
+            reader::CellPos {
+                sheet: p.sheet.clone(),
+                row: p.row,
+                col: 13,
+            }
+        } else {
+            Book::at(p, 3)
+        }
+    }
+
     /// Cell to the right of `p` by `dc` columns.
     pub fn at(p: &reader::CellPos, dc: u32) -> reader::CellPos {
         reader::CellPos {
