@@ -22,6 +22,6 @@ pub mod value;
 pub mod xlsx;
 
 pub use diag::{Diagnostic, Label, Severity};
-pub use externals::{CellRequest, Externals};
-pub use model::{Model, Override, OverrideSource, Parsed, Status};
+pub use externals::{CellRequest, Externals, UseRequest, UsedSource};
+pub use model::{Model, Override, OverrideSource, Parsed, Status, Used, UsedFile};
 pub use report::{CAUTION, Report};

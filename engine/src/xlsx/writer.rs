@@ -838,7 +838,7 @@ fn package_bytes(model: &Model, info: &PackageInfo) -> Result<Vec<u8>, rust_xlsx
     cover.set_row_height(cr, 48)?;
     cr += 1;
     if report.uses_gauge {
-        cover.merge_range(cr, 0, cr, 2, crate::report::GAUGE_NOTE, &st.wrap)?;
+        cover.merge_range(cr, 0, cr, 2, &report.gauge_note(), &st.wrap)?;
         cr += 1;
     }
     for w in &report.warnings {
