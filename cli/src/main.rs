@@ -57,6 +57,7 @@ mod diagnostics;
 mod files;
 mod package;
 mod render;
+mod sources;
 mod workbooks;
 
 use std::io::IsTerminal;
@@ -91,6 +92,10 @@ Exit status: 0 fine; 1 the worksheet has errors; 2 usage or file error; 3 a chec
 struct Cli {
     #[command(subcommand)]
     command: Command,
+    /// Also allow reading files (used worksheets, workbooks) in DIR and
+    /// below, besides the worksheet's own folder. Repeatable.
+    #[arg(long = "allow", value_name = "DIR", global = true)]
+    allow: Vec<PathBuf>,
 }
 
 #[derive(Clone, Copy, ValueEnum, PartialEq)]
@@ -191,6 +196,7 @@ sheaf eval 'state(fluid(\"water\"), p: 3 MPa, T: 400 degC).h' --in kJ/kg")]
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
+    sources::set_allowed(cli.allow.clone());
     let code = match cli.command {
         Command::Run {
             file,
@@ -230,14 +236,12 @@ fn read(file: &Path) -> Result<String, u8> {
 /// Read, parse and check; diagnostics go to stderr. Workbooks named in
 /// `cell(...)` are found relative to the worksheet's folder.
 fn load(file: &Path) -> Result<(String, Model), u8> {
-    let src = read(file)?;
-    let name = file.display().to_string();
-    let dir = file.parent().map_or_else(PathBuf::new, Path::to_path_buf);
-    let checked = sheaf_engine::Parsed::new(src.clone()).and_then(|parsed| {
-        let externals = workbooks::read_cells(&dir, &parsed.cell_requests());
-        parsed.check(&externals)
-    });
-    match checked {
+    let loaded = sources::load(file, &sources::Rev::Work).map_err(|e| {
+        eprintln!("error: {e}");
+        EXIT_USAGE
+    })?;
+    let (name, src) = (loaded.name, loaded.source);
+    match loaded.model {
         Ok(m) => Ok((name, m)),
         Err(diags) => {
             diagnostics::emit(&name, &src, &diags);
