@@ -54,6 +54,7 @@ fn stdout_failed(e: &std::io::Error) {
 }
 
 mod diagnostics;
+mod diff;
 mod files;
 mod package;
 mod render;
@@ -74,9 +75,9 @@ use sheaf_engine::types::Ty;
 use sheaf_engine::{Model, units};
 
 /// Exit statuses (DESIGN §5).
-const EXIT_ERRORS: u8 = 1;
-const EXIT_USAGE: u8 = 2;
-const EXIT_CHECK_FAILED: u8 = 3;
+pub(crate) const EXIT_ERRORS: u8 = 1;
+pub(crate) const EXIT_USAGE: u8 = 2;
+pub(crate) const EXIT_CHECK_FAILED: u8 = 3;
 
 #[derive(Parser)]
 #[command(
@@ -99,7 +100,7 @@ struct Cli {
 }
 
 #[derive(Clone, Copy, ValueEnum, PartialEq)]
-enum Format {
+pub(crate) enum Format {
     Text,
     Json,
     Md,
@@ -177,6 +178,28 @@ sheaf eval 'state(fluid(\"water\"), p: 3 MPa, T: 400 degC).h' --in kJ/kg")]
         #[arg(long = "set", value_name = "NAME=VALUE")]
         set: Vec<String>,
     },
+    /// What changed between two worksheets, or between a git revision and the working file.
+    #[command(after_help = diff::DIFF_HELP)]
+    Diff {
+        /// The old worksheet (or, with --rev, the worksheet).
+        old: PathBuf,
+        /// The new worksheet.
+        new: Option<PathBuf>,
+        /// Compare the file as committed in this git revision with the working file.
+        #[arg(long, value_name = "REV", conflicts_with = "new")]
+        rev: Option<String>,
+        #[arg(long, value_enum, default_value_t = Format::Text)]
+        format: Format,
+        /// Report a result when its relative change exceeds TOL (default: any change at the displayed precision).
+        #[arg(long, value_name = "TOL")]
+        rel: Option<f64>,
+        /// Significant figures shown (and compared, without --rel).
+        #[arg(long, default_value_t = 4, value_parser = clap::value_parser!(u8).range(1..=15))]
+        sig: u8,
+        /// Exit 3 when a check that passed in OLD fails in NEW.
+        #[arg(long)]
+        strict: bool,
+    },
     /// Read inputs a reviewer changed in a package back into the worksheet.
     #[command(after_help = package::PULL_HELP)]
     Pull {
@@ -215,6 +238,25 @@ fn main() -> ExitCode {
         Command::Functions => cmd_functions(),
         Command::Fmt { file, write } => cmd_fmt(&file, write),
         Command::Xlsx { file, out, set } => package::cmd_xlsx(&file, out.as_deref(), &set),
+        Command::Diff {
+            old,
+            new,
+            rev,
+            format,
+            rel,
+            sig,
+            strict,
+        } => diff::cmd_diff(
+            &old,
+            new.as_deref(),
+            rev.as_deref(),
+            format,
+            &diff::Options {
+                rel,
+                sig: usize::from(sig),
+                strict,
+            },
+        ),
         Command::Pull {
             file,
             from,

@@ -388,7 +388,7 @@ pub fn json(report: &Report) -> Json {
 /// Text for a Markdown line or table cell: control characters escaped
 /// ([`escape_controls`]), HTML-sensitive characters as entities (raw
 /// HTML does not pass through), `|` escaped for tables.
-fn md_escape(s: &str) -> String {
+pub fn md_escape(s: &str) -> String {
     let s = escape_controls(s);
     let mut out = String::with_capacity(s.len());
     for c in s.chars() {
@@ -407,7 +407,7 @@ fn md_escape(s: &str) -> String {
 /// any run inside it (so it cannot be closed early; HTML inside a code
 /// span is shown, not interpreted), control characters escaped, `|`
 /// escaped for tables.
-fn md_code(s: &str) -> String {
+pub fn md_code(s: &str) -> String {
     let s = escape_controls(s).replace('|', "\\|");
     let mut longest = 0;
     let mut run = 0;
