@@ -59,6 +59,7 @@ mod files;
 mod package;
 mod render;
 mod sources;
+mod watch;
 mod workbooks;
 
 use std::io::IsTerminal;
@@ -178,6 +179,27 @@ sheaf eval 'state(fluid(\"water\"), p: 3 MPa, T: 400 degC).h' --in kJ/kg")]
         #[arg(long = "set", value_name = "NAME=VALUE")]
         set: Vec<String>,
     },
+    /// Run (and export) once, then again on every save of the worksheet or a file it reads.
+    #[command(
+        after_help = "Examples:\n  sheaf watch pump.sheaf\n  sheaf watch pump.sheaf --xlsx review/pump.xlsx\n\n\
+Watches the folders of the worksheet, the worksheets it uses and the workbooks it reads; \
+re-runs after each save (debounced), clears the terminal and redraws; errors are shown and \
+watching goes on. The package is replaced atomically. Ctrl-C stops (exit 0)."
+    )]
+    Watch {
+        /// The worksheet (.sheaf).
+        file: PathBuf,
+        /// Also write the package here on every run.
+        #[arg(long, value_name = "OUT.xlsx")]
+        xlsx: Option<PathBuf>,
+        #[arg(long, value_enum, default_value_t = Format::Text)]
+        format: Format,
+        #[arg(long, default_value_t = 4, value_parser = clap::value_parser!(u8).range(1..=15))]
+        sig: u8,
+        /// Override an input: NAME=VALUE with a unit. Repeatable.
+        #[arg(long = "set", value_name = "NAME=VALUE")]
+        set: Vec<String>,
+    },
     /// What changed between two worksheets, or between a git revision and the working file.
     #[command(after_help = diff::DIFF_HELP)]
     Diff {
@@ -238,6 +260,13 @@ fn main() -> ExitCode {
         Command::Functions => cmd_functions(),
         Command::Fmt { file, write } => cmd_fmt(&file, write),
         Command::Xlsx { file, out, set } => package::cmd_xlsx(&file, out.as_deref(), &set),
+        Command::Watch {
+            file,
+            xlsx,
+            format,
+            sig,
+            set,
+        } => watch::cmd_watch(&file, xlsx.as_deref(), format, usize::from(sig), &set),
         Command::Diff {
             old,
             new,

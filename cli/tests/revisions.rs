@@ -278,3 +278,122 @@ fn use_through_the_command_line() {
     );
     assert!(e.contains("ws/a.sheaf:1:5"), "{e}");
 }
+
+/// Lines of a child's stdout, as they come.
+fn lines_of(child: &mut std::process::Child) -> mpsc::Receiver<String> {
+    use std::io::BufRead;
+    let (tx, rx) = mpsc::channel();
+    let stdout = child.stdout.take().unwrap();
+    std::thread::spawn(move || {
+        for l in std::io::BufReader::new(stdout).lines() {
+            let Ok(l) = l else { break };
+            if tx.send(l).is_err() {
+                break;
+            }
+        }
+    });
+    rx
+}
+
+/// Wait (at most 30 s) for a line containing `what`; every line seen.
+fn wait_for(rx: &mpsc::Receiver<String>, what: &str) -> Vec<String> {
+    let deadline = Instant::now() + Duration::from_secs(30);
+    let mut seen = Vec::new();
+    while Instant::now() < deadline {
+        if let Ok(l) = rx.recv_timeout(Duration::from_millis(100)) {
+            let hit = l.contains(what);
+            seen.push(l);
+            if hit {
+                return seen;
+            }
+        }
+    }
+    panic!(
+        "no line with `{what}` within 30 s; saw:\n{}",
+        seen.join("\n")
+    );
+}
+
+use std::sync::mpsc;
+use std::time::{Duration, Instant};
+
+#[cfg(unix)]
+#[test]
+fn watch_reruns_on_save_and_reexports() {
+    let d = tempfile::tempdir().unwrap();
+    let p = d.path();
+    std::fs::create_dir(p.join("basis")).unwrap();
+    std::fs::write(p.join("basis/site.sheaf"), "input k = 2\n").unwrap();
+    std::fs::write(
+        p.join("w.sheaf"),
+        "# W\nuse \"basis/site.sheaf\" as site\ninput a = 3 m\nb : m = a * site.k \"doubled\"\n",
+    )
+    .unwrap();
+    let mut child = Command::new(env!("CARGO_BIN_EXE_sheaf"))
+        .args(["watch", "w.sheaf", "--xlsx", "w.xlsx"])
+        .current_dir(p)
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    let rx = lines_of(&mut child);
+    let first = wait_for(&rx, "sheaf watch: watching");
+    assert!(
+        first.iter().any(|l| l.contains(" b ") && l.contains(" 6 ")),
+        "{first:?}"
+    );
+    assert!(
+        first.iter().any(|l| l.contains("wrote w.xlsx")),
+        "{first:?}"
+    );
+    let before = std::fs::read(p.join("w.xlsx")).unwrap();
+    // Save as editors do: a new file renamed over the old one.
+    std::thread::sleep(Duration::from_millis(300));
+    std::fs::write(
+        p.join(".w.sheaf.new"),
+        "# W\nuse \"basis/site.sheaf\" as site\ninput a = 5 m\nb : m = a * site.k \"doubled\"\n",
+    )
+    .unwrap();
+    std::fs::rename(p.join(".w.sheaf.new"), p.join("w.sheaf")).unwrap();
+    let second = wait_for(&rx, "sheaf watch: watching");
+    assert!(
+        second
+            .iter()
+            .any(|l| l.contains(" b ") && l.contains(" 10 ")),
+        "{second:?}"
+    );
+    assert!(
+        second.iter().any(|l| l.contains("wrote w.xlsx")),
+        "{second:?}"
+    );
+    let after = std::fs::read(p.join("w.xlsx")).unwrap();
+    assert_ne!(before, after, "the package was re-exported");
+    // A change in the used worksheet re-runs too.
+    std::fs::write(p.join("basis/site.sheaf"), "input k = 3\n").unwrap();
+    let third = wait_for(&rx, "sheaf watch: watching");
+    assert!(
+        third
+            .iter()
+            .any(|l| l.contains(" b ") && l.contains(" 15 ")),
+        "{third:?}"
+    );
+    // Its own write of the package did not re-trigger it: no further run
+    // without a save.
+    std::thread::sleep(Duration::from_millis(1000));
+    assert!(rx.try_recv().is_err(), "ran again without a save");
+    // An error is shown and watching goes on.
+    std::fs::write(p.join("w.sheaf"), "x = 1 m + 1 s\n").unwrap();
+    wait_for(&rx, "has 1 error(s); waiting");
+    // Ctrl-C: exit 0.
+    let pid = child.id().to_string();
+    Command::new("kill").args(["-INT", &pid]).status().unwrap();
+    let deadline = Instant::now() + Duration::from_secs(20);
+    let status = loop {
+        if let Some(s) = child.try_wait().unwrap() {
+            break s;
+        }
+        assert!(Instant::now() < deadline, "watch did not stop on SIGINT");
+        std::thread::sleep(Duration::from_millis(50));
+    };
+    assert_eq!(status.code(), Some(0));
+}
