@@ -219,3 +219,14 @@ fn externals(
     }
     ext
 }
+
+/// Check a new text of the worksheet `file` (e.g. after `pull --write`),
+/// with everything it names read as for a run.
+pub fn check_text(file: &Path, text: &str) -> Result<(), Vec<Diagnostic>> {
+    let dir = folder(file);
+    let parsed = Parsed::new(text.to_string())?;
+    let real = std::fs::canonicalize(file).unwrap_or_else(|_| file.to_path_buf());
+    let mut files = Vec::new();
+    let ext = externals(&dir, &parsed, &Rev::Work, &mut vec![real], &mut files);
+    parsed.check(&ext).map(|_| ())
+}

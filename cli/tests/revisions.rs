@@ -397,3 +397,123 @@ fn watch_reruns_on_save_and_reexports() {
     };
     assert_eq!(status.code(), Some(0));
 }
+
+/// Replace cell `cell` of sheet `sheet` (1-based sheet file index) of a
+/// package with a plain number, as a reviewer typing into it would.
+fn type_into(xlsx: &Path, sheet: usize, cell: &str, value: &str) {
+    use std::io::{Read, Write};
+    let bytes = std::fs::read(xlsx).unwrap();
+    let mut zin = zip::ZipArchive::new(std::io::Cursor::new(bytes)).unwrap();
+    let mut outb = Vec::new();
+    {
+        let mut zout = zip::ZipWriter::new(std::io::Cursor::new(&mut outb));
+        let target = format!("xl/worksheets/sheet{sheet}.xml");
+        for i in 0..zin.len() {
+            let mut f = zin.by_index(i).unwrap();
+            let name = f.name().unwrap().to_string();
+            let mut data = Vec::new();
+            f.read_to_end(&mut data).unwrap();
+            if name == target {
+                let mut x = String::from_utf8(data).unwrap();
+                let open = format!("<c r=\"{cell}\"");
+                let start = x.find(&open).unwrap_or_else(|| panic!("no {cell}"));
+                let rest = &x[start..];
+                let end = if let Some(e) = rest.find("/>").filter(|e| !rest[..*e].contains('>')) {
+                    start + e + 2
+                } else {
+                    start + rest.find("</c>").unwrap() + 4
+                };
+                x.replace_range(start..end, &format!("<c r=\"{cell}\"><v>{value}</v></c>"));
+                data = x.into_bytes();
+            }
+            zout.start_file(name, zip::write::SimpleFileOptions::default())
+                .unwrap();
+            zout.write_all(&data).unwrap();
+        }
+        zout.finish().unwrap();
+    }
+    std::fs::write(xlsx, outb).unwrap();
+}
+
+/// The cell (`C9`) a defined name of a package refers to.
+fn named(xlsx: &Path, name: &str) -> String {
+    use std::io::Read;
+    let bytes = std::fs::read(xlsx).unwrap();
+    let mut z = zip::ZipArchive::new(std::io::Cursor::new(bytes)).unwrap();
+    let mut wb = String::new();
+    z.by_name("xl/workbook.xml")
+        .unwrap()
+        .read_to_string(&mut wb)
+        .unwrap();
+    let key = format!("<definedName name=\"{name}\">");
+    let at = wb.find(&key).unwrap_or_else(|| panic!("no name {name}")) + key.len();
+    let target = &wb[at..at + wb[at..].find('<').unwrap()];
+    target.split('!').nth(1).unwrap().replace('$', "")
+}
+
+#[test]
+fn pull_writes_used_inputs_there_warns_on_typed_over_cells_keeps_alignment() {
+    let d = tempfile::tempdir().unwrap();
+    let p = d.path();
+    std::fs::create_dir(p.join("basis")).unwrap();
+    std::fs::write(
+        p.join("basis/site.sheaf"),
+        "input T_amb = 25 degC \"ambient\"\n",
+    )
+    .unwrap();
+    let main = "# C-2\nuse \"basis/site.sheaf\" as site\n\
+                input p2 = 7 barg     \"discharge\"\n\
+                input n  = 1500 rpm   \"speed\"\n\
+                T1 : degC = site.T_amb + 2 K\n";
+    std::fs::write(p.join("c2.sheaf"), main).unwrap();
+    let o = sheaf_in(p, &["xlsx", "c2.sheaf", "-o", "c2.xlsx"]);
+    assert_eq!(o.status.code(), Some(0), "{}", err(&o));
+    // Calculation is the second sheet; the input cells by their names, and
+    // the shown value of T1 (column C of the row of its SI cell).
+    let x = p.join("c2.xlsx");
+    type_into(&x, 2, &named(&x, "i10_site.T_amb"), "30");
+    type_into(&x, 2, &named(&x, "i_n"), "1480.5");
+    type_into(&x, 2, &named(&x, "i_p2"), "10.25");
+    let t1 = named(&x, "q1_T1").replace('F', "C");
+    type_into(&x, 2, &t1, "99");
+    let o = sheaf_in(p, &["pull", "c2.sheaf", "--from", "c2.xlsx"]);
+    assert_eq!(o.status.code(), Some(0), "{}", err(&o));
+    let text = out(&o);
+    // Worksheet order: the used input (at the `use`), then p2, then n.
+    let lines: Vec<&str> = text.lines().skip(1).take(3).collect();
+    assert!(
+        lines[0].contains("site.T_amb")
+            && lines[0].contains("25 -> 30 degC")
+            && lines[0].contains("(in basis/site.sheaf)"),
+        "{text}"
+    );
+    assert!(
+        lines[1].contains("p2") && lines[1].contains("7 -> 10.25 barg"),
+        "{text}"
+    );
+    assert!(
+        lines[2].contains("n") && lines[2].contains("1500 -> 1480.5 rpm"),
+        "{text}"
+    );
+    let e = err(&o);
+    assert!(
+        e.contains(&format!(
+            "warning: Calculation!{t1} holds the number 99 typed over the value of `T1`"
+        )),
+        "{e}"
+    );
+    let o = sheaf_in(p, &["pull", "c2.sheaf", "--from", "c2.xlsx", "--write"]);
+    assert_eq!(o.status.code(), Some(0), "{}", err(&o));
+    assert_eq!(
+        std::fs::read_to_string(p.join("basis/site.sheaf")).unwrap(),
+        "input T_amb = 30 degC \"ambient\"\n"
+    );
+    // The descriptions stay in their column.
+    assert_eq!(
+        std::fs::read_to_string(p.join("c2.sheaf")).unwrap(),
+        "# C-2\nuse \"basis/site.sheaf\" as site\n\
+         input p2 = 10.25 barg \"discharge\"\n\
+         input n  = 1480.5 rpm \"speed\"\n\
+         T1 : degC = site.T_amb + 2 K\n"
+    );
+}

@@ -207,6 +207,58 @@ impl Book {
     }
 }
 
+impl Book {
+    /// Every cell in the rows of the given cells (streaming each sheet
+    /// once), each with whether it holds a formula: for `pull`, to find a
+    /// value typed over a formula or an engine cell.
+    pub fn read_rows_with_formulas(
+        &mut self,
+        rows_of: &[CellPos],
+    ) -> Result<HashMap<CellPos, (CellValue, bool)>, XlsxError> {
+        let mut out = HashMap::new();
+        let sheets = self.wb.sheet_names();
+        let mut by_sheet: HashMap<&str, Vec<u32>> = HashMap::new();
+        for w in rows_of {
+            by_sheet.entry(w.sheet.as_str()).or_default().push(w.row);
+        }
+        for (sheet, rows) in by_sheet {
+            let Some(real) = sheets.iter().find(|s| s.eq_ignore_ascii_case(sheet)) else {
+                continue;
+            };
+            let max_row = rows.iter().copied().max().unwrap_or(0);
+            let mut reader = self
+                .wb
+                .worksheet_cells_reader(real)
+                .map_err(|e| XlsxError::Read {
+                    path: self.path.clone(),
+                    message: format!("cannot read sheet `{real}` ({e})"),
+                })?;
+            while let Some(cell) =
+                reader
+                    .next_cell_with_formula_metadata()
+                    .map_err(|e| XlsxError::Read {
+                        path: self.path.clone(),
+                        message: format!("cannot read sheet `{sheet}` ({e})"),
+                    })?
+            {
+                let (r, c) = cell.pos;
+                if r > max_row {
+                    break;
+                }
+                if rows.contains(&r) {
+                    let pos = CellPos {
+                        sheet: sheet.to_string(),
+                        row: r,
+                        col: c,
+                    };
+                    out.insert(pos, (value_of(&cell.value), cell.formula.is_some()));
+                }
+            }
+        }
+        Ok(out)
+    }
+}
+
 /// The number in a workbook cell (`Sheet!C7`) or defined name, for the
 /// `cell` built-in. Errors name the workbook and the cell.
 pub fn read_cell(path: &Path, reference: &str) -> Result<f64, XlsxError> {
