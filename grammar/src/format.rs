@@ -450,14 +450,9 @@ impl Fmt<'_> {
         // The left spine of a chain of infix operators, outermost first.
         let mut spine = Vec::new();
         let mut cur = e;
-        loop {
-            match &cur.kind {
-                ExprKind::Binary { left, .. } | ExprKind::Logic { left, .. } => {
-                    spine.push(cur);
-                    cur = left;
-                }
-                _ => break,
-            }
+        while let ExprKind::Binary { left, .. } | ExprKind::Logic { left, .. } = &cur.kind {
+            spine.push(cur);
+            cur = left;
         }
         self.operand(cur);
         for node in spine.iter().rev() {
