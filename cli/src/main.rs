@@ -54,10 +54,13 @@ fn stdout_failed(e: &std::io::Error) {
 }
 
 mod diagnostics;
+mod diff;
 mod files;
 mod html;
 mod package;
 mod render;
+mod sources;
+mod watch;
 mod whatif;
 mod workbooks;
 
@@ -89,10 +92,14 @@ What-if:\n  sheaf run FILE --case NAME | --cases\n  sheaf sweep FILE --format cs
 struct Cli {
     #[command(subcommand)]
     command: Command,
+    /// Also allow reading files (used worksheets, workbooks) in DIR and
+    /// below, besides the worksheet's own folder. Repeatable.
+    #[arg(long = "allow", value_name = "DIR", global = true)]
+    allow: Vec<PathBuf>,
 }
 
 #[derive(Clone, Copy, ValueEnum, PartialEq)]
-enum Format {
+pub(crate) enum Format {
     Text,
     Json,
     Md,
@@ -202,6 +209,49 @@ sheaf eval 'state(fluid(\"water\"), p: 3 MPa, T: 400 degC).h' --in kJ/kg")]
         #[arg(long, value_name = "NAME")]
         case: Option<String>,
     },
+    /// Run (and export) once, then again on every save of the worksheet or a file it reads.
+    #[command(
+        after_help = "Examples:\n  sheaf watch pump.sheaf\n  sheaf watch pump.sheaf --xlsx review/pump.xlsx\n\n\
+Watches the folders of the worksheet, the worksheets it uses and the workbooks it reads; \
+re-runs after each save (debounced), clears the terminal and redraws; errors are shown and \
+watching goes on. The package is replaced atomically. Ctrl-C stops (exit 0)."
+    )]
+    Watch {
+        /// The worksheet (.sheaf).
+        file: PathBuf,
+        /// Also write the package here on every run.
+        #[arg(long, value_name = "OUT.xlsx")]
+        xlsx: Option<PathBuf>,
+        #[arg(long, value_enum, default_value_t = Format::Text)]
+        format: Format,
+        #[arg(long, default_value_t = 4, value_parser = clap::value_parser!(u8).range(1..=15))]
+        sig: u8,
+        /// Override an input: NAME=VALUE with a unit. Repeatable.
+        #[arg(long = "set", value_name = "NAME=VALUE")]
+        set: Vec<String>,
+    },
+    /// What changed between two worksheets, or between a git revision and the working file.
+    #[command(after_help = diff::DIFF_HELP)]
+    Diff {
+        /// The old worksheet (or, with --rev, the worksheet).
+        old: PathBuf,
+        /// The new worksheet.
+        new: Option<PathBuf>,
+        /// Compare the file as committed in this git revision with the working file.
+        #[arg(long, value_name = "REV", conflicts_with = "new")]
+        rev: Option<String>,
+        #[arg(long, value_enum, default_value_t = Format::Text)]
+        format: Format,
+        /// Report a result when its relative change exceeds TOL (default: any change at the displayed precision).
+        #[arg(long, value_name = "TOL")]
+        rel: Option<f64>,
+        /// Significant figures shown (and compared, without --rel).
+        #[arg(long, default_value_t = 4, value_parser = clap::value_parser!(u8).range(1..=15))]
+        sig: u8,
+        /// Exit 3 when a check that passed in OLD fails in NEW.
+        #[arg(long)]
+        strict: bool,
+    },
     /// Read inputs a reviewer changed in a package back into the worksheet.
     #[command(after_help = package::PULL_HELP)]
     Pull {
@@ -221,6 +271,7 @@ sheaf eval 'state(fluid(\"water\"), p: 3 MPa, T: 400 degC).h' --in kJ/kg")]
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
+    sources::set_allowed(cli.allow.clone());
     let code = match cli.command {
         Command::Run {
             file,
@@ -265,6 +316,32 @@ fn main() -> ExitCode {
             set,
             case,
         } => package::cmd_xlsx(&file, out.as_deref(), &set, case.as_deref()),
+        Command::Watch {
+            file,
+            xlsx,
+            format,
+            sig,
+            set,
+        } => watch::cmd_watch(&file, xlsx.as_deref(), format, usize::from(sig), &set),
+        Command::Diff {
+            old,
+            new,
+            rev,
+            format,
+            rel,
+            sig,
+            strict,
+        } => diff::cmd_diff(
+            &old,
+            new.as_deref(),
+            rev.as_deref(),
+            format,
+            &diff::Options {
+                rel,
+                sig: usize::from(sig),
+                strict,
+            },
+        ),
         Command::Pull {
             file,
             from,
@@ -286,14 +363,12 @@ fn read(file: &Path) -> Result<String, u8> {
 /// Read, parse and check; diagnostics go to stderr. Workbooks named in
 /// `cell(...)` are found relative to the worksheet's folder.
 fn load(file: &Path) -> Result<(String, Model), u8> {
-    let src = read(file)?;
-    let name = file.display().to_string();
-    let dir = file.parent().map_or_else(PathBuf::new, Path::to_path_buf);
-    let checked = sheaf_engine::Parsed::new(src.clone()).and_then(|parsed| {
-        let externals = workbooks::read_cells(&dir, &parsed.cell_requests(), &[]);
-        parsed.check(&externals)
-    });
-    match checked {
+    let loaded = sources::load(file, &sources::Rev::Work).map_err(|e| {
+        eprintln!("error: {e}");
+        EXIT_USAGE
+    })?;
+    let (name, src) = (loaded.name, loaded.source);
+    match loaded.model {
         Ok(m) => Ok((name, m)),
         Err(diags) => {
             diagnostics::emit(&name, &src, &diags);

@@ -158,16 +158,23 @@ pub fn cmd_pull(file: &Path, from: &Path, write: bool, force: bool) -> u8 {
             );
         }
     }
-    let changes = xlsx::pull_changes(&model, &reviewed);
-    if changes.is_empty() {
+    // Each change, placed in the file that holds the input (a used
+    // worksheet's input is written there), in worksheet order.
+    let mut placed: Vec<(Placed, xlsx::Change)> = xlsx::pull_changes(&model, &reviewed)
+        .into_iter()
+        .map(|c| place(&model, file, c))
+        .collect();
+    placed.sort_by_key(|(p, c)| (p.order, c.literal.map_or(0, |s| s.start)));
+    if placed.is_empty() {
         outln!("no input changed in {}", from.display());
         return 0;
     }
     outln!("inputs changed in {}:", from.display());
-    for c in &changes {
+    for (p, c) in &placed {
         let note = match (&c.note, c.literal) {
             (Some(n), _) => format!("  ({n})"),
             (None, None) => "  (not a plain number in the worksheet: edit it by hand)".to_string(),
+            (None, Some(_)) if p.used.is_some() => format!("  (in {})", p.shown),
             (None, Some(_)) => String::new(),
         };
         outln!(
@@ -182,21 +189,138 @@ pub fn cmd_pull(file: &Path, from: &Path, write: bool, force: bool) -> u8 {
         outln!("(use --write to change {name})");
         return 0;
     }
-    let new_src = xlsx::rewrite_inputs(&src, &changes);
-    if let Err(diags) = Model::new(new_src.clone()) {
-        diagnostics::emit(&name, &new_src, &diags);
+    // One rewrite per file; every file checked before any is written.
+    let mut files: Vec<(Placed, Vec<xlsx::Change>)> = Vec::new();
+    for (p, c) in placed {
+        match files.iter_mut().find(|(q, _)| q.path == p.path) {
+            Some((_, v)) => v.push(c),
+            None => files.push((p, vec![c])),
+        }
+    }
+    let mut writes = Vec::new();
+    for (p, changes) in &files {
+        let new_src = rewrite_aligned(&p.source, changes);
+        if let Err(diags) = sheaf_grammar::parse(&new_src) {
+            let diags: Vec<_> = diags.into_iter().map(Into::into).collect();
+            diagnostics::emit(&p.shown, &new_src, &diags);
+            eprintln!("error: the rewritten worksheet would not parse; nothing changed");
+            return EXIT_ERRORS;
+        }
+        writes.push((
+            p,
+            new_src,
+            changes.iter().filter(|c| c.literal.is_some()).count(),
+        ));
+    }
+    if let Some(main) = writes.iter().find(|(p, _, _)| p.used.is_none())
+        && let Err(diags) = crate::sources::check_text(file, &main.1)
+    {
+        diagnostics::emit(&name, &main.1, &diags);
         eprintln!("error: the rewritten worksheet would not check; {name} not changed");
         return EXIT_ERRORS;
     }
-    match crate::files::write_file(file, new_src.as_bytes()) {
-        Ok(()) => {
-            let n = changes.iter().filter(|c| c.literal.is_some()).count();
-            outln!("rewrote {n} input(s) in {name}");
-            0
-        }
-        Err(e) => {
-            eprintln!("error: {e}; {name} not changed");
-            EXIT_USAGE
+    for (p, new_src, n) in writes {
+        match crate::files::write_file(&p.path, new_src.as_bytes()) {
+            Ok(()) => outln!("rewrote {n} input(s) in {}", p.shown),
+            Err(e) => {
+                eprintln!("error: {e}; {} not changed", p.shown);
+                return EXIT_USAGE;
+            }
         }
     }
+    0
+}
+
+/// Where a pulled change is written.
+struct Placed {
+    path: std::path::PathBuf,
+    shown: String,
+    source: String,
+    /// The prefix chain of a used worksheet; `None` for the worksheet itself.
+    used: Option<String>,
+    /// Position of the statement in the (top) worksheet, for the order.
+    order: usize,
+}
+
+/// Find the worksheet that holds a changed input: a `PREFIX.NAME` input
+/// belongs to the used worksheet (at any depth); its literal span is
+/// re-taken there.
+fn place(model: &Model, file: &Path, mut c: xlsx::Change) -> (Placed, xlsx::Change) {
+    let top = model.node_index(&c.name);
+    let order = top.map_or(usize::MAX, |i| {
+        let st = model.nodes()[i].stmt;
+        model.worksheet().statements[st].span.start
+    });
+    let mut m = model;
+    let mut node = top;
+    let mut chain: Vec<String> = Vec::new();
+    let mut path = file.to_path_buf();
+    let mut shown = file.display().to_string();
+    while let Some(i) = node {
+        let Some((k, j)) = m.import_of(i) else { break };
+        let u = &m.used()[k];
+        chain.push(u.prefix.clone());
+        path = std::path::PathBuf::from(&u.path);
+        shown = u.name.clone();
+        m = &u.model;
+        node = Some(j);
+    }
+    if !chain.is_empty() {
+        c.literal = node
+            .and_then(|j| xlsx::input_shown(m, j))
+            .and_then(|(_, l)| l);
+    }
+    (
+        Placed {
+            path,
+            shown,
+            source: m.source().to_string(),
+            used: (!chain.is_empty()).then(|| chain.join(".")),
+            order,
+        },
+        c,
+    )
+}
+
+/// [`xlsx::rewrite_inputs`], keeping the column of a description that
+/// follows a rewritten number on its line (the formatter's layout): the
+/// spaces before the description absorb the change of length.
+fn rewrite_aligned(source: &str, changes: &[xlsx::Change]) -> String {
+    let mut out = xlsx::rewrite_inputs(source, changes);
+    let mut spans: Vec<(usize, isize)> = changes
+        .iter()
+        .filter_map(|c| {
+            c.literal.map(|s| {
+                let new_len = xlsx::literal_text(c.new).len() as isize;
+                (s.end, new_len - (s.end - s.start) as isize)
+            })
+        })
+        .collect();
+    spans.sort();
+    // Positions in `out` shift by the deltas of earlier rewrites.
+    let mut shift = 0isize;
+    let mut edits: Vec<(usize, isize)> = Vec::new();
+    for (end, delta) in spans {
+        edits.push(((end as isize + shift + delta) as usize, delta));
+        shift += delta;
+    }
+    for (pos, delta) in edits.into_iter().rev() {
+        if delta == 0 {
+            continue;
+        }
+        let line_end = out[pos..].find('\n').map_or(out.len(), |i| pos + i);
+        let line = &out[pos..line_end];
+        // The gap before the description: the last run of spaces before `"`.
+        let Some(q) = line.find('"') else { continue };
+        let before = &line[..q];
+        let trimmed = before.trim_end_matches(' ');
+        let gap = before.len() - trimmed.len();
+        let want = (gap as isize - delta).max(1) as usize;
+        if gap == 0 {
+            continue;
+        }
+        let at = pos + trimmed.len();
+        out.replace_range(at..at + gap, &" ".repeat(want));
+    }
+    out
 }

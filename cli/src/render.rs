@@ -2,9 +2,7 @@
 
 use serde_json::{Value as Json, json};
 use sheaf_engine::CAUTION;
-use sheaf_engine::report::{
-    Block, CheckRow, FoundRow, GAUGE_NOTE, QuantityRow, Report, Shown, StateColumn,
-};
+use sheaf_engine::report::{Block, CheckRow, FoundRow, QuantityRow, Report, Shown, StateColumn};
 use sheaf_engine::units::format_sig;
 
 /// Terminal styles; empty strings when colour is off.
@@ -291,7 +289,12 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
     }
     out.push('\n');
     if report.uses_gauge {
-        out.push_str(&format!("{}{GAUGE_NOTE}{}\n", st.dim, st.reset));
+        out.push_str(&format!(
+            "{}{}{}\n",
+            st.dim,
+            t(&report.gauge_note()),
+            st.reset
+        ));
     }
     out.push_str(&format!("{}{CAUTION}{}\n", st.dim, st.reset));
     out
@@ -726,7 +729,7 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
         out.push('\n');
     }
     if report.uses_gauge {
-        out.push_str(&format!("{GAUGE_NOTE}\n\n"));
+        out.push_str(&format!("{}\n\n", md_escape(&report.gauge_note())));
     }
     out.push_str(&format!("*{CAUTION}*\n"));
     out

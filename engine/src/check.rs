@@ -4,6 +4,7 @@
 //! finds are reported together.
 
 use rustc_hash::FxHashMap as HashMap;
+use std::borrow::Cow;
 use std::sync::Arc;
 
 use sheaf_grammar::{
@@ -73,15 +74,141 @@ pub struct Checked {
     pub names: HashMap<String, usize>,
     /// Cases, sweeps and finds.
     pub whatif: crate::study::WhatIf,
+    /// The reference pressure of the worksheet's gauge units.
+    pub gauge: GaugeRef,
+    /// Whether a gauge unit is written anywhere in the worksheet (resolved
+    /// units, not a text search).
+    pub uses_gauge: bool,
+    /// Nodes `0..imports` are the names of used worksheets (see
+    /// [`Import`]); they have no code and are filled in by the model.
+    pub imports: usize,
+}
+
+/// The reference pressure of a worksheet's gauge units (`gauge EXPR`).
+#[derive(Clone, Debug, PartialEq)]
+pub struct GaugeRef {
+    /// Absolute pressure, Pa.
+    pub si: f64,
+    /// The expression as written (`95 kPa`); `None` for the default.
+    pub text: Option<String>,
+    pub description: Option<String>,
+    /// Where the `gauge` statement is written.
+    pub span: Option<Span>,
+}
+
+impl GaugeRef {
+    /// The default: the standard atmosphere.
+    pub fn standard() -> GaugeRef {
+        GaugeRef {
+            si: units::standard_atmosphere(),
+            text: None,
+            description: None,
+            span: None,
+        }
+    }
+
+    /// Whether the worksheet states its own reference.
+    pub fn is_stated(&self) -> bool {
+        self.text.is_some()
+    }
+
+    /// "95 kPa (site barometric pressure)" or "the standard atmosphere,
+    /// 101.325 kPa".
+    pub fn describe(&self) -> String {
+        match &self.text {
+            Some(t) => {
+                let kpa = units::format_sig(self.si / 1000.0, 6);
+                let shown = if normalise_unit_text(t) == format!("{kpa} kPa") {
+                    t.clone()
+                } else {
+                    format!("{t} = {kpa} kPa")
+                };
+                match &self.description {
+                    Some(d) => format!("{shown} ({d})"),
+                    None => shown,
+                }
+            }
+            None => format!(
+                "the standard atmosphere, {} kPa",
+                units::format_sig(self.si / 1000.0, 6)
+            ),
+        }
+    }
+}
+
+/// A name (or check) of a used worksheet, handed to the checker by the
+/// model: it becomes node `k` of the using worksheet for the `k`-th import.
+#[derive(Clone, Debug)]
+pub struct Import {
+    /// `PREFIX.NAME`; `None` for a check.
+    pub name: Option<String>,
+    pub kind: NodeKind,
+    pub ty: Ty,
+    pub display: DisplayUnit,
+    pub description: Option<String>,
+    /// Index of the `use` statement in the using worksheet.
+    pub stmt: usize,
+    /// Where the `use` statement is written.
+    pub span: Span,
+}
+
+/// What the checker is told about the `use` statements: the imported
+/// names and each prefix (with whether its worksheet could be checked; the
+/// names of a failed one are not reported unknown again).
+#[derive(Clone, Debug, Default)]
+pub struct Imports {
+    pub names: Vec<Import>,
+    pub prefixes: Vec<(String, bool)>,
 }
 
 /// Check and compile a parsed worksheet. `src` is the source the spans
 /// point into.
 pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked, Vec<Diagnostic>> {
+    check_with(ws, src, externals, &Imports::default())
+}
+
+/// [`check`] with the names of used worksheets (`use`).
+pub fn check_with(
+    ws: &Worksheet,
+    src: &str,
+    externals: &Externals,
+    imports: &Imports,
+) -> Result<Checked, Vec<Diagnostic>> {
     let mut diags = Vec::new();
     let mut nodes: Vec<Node> = Vec::new();
     let mut names: HashMap<String, usize> = HashMap::default();
-    let mut exprs: Vec<(&Expr, Option<&UnitExpr>)> = Vec::new();
+    let mut exprs: Vec<Option<(&Expr, Option<&UnitExpr>)>> = Vec::new();
+    let mut gauge = GaugeRef::standard();
+    let mut uses_gauge = false;
+    let prefixes: HashMap<&str, bool> = imports
+        .prefixes
+        .iter()
+        .map(|(p, ok)| (p.as_str(), *ok))
+        .collect();
+    let mut prefix_spans: HashMap<&str, Span> = HashMap::default();
+
+    // 0. Names of used worksheets come first.
+    for im in &imports.names {
+        if let Some(n) = &im.name {
+            names.insert(n.clone(), nodes.len());
+        }
+        nodes.push(Node {
+            kind: im.kind,
+            name: im.name.as_ref().map(|n| Ident {
+                name: n.clone(),
+                span: im.span,
+            }),
+            stmt: im.stmt,
+            ty: im.ty,
+            display: im.display.clone(),
+            code: Code::Absent,
+            deps: Vec::new(),
+            expr_span: im.span,
+            description: im.description.clone(),
+            operands: Vec::new(),
+        });
+        exprs.push(None);
+    }
 
     // 1. Collect named nodes and checks.
     for (i, stmt) in ws.statements.iter().enumerate() {
@@ -110,17 +237,61 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
             StatementKind::Case { .. }
             | StatementKind::Sweep { .. }
             | StatementKind::Find { .. } => continue,
-            StatementKind::Use { path, .. } => {
-                diags.push(not_supported_yet("`use`", path.span));
+            StatementKind::Use { prefix, .. } => {
+                if let Some(&first) = prefix_spans.get(prefix.name.as_str()) {
+                    diags.push(
+                        Diagnostic::error(
+                            format!("the prefix `{}` is used twice", prefix.name),
+                            prefix.span,
+                        )
+                        .with_secondary(first, "first used here")
+                        .with_note("help: give each used worksheet its own prefix"),
+                    );
+                } else {
+                    prefix_spans.insert(prefix.name.as_str(), prefix.span);
+                }
                 continue;
             }
-            StatementKind::Gauge { value, .. } => {
-                diags.push(not_supported_yet("`gauge`", value.span));
+            StatementKind::Gauge { value, description } => {
+                if let Some(first) = gauge.span {
+                    diags.push(
+                        Diagnostic::error("a worksheet has one `gauge` reference", value.span)
+                            .with_label("second `gauge`")
+                            .with_secondary(first, "the reference is set here")
+                            .with_note("help: remove one of them"),
+                    );
+                    continue;
+                }
+                match gauge_value(value, src) {
+                    Ok(si) => {
+                        gauge = GaugeRef {
+                            si,
+                            text: Some(normalise_unit_text(value.span.slice(src))),
+                            description: description.as_ref().map(|d| d.value.clone()),
+                            span: Some(stmt.span),
+                        };
+                    }
+                    Err(ds) => {
+                        diags.extend(ds);
+                        gauge.span = Some(stmt.span);
+                    }
+                }
                 continue;
             }
             _ => continue,
         };
         if let Some(n) = name {
+            if let Some(&first) = prefix_spans.get(n.name.as_str()) {
+                diags.push(
+                    Diagnostic::error(
+                        format!("`{}` is the prefix of a used worksheet", n.name),
+                        n.span,
+                    )
+                    .with_secondary(first, "used here")
+                    .with_note("help: rename the value or the prefix"),
+                );
+                continue;
+            }
             if let Some(&prev) = names.get(&n.name) {
                 let prev_span = nodes[prev].name.as_ref().map_or(n.span, |p| p.span);
                 diags.push(
@@ -159,24 +330,37 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
             description: desc.as_ref().map(|d: &StringLit| d.value.clone()),
             operands: Vec::new(),
         });
-        exprs.push((value, unit));
+        exprs.push(Some((value, unit)));
     }
+    // A prefix named by a `use` that the model did not hand in (a second
+    // use of one prefix) still counts as a prefix.
+    let mut prefixes = prefixes;
+    for p in prefix_spans.keys() {
+        prefixes.entry(p).or_insert(false);
+    }
+    let rx = Resolve {
+        names: &names,
+        prefixes: &prefixes,
+    };
 
     // 2. Dependencies (by name), unknown names.
     let mut all_deps: Vec<Vec<usize>> = Vec::with_capacity(nodes.len());
     let mut refs = Vec::new();
-    let suggester = name_suggester(&names);
-    for (value, _) in &exprs {
+    for e in &exprs {
+        let Some((value, _)) = e else {
+            all_deps.push(Vec::new());
+            continue;
+        };
         refs.clear();
-        collect_names(value, &mut refs);
+        collect_names(value, &rx, &mut refs);
         let mut deps = Vec::new();
-        for &(name, span) in &refs {
-            if let Some(&j) = names.get(name) {
+        for (name, span) in &refs {
+            if let Some(&j) = names.get(name.as_ref()) {
                 if !deps.contains(&j) {
                     deps.push(j);
                 }
-            } else if builtins::constant(name).is_none() {
-                diags.push(unknown_name(name, span, &suggester));
+            } else if let Some(d) = rx.unknown(name, *span) {
+                diags.push(d);
             }
         }
         all_deps.push(deps);
@@ -192,7 +376,9 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
         Err(cycle) => {
             let refs_of = |i: usize| {
                 let mut refs = Vec::new();
-                collect_names(exprs[i].0, &mut refs);
+                if let Some((e, _)) = exprs[i] {
+                    collect_names(e, &rx, &mut refs);
+                }
                 refs
             };
             diags.push(cycle_diagnostic(&cycle, &nodes, &names, refs_of));
@@ -211,9 +397,16 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
         operands: None,
         unit_cache: HashMap::default(),
         externals,
+        gauge: gauge.si,
+        uses_gauge: false,
+        prefixes: !prefixes.is_empty(),
     };
     for &i in &order {
-        let (value, unit) = exprs[i];
+        let Some((value, unit)) = exprs[i] else {
+            cx.types[i] = nodes[i].ty;
+            cx.display_of[i] = nodes[i].display.clone();
+            continue;
+        };
         let node_kind = nodes[i].kind;
         let (ty, code, display) = match node_kind {
             NodeKind::Check => {
@@ -238,12 +431,16 @@ pub fn check(ws: &Worksheet, src: &str, externals: &Externals) -> Result<Checked
     }
     let whatif = whatif_statements(&mut cx, ws, &nodes, &order);
     diags.extend(cx.diags);
+    uses_gauge |= cx.uses_gauge;
     if diags.is_empty() {
         Ok(Checked {
             nodes,
             order,
             names,
             whatif,
+            gauge,
+            uses_gauge,
+            imports: imports.names.len(),
         })
     } else {
         diags.sort_by_key(|d| d.span().map_or(0, |s| s.start));
@@ -375,11 +572,16 @@ fn whatif_statements(
         }
         let side_display = cx.comparison_display(&[left, right]);
         let mut refs = Vec::new();
-        collect_names(left, &mut refs);
-        collect_names(right, &mut refs);
+        let no_prefixes = HashMap::default();
+        let rx = Resolve {
+            names: cx.names,
+            prefixes: &no_prefixes,
+        };
+        collect_names(left, &rx, &mut refs);
+        collect_names(right, &rx, &mut refs);
         let direct: Vec<usize> = refs
             .iter()
-            .filter_map(|(name, _)| cx.names.get(*name).copied())
+            .filter_map(|(name, _)| cx.names.get(name.as_ref()).copied())
             .collect();
         let up = upstream_of(&direct);
         if !up[x] {
@@ -813,24 +1015,101 @@ impl Cx<'_> {
     }
 }
 
-/// A located error for a construct the grammar accepts and the checker
-/// does not handle yet.
-fn not_supported_yet(what: &str, span: Span) -> Diagnostic {
-    Diagnostic::error(format!("{what} is not supported yet"), span)
+/// Name lookup for references: plain names, and `PREFIX.NAME` paths of
+/// used worksheets.
+struct Resolve<'n> {
+    names: &'n HashMap<String, usize>,
+    /// Prefixes of `use` statements, with whether the used worksheet was
+    /// checked (its names are known).
+    prefixes: &'n HashMap<&'n str, bool>,
+}
+
+impl Resolve<'_> {
+    /// The error for a reference that is not a name, or `None` when it
+    /// needs none (a built-in constant, a name of a used worksheet that
+    /// failed to check: reported at its `use`).
+    fn unknown(&self, name: &str, span: Span) -> Option<Diagnostic> {
+        if builtins::constant(name).is_some() {
+            return None;
+        }
+        if let Some(ok) = self.prefixes.get(name) {
+            return ok.then(|| {
+                Diagnostic::error(
+                    format!("`{name}` names a used worksheet, not a value"),
+                    span,
+                )
+                .with_note(format!("help: write one of its names, e.g. `{name}.NAME`"))
+            });
+        }
+        if let Some((root, _)) = name.split_once('.')
+            && let Some(ok) = self.prefixes.get(root)
+        {
+            if !ok {
+                return None;
+            }
+            let cands = self
+                .names
+                .keys()
+                .filter(|k| k.starts_with(root) && k[root.len()..].starts_with('.'))
+                .map(String::as_str);
+            let d = Diagnostic::error(
+                format!("unknown name `{name}`: the worksheet used as `{root}` has no such value"),
+                span,
+            );
+            return Some(match closest(name, cands) {
+                Some(s) => d.with_note(format!("help: did you mean `{s}`?")),
+                None => d,
+            });
+        }
+        Some(unknown_name(name, span, &name_suggester(self.names)))
+    }
+}
+
+/// `a.b.c` for a chain of field accesses on a name.
+fn name_path(e: &Expr) -> Option<String> {
+    match &e.kind {
+        ExprKind::Name(n) => Some(n.clone()),
+        ExprKind::Field { base, field } => {
+            let mut p = name_path(base)?;
+            p.push('.');
+            p.push_str(&field.name);
+            Some(p)
+        }
+        _ => None,
+    }
 }
 
 /// Names referenced by an expression (not function names, field names or
-/// argument names), with their spans.
-fn collect_names<'a>(e: &'a Expr, out: &mut Vec<(&'a str, Span)>) {
+/// argument names), with their spans. A `PREFIX.NAME` path of a used
+/// worksheet counts as one name (the longest path that is a name; a
+/// further `.field` is a field of it).
+fn collect_names<'a>(e: &'a Expr, rx: &Resolve, out: &mut Vec<(Cow<'a, str>, Span)>) {
     match &e.kind {
-        ExprKind::Name(n) => out.push((n, e.span)),
+        ExprKind::Name(n) => out.push((Cow::Borrowed(n), e.span)),
         ExprKind::Number { .. } | ExprKind::Str(_) => {}
-        ExprKind::Neg(a) | ExprKind::Paren(a) | ExprKind::Not(a) => collect_names(a, out),
-        ExprKind::Field { base, .. } => collect_names(base, out),
+        ExprKind::Neg(a) | ExprKind::Paren(a) | ExprKind::Not(a) => collect_names(a, rx, out),
+        ExprKind::Field { base, .. } => {
+            if !rx.prefixes.is_empty()
+                && let Some(p) = name_path(e)
+                && let Some((root, _)) = p.split_once('.')
+                && rx.prefixes.contains_key(root)
+            {
+                if rx.names.contains_key(&p) {
+                    out.push((Cow::Owned(p), e.span));
+                    return;
+                }
+                if matches!(&base.kind, ExprKind::Name(_)) {
+                    // `site.x` with no such name: unknown.
+                    out.push((Cow::Owned(p), e.span));
+                    return;
+                }
+            }
+            collect_names(base, rx, out)
+        }
         ExprKind::Compare { first, rest } => {
-            collect_names(first, out);
+            collect_names(first, rx, out);
             for l in rest {
-                collect_names(&l.operand, out);
+                collect_names(&l.operand, rx, out);
             }
         }
         ExprKind::If {
@@ -838,17 +1117,17 @@ fn collect_names<'a>(e: &'a Expr, out: &mut Vec<(&'a str, Span)>) {
             then_branch,
             else_branch,
         } => {
-            collect_names(cond, out);
-            collect_names(then_branch, out);
-            collect_names(else_branch, out);
+            collect_names(cond, rx, out);
+            collect_names(then_branch, rx, out);
+            collect_names(else_branch, rx, out);
         }
         ExprKind::Binary { left, right, .. } | ExprKind::Logic { left, right, .. } => {
-            collect_names(left, out);
-            collect_names(right, out);
+            collect_names(left, rx, out);
+            collect_names(right, rx, out);
         }
         ExprKind::Call { args, .. } => {
             for a in args {
-                collect_names(&a.value, out);
+                collect_names(&a.value, rx, out);
             }
         }
     }
@@ -866,6 +1145,53 @@ fn name_suggester(names: &HashMap<String, usize>) -> crate::suggest::Suggester<'
     )
 }
 
+/// The value of a `gauge` statement's expression: a constant absolute
+/// pressure above zero (no names but built-in constants, no gauge unit).
+fn gauge_value(e: &Expr, src: &str) -> Result<f64, Vec<Diagnostic>> {
+    let names = HashMap::default();
+    let prefixes = HashMap::default();
+    let rx = Resolve {
+        names: &names,
+        prefixes: &prefixes,
+    };
+    let mut refs = Vec::new();
+    collect_names(e, &rx, &mut refs);
+    let bad: Vec<Diagnostic> = refs
+        .iter()
+        .filter(|(n, _)| builtins::constant(n).is_none())
+        .map(|(n, s)| {
+            Diagnostic::error(
+                format!("the gauge reference is a constant; it cannot use the name `{n}`"),
+                *s,
+            )
+            .with_note("help: write the site's reference pressure as a number, e.g. `gauge 95 kPa`")
+        })
+        .collect();
+    if !bad.is_empty() {
+        return Err(bad);
+    }
+    let (ty, code) = check_standalone(e, src)?;
+    let err = |m: String| vec![Diagnostic::error(m, e.span)];
+    match ty {
+        Ty::Num(q) if q.dim == Dim::PRESSURE && q.aff == Affinity::Absolute => Err(err(
+            "the gauge reference is an absolute pressure; write it in an absolute unit (kPa, bar, psi), not a gauge unit"
+                .to_string(),
+        )),
+        Ty::Num(q) if q.dim == Dim::PRESSURE => match const_value(&code) {
+            Some(v) if v.is_finite() && v > 0.0 => Ok(v),
+            Some(v) => Err(err(format!(
+                "the gauge reference must be an absolute pressure above zero, got {} Pa",
+                units::format_sig(v, 6)
+            ))),
+            None => Err(err("the gauge reference must be a constant".to_string())),
+        },
+        other => Err(err(format!(
+            "the gauge reference is a pressure, but this is {}",
+            other.describe()
+        ))),
+    }
+}
+
 fn unknown_name(name: &str, span: Span, names: &crate::suggest::Suggester) -> Diagnostic {
     let d = Diagnostic::error(format!("unknown name `{name}`"), span)
         .with_label("not defined in this worksheet");
@@ -879,7 +1205,7 @@ fn cycle_diagnostic<'a>(
     cycle: &[usize],
     nodes: &[Node],
     names: &HashMap<String, usize>,
-    refs_of: impl Fn(usize) -> Vec<(&'a str, Span)>,
+    refs_of: impl Fn(usize) -> Vec<(Cow<'a, str>, Span)>,
 ) -> Diagnostic {
     let name = |i: usize| {
         nodes[i]
@@ -903,7 +1229,7 @@ fn cycle_diagnostic<'a>(
         let next = cycle[(k + 1) % cycle.len()];
         if let Some((_, span)) = refs_of(i)
             .into_iter()
-            .find(|(n, _)| names.get(*n) == Some(&next))
+            .find(|(n, _)| names.get(n.as_ref()) == Some(&next))
         {
             d = d.with_secondary(span, format!("`{}` uses `{}`", name(i), name(next)));
         }
@@ -929,6 +1255,12 @@ struct Cx<'a> {
     unit_cache: HashMap<&'a str, Unit>,
     /// Values read by the caller for `cell()` calls.
     externals: &'a Externals,
+    /// The reference pressure of gauge units (Pa).
+    gauge: f64,
+    /// Set when a gauge unit is resolved.
+    uses_gauge: bool,
+    /// Whether the worksheet uses other worksheets (`PREFIX.NAME` paths).
+    prefixes: bool,
 }
 
 /// Static result of an expression.
@@ -980,7 +1312,15 @@ impl Cx<'_> {
             }
             ExprKind::Binary { op, left, right } => self.binary(*op, left, right, e.span),
             ExprKind::Call { func, args } => self.call(func, args, e.span),
-            ExprKind::Field { base, field } => self.field(base, field),
+            ExprKind::Field { base, field } => {
+                if self.prefixes
+                    && let Some(p) = name_path(e)
+                    && let Some(&i) = self.names.get(&p)
+                {
+                    return (self.types[i], Code::Slot(i));
+                }
+                self.field(base, field)
+            }
             ExprKind::Compare { first, rest } => self.compare(first, rest),
             ExprKind::Logic {
                 op,
@@ -1060,10 +1400,13 @@ impl Cx<'_> {
     fn unit(&mut self, u: &UnitExpr) -> Option<Unit> {
         let text = u.span.slice(self.src);
         if let Some(unit) = self.unit_cache.get(text) {
+            self.uses_gauge |= unit.is_gauge();
             return Some(*unit);
         }
         match units::resolve(u) {
             Ok(unit) => {
+                let unit = unit.with_gauge(self.gauge);
+                self.uses_gauge |= unit.is_gauge();
                 if !text.is_empty() {
                     self.unit_cache.insert(text, unit);
                 }
@@ -1715,7 +2058,7 @@ impl Cx<'_> {
             plain_literal_unit(value)
         };
         match literal {
-            Some(u) => match units::resolve(u) {
+            Some(u) => match units::resolve(u).map(|x| x.with_gauge(self.gauge)) {
                 Ok(unit)
                     if unit.dim == q.dim
                         && !(q.aff == Affinity::Difference
@@ -1956,9 +2299,24 @@ fn rational(x: f64) -> Option<(i32, i32)> {
 /// Check a statement of a worksheet-independent expression (for `eval` and
 /// `--set`): only built-in constants may be referenced.
 pub fn check_standalone(e: &Expr, src: &str) -> Result<(Ty, Code), Vec<Diagnostic>> {
+    check_standalone_gauge(e, src, units::standard_atmosphere())
+}
+
+/// [`check_standalone`] with gauge units relative to `gauge` (Pa): a value
+/// set on a worksheet with its own `gauge` reference.
+pub fn check_standalone_gauge(
+    e: &Expr,
+    src: &str,
+    gauge: f64,
+) -> Result<(Ty, Code), Vec<Diagnostic>> {
     let names = HashMap::default();
+    let prefixes = HashMap::default();
+    let rx = Resolve {
+        names: &names,
+        prefixes: &prefixes,
+    };
     let mut refs = Vec::new();
-    collect_names(e, &mut refs);
+    collect_names(e, &rx, &mut refs);
     let mut diags: Vec<Diagnostic> = refs
         .iter()
         .filter(|(n, _)| builtins::constant(n).is_none())
@@ -1974,6 +2332,9 @@ pub fn check_standalone(e: &Expr, src: &str) -> Result<(Ty, Code), Vec<Diagnosti
         operands: None,
         unit_cache: HashMap::default(),
         externals: &Externals::default(),
+        gauge,
+        uses_gauge: false,
+        prefixes: false,
     };
     let (ty, code) = cx.expr(e);
     diags.extend(cx.diags);

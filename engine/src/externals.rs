@@ -22,12 +22,40 @@ pub struct CellRequest {
     pub span: Span,
 }
 
+/// One `use "PATH" as PREFIX` statement of a worksheet.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct UseRequest {
+    /// The path as written (relative to the worksheet's folder).
+    pub path: String,
+    pub prefix: String,
+    /// Where the path is written.
+    pub span: Span,
+}
+
+/// A worksheet named by `use`, as the caller read it.
+#[derive(Clone, Debug)]
+pub struct UsedSource {
+    /// How the file is named in messages, reports and on the package
+    /// cover (e.g. `site.sheaf`).
+    pub name: String,
+    /// Where the caller read it (opaque to the engine; kept for the caller,
+    /// e.g. to write a pulled input back there).
+    pub path: String,
+    pub text: String,
+    /// The external inputs of the used worksheet (its own `cell()` values
+    /// and `use`d worksheets).
+    pub externals: Externals,
+}
+
 /// Values the caller read for a worksheet's external inputs.
 #[derive(Clone, Debug, Default)]
 pub struct Externals {
     cells: HashMap<(String, String), Result<f64, String>>,
     /// Whether the caller read workbooks at all (`sheaf eval` does not).
     cells_read: bool,
+    used: HashMap<String, Result<UsedSource, String>>,
+    /// Whether the caller read used worksheets at all.
+    uses_read: bool,
 }
 
 impl Externals {
@@ -44,6 +72,28 @@ impl Externals {
             .insert((book.to_string(), reference.to_string()), value);
     }
 
+    /// Record the worksheet read for `use "path"` (the path as written), or
+    /// why it could not be read (a message in words, shown at the `use`;
+    /// a cycle of `use` is such a message).
+    pub fn set_used(&mut self, path: &str, source: Result<UsedSource, String>) {
+        self.uses_read = true;
+        self.used.insert(path.to_string(), source);
+    }
+
+    /// The worksheet recorded for `use "path"`.
+    pub(crate) fn used(&self, path: &str) -> Result<&UsedSource, String> {
+        match self.used.get(path) {
+            Some(Ok(u)) => Ok(u),
+            Some(Err(e)) => Err(e.clone()),
+            None if self.uses_read => Err(format!("internal: the worksheet `{path}` was not read")),
+            None => Err(
+                "other worksheets can be used only when a worksheet file is run (`sheaf run`, \
+                 `sheaf xlsx`), not here"
+                    .to_string(),
+            ),
+        }
+    }
+
     /// The value recorded for `cell(book, reference)`.
     pub(crate) fn cell(&self, book: &str, reference: &str) -> Result<f64, String> {
         match self.cells.get(&(book.to_string(), reference.to_string())) {
@@ -58,6 +108,21 @@ impl Externals {
             ),
         }
     }
+}
+
+/// Every `use` statement of a worksheet, in file order.
+pub fn use_requests(ws: &Worksheet) -> Vec<UseRequest> {
+    ws.statements
+        .iter()
+        .filter_map(|s| match &s.kind {
+            StatementKind::Use { path, prefix } => Some(UseRequest {
+                path: path.value.clone(),
+                prefix: prefix.name.clone(),
+                span: path.span,
+            }),
+            _ => None,
+        })
+        .collect()
 }
 
 /// Every `cell(book, ref)` call of a worksheet whose two arguments are

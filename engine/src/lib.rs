@@ -29,6 +29,6 @@ pub mod xlsx;
 pub use calc::{CalcError, Calculated, Evaluated, Reading, evaluate_expression};
 pub use check::{DisplayUnit, Node, NodeKind};
 pub use diag::{Diagnostic, Label, Severity};
-pub use externals::{CellRequest, Externals};
-pub use model::{Model, Override, OverrideSource, Parsed, Status};
+pub use externals::{CellRequest, Externals, UseRequest, UsedSource};
+pub use model::{Model, Override, OverrideSource, Parsed, Status, Used, UsedFile};
 pub use report::{CAUTION, Report};

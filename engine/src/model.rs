@@ -3,10 +3,13 @@
 
 use sheaf_grammar::{Span, Worksheet};
 
-use crate::check::{self, Checked, DisplayUnit, Node, NodeKind};
+use sha2::{Digest, Sha256};
+use sheaf_grammar::StatementKind;
+
+use crate::check::{self, Checked, DisplayUnit, GaugeRef, Import, Imports, Node, NodeKind};
 use crate::diag::Diagnostic;
 use crate::eval::{self, Code, Value};
-use crate::externals::{CellRequest, Externals, cell_requests};
+use crate::externals::{CellRequest, Externals, UseRequest, cell_requests, use_requests};
 use crate::graph;
 use crate::types::{QTy, Ty, describe_qty};
 use crate::units::Affinity;
@@ -73,6 +76,36 @@ pub struct Model {
     pub(crate) found: Vec<Option<crate::study::Found>>,
     /// An input changed since the finds were last solved.
     pub(crate) finds_dirty: bool,
+    /// The worksheets named by `use`, checked.
+    used: Vec<Used>,
+    /// For nodes `0..checked.imports`: (index into `used`, node there).
+    import_of: Vec<(usize, usize)>,
+}
+
+/// A worksheet named by `use "PATH" as PREFIX`, checked as a model of its
+/// own (with its own gauge reference); its names appear in the using
+/// model as `PREFIX.NAME`.
+#[derive(Clone, Debug)]
+pub struct Used {
+    pub prefix: String,
+    /// The file as named in messages and reports (`site.sheaf`).
+    pub name: String,
+    /// Where the caller read it ([`crate::UsedSource::path`]).
+    pub path: String,
+    /// Index of the `use` statement in the using worksheet.
+    pub stmt: usize,
+    pub model: Model,
+}
+
+/// A file a package depends on through `use` (at any depth).
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct UsedFile {
+    /// The prefix chain its names appear under (`site`, `site.fluids`).
+    pub prefix: String,
+    pub name: String,
+    pub path: String,
+    /// sha256 of its text, lowercase hex.
+    pub sha256: String,
 }
 
 /// A parsed worksheet, not yet checked: the caller may read the external
@@ -102,6 +135,11 @@ impl Parsed {
         cell_requests(&self.worksheet)
     }
 
+    /// The worksheets it uses (`use` statements), in file order.
+    pub fn use_requests(&self) -> Vec<UseRequest> {
+        use_requests(&self.worksheet)
+    }
+
     /// Check and compile, with the values the caller read for the external
     /// inputs. All checking errors are returned together.
     pub fn check(self, externals: &Externals) -> Result<Model, Vec<Diagnostic>> {
@@ -122,7 +160,73 @@ impl Model {
         worksheet: Worksheet,
         externals: &Externals,
     ) -> Result<Model, Vec<Diagnostic>> {
-        let checked = check::check(&worksheet, &source, externals)?;
+        let mut diags = Vec::new();
+        let mut used: Vec<Used> = Vec::new();
+        let mut imports = Imports::default();
+        let mut import_of = Vec::new();
+        for (si, stmt) in worksheet.statements.iter().enumerate() {
+            let StatementKind::Use { path, prefix } = &stmt.kind else {
+                continue;
+            };
+            if imports.prefixes.iter().any(|(p, _)| *p == prefix.name) {
+                continue; // the checker reports the second use of a prefix
+            }
+            let checked = externals.used(&path.value).and_then(|u| {
+                Parsed::new(u.text.clone())
+                    .and_then(|p| p.check(&u.externals))
+                    .map(|m| (u, m))
+                    .map_err(|ds| {
+                        diags.extend(ds.iter().map(|d| relocate(d, &u.name, &u.text, path.span)));
+                        String::new()
+                    })
+            });
+            match checked {
+                Ok((u, m)) => {
+                    let k = used.len();
+                    for (j, n) in m.nodes().iter().enumerate() {
+                        imports.names.push(Import {
+                            name: n
+                                .name
+                                .as_ref()
+                                .map(|x| format!("{}.{}", prefix.name, x.name)),
+                            kind: n.kind,
+                            ty: n.ty,
+                            display: n.display.clone(),
+                            description: n.description.clone(),
+                            stmt: si,
+                            span: stmt.span,
+                        });
+                        import_of.push((k, j));
+                    }
+                    imports.prefixes.push((prefix.name.clone(), true));
+                    used.push(Used {
+                        prefix: prefix.name.clone(),
+                        name: u.name.clone(),
+                        path: u.path.clone(),
+                        stmt: si,
+                        model: m,
+                    });
+                }
+                Err(msg) => {
+                    if !msg.is_empty() {
+                        diags.push(
+                            Diagnostic::error(msg, path.span)
+                                .with_label(format!("used as `{}`", prefix.name)),
+                        );
+                    }
+                    imports.prefixes.push((prefix.name.clone(), false));
+                }
+            }
+        }
+        let checked = match check::check_with(&worksheet, &source, externals, &imports) {
+            Ok(c) if diags.is_empty() => c,
+            Ok(_) => return Err(diags),
+            Err(mut ds) => {
+                ds.extend(diags);
+                ds.sort_by_key(|d| d.span().map_or(0, |s| s.start));
+                return Err(ds);
+            }
+        };
         let n = checked.nodes.len();
         Ok(Model {
             users: graph::users(checked.nodes.iter().map(|n| n.deps.as_slice())),
@@ -137,7 +241,96 @@ impl Model {
             dirty: vec![true; n],
             found: vec![None; n],
             finds_dirty: true,
+            used,
+            import_of,
         })
+    }
+
+    /// The reference pressure of this worksheet's gauge units (`gauge`
+    /// statement, else the standard atmosphere). A used worksheet keeps its
+    /// own: see [`Model::used`].
+    pub fn gauge_reference(&self) -> &GaugeRef {
+        &self.checked.gauge
+    }
+
+    /// Whether a gauge unit (barg, psig, kPag, MPag) is written in this
+    /// worksheet (from the resolved units).
+    pub fn uses_gauge(&self) -> bool {
+        self.checked.uses_gauge
+    }
+
+    /// The worksheets this one uses directly.
+    pub fn used(&self) -> &[Used] {
+        &self.used
+    }
+
+    /// Every used worksheet at any depth, depth first, with its prefix chain
+    /// and the sha256 of its text (for the package cover).
+    pub fn used_files(&self) -> Vec<UsedFile> {
+        let mut out = Vec::new();
+        for u in &self.used {
+            out.push(UsedFile {
+                prefix: u.prefix.clone(),
+                name: u.name.clone(),
+                path: u.path.clone(),
+                sha256: sha256_hex(u.model.source().as_bytes()),
+            });
+            for mut f in u.model.used_files() {
+                f.prefix = format!("{}.{}", u.prefix, f.prefix);
+                out.push(f);
+            }
+        }
+        out
+    }
+
+    /// For a node that holds a name of a used worksheet: that worksheet
+    /// (index into [`Model::used`]) and its node.
+    pub fn import_of(&self, node: usize) -> Option<(usize, usize)> {
+        self.import_of.get(node).copied()
+    }
+
+    /// Copy the values of used worksheets into their import nodes; mark
+    /// what changed (and its users) dirty.
+    fn pull_imports(&mut self) -> usize {
+        let mut count = 0;
+        for u in &mut self.used {
+            count += u.model.evaluate();
+        }
+        for i in 0..self.import_of.len() {
+            let (k, j) = self.import_of[i];
+            let u = &self.used[k];
+            let sub = &u.model;
+            let value = sub.values[j].clone();
+            let status = match &sub.status[j] {
+                Status::Failed(d) => Status::Failed(relocate(
+                    d,
+                    &u.name,
+                    sub.source(),
+                    self.checked.nodes[i].expr_span,
+                )),
+                other => other.clone(),
+            };
+            let warnings: Vec<Diagnostic> = sub.warnings[j]
+                .iter()
+                .map(|w| relocate(w, &u.name, sub.source(), self.checked.nodes[i].expr_span))
+                .collect();
+            let operands = sub.operand_values[j].clone();
+            let changed = self.status[i] != status || self.values[i] != value;
+            if changed || self.dirty[i] {
+                self.checked.nodes[i].code = match value {
+                    Value::Num(x) => Code::Const(x),
+                    _ => Code::Absent,
+                };
+                self.values[i] = value;
+                self.status[i] = status;
+                self.warnings[i] = warnings;
+                self.operand_values[i] = operands;
+                self.dirty[i] = false;
+                graph::mark_downstream(&self.users, i, &mut self.dirty);
+                self.dirty[i] = false;
+            }
+        }
+        count
     }
 
     pub fn source(&self) -> &str {
@@ -194,9 +387,14 @@ impl Model {
     /// changed. Returns how many nodes were evaluated (outside the finds).
     pub fn evaluate(&mut self) -> usize {
         self.solve_finds();
-        let mut count = 0;
+        let mut count = self.pull_imports();
         for k in 0..self.checked.order.len() {
             let i = self.checked.order[k];
+            // Names of used worksheets are filled in by `pull_imports`.
+            if i < self.import_of.len() {
+                self.dirty[i] = false;
+                continue;
+            }
             if self.dirty[i] && self.eval_node(i) {
                 count += 1;
             }
@@ -260,8 +458,16 @@ impl Model {
     /// re-evaluation. Call [`Model::evaluate`] afterwards. The input is
     /// recorded as overridden by the calling program.
     pub fn set_input(&mut self, name: &str, si_value: f64) -> Result<(), String> {
-        self.set_input_si(name, si_value)?;
         let i = self.input_index(name)?;
+        if let Some((k, j)) = self.import_of(i) {
+            let sub_name = self.sub_name(k, j);
+            let sub = &mut self.used[k].model;
+            sub.set_input(&sub_name, si_value)?;
+            self.overrides[i] = sub.overrides[j].clone();
+            self.dirty[i] = true;
+            return Ok(());
+        }
+        self.set_input_si(name, si_value)?;
         self.overrides[i] = Some(Override {
             si_value,
             text: crate::units::format_sig(si_value, 17),
@@ -316,21 +522,33 @@ impl Model {
         source: OverrideSource,
     ) -> Result<(), String> {
         let i = self.input_index(name)?;
+        if let Some((k, j)) = self.import_of(i) {
+            // A used worksheet's input: set there (its own gauge reference
+            // applies), seen here on the next evaluation.
+            let sub_name = self.sub_name(k, j);
+            let sub = &mut self.used[k].model;
+            sub.set_input_from(&sub_name, text, source)
+                .map_err(|e| e.replacen(&format!("`{sub_name}="), &format!("`{name}="), 1))?;
+            self.overrides[i] = sub.overrides[j].clone();
+            self.dirty[i] = true;
+            return Ok(());
+        }
         let expr = sheaf_grammar::parse_expr(text)
             .map_err(|e| format!("`{name}={text}`: {}", e.message))?;
-        let (ty, code) = check::check_standalone(&expr, text).map_err(|ds| {
-            let msgs: Vec<String> = ds
-                .into_iter()
-                .map(|d| {
-                    let mut m = d.message;
-                    for n in d.notes {
-                        m.push_str(&format!(" ({n})"));
-                    }
-                    m
-                })
-                .collect();
-            format!("`{name}={text}`: {}", msgs.join("; "))
-        })?;
+        let (ty, code) = check::check_standalone_gauge(&expr, text, self.checked.gauge.si)
+            .map_err(|ds| {
+                let msgs: Vec<String> = ds
+                    .into_iter()
+                    .map(|d| {
+                        let mut m = d.message;
+                        for n in d.notes {
+                            m.push_str(&format!(" ({n})"));
+                        }
+                        m
+                    })
+                    .collect();
+                format!("`{name}={text}`: {}", msgs.join("; "))
+            })?;
         let want = self.checked.nodes[i].ty;
         let si = check::const_value(&code);
         match (want, ty, si) {
@@ -355,6 +573,14 @@ impl Model {
                 "input `{name}` is not a number and cannot be set from the command line"
             )),
         }
+    }
+
+    /// The name of node `j` of used worksheet `k`, in that worksheet.
+    fn sub_name(&self, k: usize, j: usize) -> String {
+        self.used[k].model.checked.nodes[j]
+            .name
+            .as_ref()
+            .map_or(String::new(), |n| n.name.clone())
     }
 
     fn input_index(&self, name: &str) -> Result<usize, String> {
@@ -450,4 +676,29 @@ fn runtime_diagnostic(node: &Node, span: Span, message: &str) -> Diagnostic {
         (None, _) => format!("cannot evaluate this check: {message}"),
     };
     Diagnostic::error(what, span)
+}
+
+/// A diagnostic of a used worksheet, shown at the `use` statement of the
+/// using worksheet: the used file's name, line and column lead the message.
+fn relocate(d: &Diagnostic, file: &str, text: &str, at: Span) -> Diagnostic {
+    let place = match d.span() {
+        Some(s) => {
+            let (l, c) = sheaf_grammar::line_col(text, s.start);
+            format!("{file}:{l}:{c}")
+        }
+        None => file.to_string(),
+    };
+    let mut out = Diagnostic::error(format!("in {place}: {}", d.message), at)
+        .with_label(format!("in the worksheet used here ({file})"));
+    out.severity = d.severity;
+    out.notes = d.notes.clone();
+    out
+}
+
+/// sha256 of bytes, lowercase hex.
+fn sha256_hex(bytes: &[u8]) -> String {
+    Sha256::digest(bytes)
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect()
 }

@@ -19,9 +19,9 @@ pub const CAUTION: &str = "Caution: sheaf is an engineering aid. Its results mus
 engineer and do not replace the design codes, standards and licensed practice in force where the \
 equipment is used.";
 
-/// Note printed once when gauge units are used.
-pub const GAUGE_NOTE: &str =
-    "Gauge pressures (barg, psig, kPag) are relative to the standard atmosphere, 101.325 kPa.";
+/// Note printed once when gauge units are used and the worksheet keeps
+/// the default reference ([`Report::gauge_note`] gives the actual one).
+pub const GAUGE_NOTE: &str = "Gauge pressures (barg, psig, kPag, MPag) are relative to the standard atmosphere, 101.325 kPa.";
 
 #[derive(Clone, Debug, Serialize)]
 pub struct Report {
@@ -31,8 +31,14 @@ pub struct Report {
     pub checks: Vec<CheckRow>,
     /// Warnings in file order: the located diagnostic and its line.
     pub warnings: Vec<WarningRow>,
-    /// Whether any gauge unit appears (the report then says what gauge means).
+    /// Whether any gauge unit is used or a reference is stated (the report
+    /// then says what gauge means: [`Report::gauge_note`]).
     pub uses_gauge: bool,
+    /// What gauge pressures are relative to: one sentence for this
+    /// worksheet, one for each used worksheet that has gauge pressures.
+    pub gauge_notes: Vec<String>,
+    /// The worksheets used (`use`), at any depth.
+    pub used_files: Vec<crate::model::UsedFile>,
     /// The state-point table: one row per state, in worksheet order.
     pub states: StateTable,
     /// The property models used, with their sources (the "Methods" block).
@@ -88,6 +94,14 @@ pub struct MethodRow {
     pub reference: String,
     /// Worksheet names (substances and states) that use it.
     pub used_by: Vec<String>,
+}
+
+impl Report {
+    /// The gauge reference(s) in words, one sentence each; empty when no
+    /// gauge unit is used.
+    pub fn gauge_note(&self) -> String {
+        self.gauge_notes.join(" ")
+    }
 }
 
 /// A warning of the report.
@@ -285,11 +299,14 @@ impl Model {
             blocks: Vec::new(),
             checks: Vec::new(),
             warnings: Vec::new(),
-            uses_gauge: ["barg", "psig", "kPag"].iter().any(|g| src.contains(g)),
+            uses_gauge: false,
+            gauge_notes: self.gauge_notes(""),
+            used_files: self.used_files(),
             states: StateTable::default(),
             methods: Vec::new(),
             overrides: Vec::new(),
         };
+        r.uses_gauge = !r.gauge_notes.is_empty();
         for (si, stmt) in ws.statements.iter().enumerate() {
             let line = lines.line(stmt.span.start);
             match &stmt.kind {
@@ -315,6 +332,42 @@ impl Model {
                     let Some(i) = node_of_stmt[si] else { continue };
                     r.blocks.push(Block::Check(r.checks.len()));
                     r.checks.push(self.check_row(i, line));
+                }
+                StatementKind::Use { .. } => {
+                    let Some((k, u)) = self.used().iter().enumerate().find(|(_, u)| u.stmt == si)
+                    else {
+                        continue;
+                    };
+                    r.blocks.push(Block::Note(format!(
+                        "Uses {} as `{}`: its values are named `{}.NAME`.",
+                        u.name, u.prefix, u.prefix
+                    )));
+                    for i in 0..self.nodes().len() {
+                        let Some((kk, j)) = self.import_of(i) else {
+                            break;
+                        };
+                        if kk != k {
+                            continue;
+                        }
+                        if self.nodes()[i].kind == NodeKind::Check {
+                            let mut c = u.model.check_row(j, line);
+                            c.text = format!("{}: {}", u.prefix, c.text);
+                            c.node = i;
+                            r.blocks.push(Block::Check(r.checks.len()));
+                            r.checks.push(c);
+                        } else {
+                            let mut q = u.model.quantity_row(j, line);
+                            q.name = format!("{}.{}", u.prefix, q.name);
+                            q.node = i;
+                            for f in &mut q.fields {
+                                f.name = format!("{}.{}", u.prefix, f.name);
+                                f.node = i;
+                                f.line = line;
+                            }
+                            q.overridden = self.override_of(i).map(|o| o.source.to_string());
+                            r.blocks.push(Block::Quantity(Box::new(q)));
+                        }
+                    }
                 }
                 StatementKind::Comment { .. } | StatementKind::Blank => {}
                 // Refused by the checker for now.
@@ -347,6 +400,30 @@ impl Model {
             }
         }
         r
+    }
+
+    /// The gauge sentences of this worksheet and the worksheets it uses
+    /// (`prefix`: the prefix chain of this one, empty for the top).
+    fn gauge_notes(&self, prefix: &str) -> Vec<String> {
+        let mut out = Vec::new();
+        let g = self.gauge_reference();
+        if self.uses_gauge() || g.is_stated() {
+            let reference = g.describe();
+            out.push(if prefix.is_empty() {
+                format!("Gauge pressures (barg, psig, kPag, MPag) are relative to {reference}.")
+            } else {
+                format!("In the worksheet used as `{prefix}`, gauge pressures are relative to {reference}.")
+            });
+        }
+        for u in self.used() {
+            let p = if prefix.is_empty() {
+                u.prefix.clone()
+            } else {
+                format!("{prefix}.{}", u.prefix)
+            };
+            out.extend(u.model.gauge_notes(&p));
+        }
+        out
     }
 
     fn quantity_row(&self, i: usize, line: usize) -> QuantityRow {

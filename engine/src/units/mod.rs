@@ -171,6 +171,34 @@ impl Unit {
     }
 }
 
+impl Unit {
+    /// Whether this is a gauge pressure unit (`barg`, `psig`, `kPag`,
+    /// `MPag`): a pressure written relative to a reference pressure.
+    pub fn is_gauge(&self) -> bool {
+        self.dim == Dim::PRESSURE && self.affinity == Affinity::Absolute && self.offset != 0.0
+    }
+
+    /// This unit with the gauge reference `reference` (Pa, absolute) when it
+    /// is a gauge unit; other units are returned as they are.
+    pub fn with_gauge(self, reference: f64) -> Unit {
+        if self.is_gauge() {
+            Unit {
+                offset: reference,
+                ..self
+            }
+        } else {
+            self
+        }
+    }
+}
+
+/// The default gauge reference: the standard atmosphere, 101.325 kPa
+/// (`uom`'s `pressure::atmosphere`, the offset of the gauge rows of the
+/// unit table).
+pub fn standard_atmosphere() -> f64 {
+    lookup("atm").map_or(101_325.0, |u| u.factor)
+}
+
 /// A unit that could not be resolved, with where and a suggestion.
 #[derive(Clone, Debug, PartialEq)]
 pub struct UnitError {
