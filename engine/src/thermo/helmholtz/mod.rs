@@ -11,8 +11,10 @@
 //! Solving:
 //! - (T, p): Newton iteration on p(rho) on the stable branch, chosen by the
 //!   saturation pressure (the ancillary equation, and the exact phase
-//!   equilibrium within 0.5 % of it). A pair within 1e-9 of the saturation
-//!   pressure is ambiguous and asks for a quality.
+//!   equilibrium inside a per-fluid band around it: 0.5 %, for R1234yf,
+//!   whose ancillary is poor near its triple point, a factor 4.4). A pair
+//!   within 1e-9 of the saturation pressure is ambiguous and asks for a
+//!   quality. CO2 states above its melting pressure are out of range.
 //! - Saturation at T: equal pressure and Gibbs energy of the two phases by
 //!   the scheme of R. Akasaka, J. Therm. Sci. Technol. 3 (2008) 442 (Newton
 //!   in (delta', delta'') on J and K), started from the ancillary equations.
