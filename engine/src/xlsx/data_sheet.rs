@@ -188,7 +188,10 @@ pub(super) fn write(l: &mut SheetLayout) -> XResult<Worksheet> {
             Value::State(sv) => Some(&*sv.sub),
             _ => None,
         };
+        // Named gases and air only: a `gas_mix` mixture's states are engine
+        // values (its coefficients are not on this sheet).
         if let Some(Substance::IdealGas(g)) = sub
+            && crate::thermo::ideal_gas::IdealGas::by_name(g.name()).is_ok()
             && !gases.iter().any(|x| x.name() == g.name())
         {
             gases.push(g.clone());

@@ -499,6 +499,9 @@ impl Env<'_> {
             _ => None,
         };
         match (code, rule) {
+            // Only a state node has fields to refer to (`state` falls back
+            // to this function for anything else, which must end here).
+            (Code::Slot(i), _) if !(self.is_state)(*i) => None,
             (Code::Slot(_), _) => {
                 let st = self.state(code)?;
                 let t = self.state_field(&st, Field::T)?;
