@@ -52,6 +52,8 @@ pub struct Node {
     /// display unit the checker chose for it (for showing actual values and
     /// limits).
     pub operands: Vec<Operand>,
+    /// Warnings found while checking (reported with the node's results).
+    pub warnings: Vec<Diagnostic>,
 }
 
 /// One operand of a comparison in a check.
@@ -206,6 +208,7 @@ pub fn check_with(
             expr_span: im.span,
             description: im.description.clone(),
             operands: Vec::new(),
+            warnings: Vec::new(),
         });
         exprs.push(None);
     }
@@ -329,6 +332,7 @@ pub fn check_with(
             expr_span,
             description: desc.as_ref().map(|d: &StringLit| d.value.clone()),
             operands: Vec::new(),
+            warnings: Vec::new(),
         });
         exprs.push(Some((value, unit)));
     }
@@ -395,6 +399,7 @@ pub fn check_with(
         display_of: vec![DisplayUnit::Auto; nodes.len()],
         diags: Vec::new(),
         operands: None,
+        warnings: Vec::new(),
         unit_cache: HashMap::default(),
         externals,
         gauge: gauge.si,
@@ -425,6 +430,7 @@ pub fn check_with(
         };
         cx.types[i] = ty;
         cx.display_of[i] = display.clone();
+        nodes[i].warnings = std::mem::take(&mut cx.warnings);
         nodes[i].ty = ty;
         nodes[i].code = code;
         nodes[i].display = display;
@@ -1251,6 +1257,8 @@ struct Cx<'a> {
     /// While a check's condition is compiled: the operands of its
     /// comparisons so far.
     operands: Option<Vec<Operand>>,
+    /// Warnings of the node being checked.
+    warnings: Vec<Diagnostic>,
     /// Units resolved so far, by their text (worksheets repeat a few units).
     unit_cache: HashMap<&'a str, Unit>,
     /// Values read by the caller for `cell()` calls.
@@ -1524,6 +1532,19 @@ impl Cx<'_> {
                 }
             }
             BinOp::Mul | BinOp::Div => {
+                if op == BinOp::Mul {
+                    for (t, tq, other) in [(l, lq, rq), (r, rq, lq)] {
+                        if self.celsius_reading(t, tq) && other.dim.0[3] == -1 {
+                            self.warnings.push(Diagnostic::warning(
+                                "an absolute temperature in degC or degF is multiplied by a \
+                                     quantity per kelvin (a specific heat?): it is computed in \
+                                     kelvin, T + 273.15; for a heat from a temperature change, \
+                                     multiply by a difference such as (T2 - T1)",
+                                t.span,
+                            ));
+                        }
+                    }
+                }
                 let (dim, code) = if op == BinOp::Mul {
                     (lq.dim.checked_mul(rq.dim), Code::Mul(lc, rc))
                 } else {
@@ -1767,6 +1788,23 @@ impl Cx<'_> {
             }
         };
         (fty, Code::Field(Box::new(code), f, field.span))
+    }
+
+    /// An absolute temperature written in an offset unit (a degC or degF
+    /// literal, or a name shown in one).
+    fn celsius_reading(&self, e: &Expr, q: QTy) -> bool {
+        if q.aff != Affinity::Absolute || q.dim != Dim::TEMPERATURE {
+            return false;
+        }
+        // degC and degF have an offset from kelvin; K and degR do not.
+        let offset = |u: &Unit| u.offset != 0.0;
+        match &inner(e).kind {
+            ExprKind::Number { unit: Some(u), .. } => units::resolve(u).is_ok_and(|u| offset(&u)),
+            ExprKind::Name(n) => self.names.get(n).is_some_and(|&i| {
+                matches!(&self.display_of.get(i), Some(DisplayUnit::Fixed { unit, .. }) if offset(unit))
+            }),
+            _ => false,
+        }
     }
 
     /// A check's condition: a true/false expression.
@@ -2330,6 +2368,7 @@ pub fn check_standalone_gauge(
         display_of: Vec::new(),
         diags: Vec::new(),
         operands: None,
+        warnings: Vec::new(),
         unit_cache: HashMap::default(),
         externals: &Externals::default(),
         gauge,

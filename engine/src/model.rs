@@ -449,6 +449,7 @@ impl Model {
                 self.status[i] = Status::Failed(runtime_diagnostic(node, e.span, &e.message));
             }
         }
+        w.extend(self.checked.nodes[i].warnings.iter().cloned());
         w.dedup();
         self.warnings[i] = w;
         true

@@ -271,3 +271,22 @@ fn impossible_absolute_values_and_unshowable_numbers_are_errors() {
     let m = run("a = 10 degC - 30 degC\nb = -5 kPa\n");
     assert!(close(m.number("a").unwrap(), -20.0, 1e-12));
 }
+
+#[test]
+fn a_celsius_reading_times_a_specific_heat_warns() {
+    // m c T with T in degC is computed in kelvin (correct arithmetic, almost
+    // always a mistake): a located warning; a difference does not warn, nor
+    // does a kelvin value.
+    let src = "input T = 80 degC\ninput c = 4.18 kJ/(kg K)\nq = c * T\n\
+               q2 = c * (T - 20 degC)\nq3 = 4.18 kJ/(kg K) * 300 K\nq4 = 2 * T\n";
+    let m = run(src);
+    let r = m.report();
+    let ws: Vec<String> = r.warnings.iter().map(|w| w.to_string()).collect();
+    assert_eq!(ws.len(), 1, "{ws:?}");
+    assert!(
+        ws[0].contains("`q`") && ws[0].contains("difference"),
+        "{ws:?}"
+    );
+    // The value itself is the kelvin product: 4180 J/(kg K) x 353.15 K.
+    assert!(close(m.number("q").unwrap(), 4180.0 * 353.15, 1e-12));
+}
