@@ -400,6 +400,7 @@ pub fn check_with(
         diags: Vec::new(),
         operands: None,
         warnings: Vec::new(),
+        input_nodes: nodes.iter().map(|n| n.kind == NodeKind::Input).collect(),
         unit_cache: HashMap::default(),
         externals,
         gauge: gauge.si,
@@ -1259,6 +1260,8 @@ struct Cx<'a> {
     operands: Option<Vec<Operand>>,
     /// Warnings of the node being checked.
     warnings: Vec<Diagnostic>,
+    /// Which nodes are inputs.
+    input_nodes: Vec<bool>,
     /// Units resolved so far, by their text (worksheets repeat a few units).
     unit_cache: HashMap<&'a str, Unit>,
     /// Values read by the caller for `cell()` calls.
@@ -1533,8 +1536,11 @@ impl Cx<'_> {
             }
             BinOp::Mul | BinOp::Div => {
                 if op == BinOp::Mul {
-                    for (t, tq, other) in [(l, lq, rq), (r, rq, lq)] {
-                        if self.celsius_reading(t, tq) && other.dim.0[3] == -1 {
+                    for (t, tq, o, other) in [(l, lq, r, rq), (r, rq, l, lq)] {
+                        if self.celsius_reading(t, tq)
+                            && other.dim.0[3] == -1
+                            && self.looks_like_specific_heat(o)
+                        {
                             self.warnings.push(Diagnostic::warning(
                                 "an absolute temperature in degC or degF is multiplied by a \
                                      quantity per kelvin (a specific heat?): it is computed in \
@@ -1803,6 +1809,22 @@ impl Cx<'_> {
             ExprKind::Name(n) => self.names.get(n).is_some_and(|&i| {
                 matches!(&self.display_of.get(i), Some(DisplayUnit::Fixed { unit, .. }) if offset(unit))
             }),
+            _ => false,
+        }
+    }
+
+    /// A factor that is data rather than a computed entropy: a literal, an
+    /// input, or a `.cp` / `.cv` field. (T0 times an entropy generated is
+    /// exergy and must not warn; the dimension alone cannot tell the two
+    /// apart.)
+    fn looks_like_specific_heat(&self, e: &Expr) -> bool {
+        match &inner(e).kind {
+            ExprKind::Number { .. } => true,
+            ExprKind::Field { field, .. } => matches!(field.name.as_str(), "cp" | "cv"),
+            ExprKind::Name(n) => self
+                .names
+                .get(n)
+                .is_some_and(|&i| self.input_nodes.get(i).copied().unwrap_or(false)),
             _ => false,
         }
     }
@@ -2369,6 +2391,7 @@ pub fn check_standalone_gauge(
         diags: Vec::new(),
         operands: None,
         warnings: Vec::new(),
+        input_nodes: Vec::new(),
         unit_cache: HashMap::default(),
         externals: &Externals::default(),
         gauge,
