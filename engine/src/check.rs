@@ -1813,18 +1813,23 @@ impl Cx<'_> {
         }
     }
 
-    /// A factor that is data rather than a computed entropy: a literal, an
-    /// input, or a `.cp` / `.cv` field. (T0 times an entropy generated is
-    /// exergy and must not warn; the dimension alone cannot tell the two
-    /// apart.)
+    /// A factor that is a specific heat: a `.cp` / `.cv` field, or an
+    /// input named like one (`c`, `cp`, `c_w`, ...). The dimension alone
+    /// cannot tell a specific heat from a gas constant (R T is right in
+    /// kelvin) or an entropy (T0 S_gen is exergy), so the rule looks at
+    /// what the factor is.
     fn looks_like_specific_heat(&self, e: &Expr) -> bool {
         match &inner(e).kind {
-            ExprKind::Number { .. } => true,
             ExprKind::Field { field, .. } => matches!(field.name.as_str(), "cp" | "cv"),
-            ExprKind::Name(n) => self
-                .names
-                .get(n)
-                .is_some_and(|&i| self.input_nodes.get(i).copied().unwrap_or(false)),
+            ExprKind::Name(n) => {
+                let heat_name =
+                    n == "c" || n.starts_with("c_") || n.starts_with("cp") || n.starts_with("cv");
+                heat_name
+                    && self
+                        .names
+                        .get(n)
+                        .is_some_and(|&i| self.input_nodes.get(i).copied().unwrap_or(false))
+            }
             _ => false,
         }
     }

@@ -278,7 +278,8 @@ fn a_celsius_reading_times_a_specific_heat_warns() {
     // always a mistake): a located warning; a difference does not warn, nor
     // does a kelvin value.
     let src = "input T = 80 degC\ninput c = 4.18 kJ/(kg K)\nq = c * T\n\
-               q2 = c * (T - 20 degC)\nq3 = 4.18 kJ/(kg K) * 300 K\nq4 = 2 * T\n";
+               q2 = c * (T - 20 degC)\nq3 = 4.18 kJ/(kg K) * 300 K\nq4 = 2 * T\n\
+               input R = 287 J/(kg K)\nrho = 1 bar / (R * T)\nS = 2 W/K\nX = T * S\n";
     let m = run(src);
     let r = m.report();
     let ws: Vec<String> = r.warnings.iter().map(|w| w.to_string()).collect();
