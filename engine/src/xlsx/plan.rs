@@ -237,26 +237,40 @@ fn has_engine_rows(r: &NodeRows) -> bool {
 }
 
 /// For each node: the inputs whose change makes it stale (it is, or uses,
-/// an engine value computed from them).
+/// an engine value computed from them). Only nodes with engine rows start
+/// a set (their transitive inputs, found by a walk up the graph); the rest
+/// inherit their dependencies' sets, so a worksheet without engine values
+/// costs one pass (no per-node input sets: those made large worksheets
+/// quadratic in time and memory).
 pub(super) fn stale_inputs(model: &Model, plan: &[Option<NodeRows>]) -> Vec<BTreeSet<usize>> {
     let nodes = model.nodes();
     let n = nodes.len();
-    let mut inputs: Vec<BTreeSet<usize>> = vec![BTreeSet::new(); n];
     let mut stale: Vec<BTreeSet<usize>> = vec![BTreeSet::new(); n];
+    // Walk state reused by every search: a node is visited in search `k`
+    // when `seen[node] == k`.
+    let mut seen: Vec<usize> = vec![0; n];
+    let mut search = 0;
+    let mut stack = Vec::new();
     for &i in model.order() {
-        let mut ins = BTreeSet::new();
         let mut st = BTreeSet::new();
         for &d in &nodes[i].deps {
-            if nodes[d].kind == NodeKind::Input && matches!(nodes[d].ty, Ty::Num(_)) {
-                ins.insert(d);
-            }
-            ins.extend(inputs[d].iter().copied());
             st.extend(stale[d].iter().copied());
         }
         if plan[i].as_ref().is_some_and(has_engine_rows) {
-            st.extend(ins.iter().copied());
+            search += 1;
+            stack.clear();
+            stack.extend(nodes[i].deps.iter().copied());
+            while let Some(d) = stack.pop() {
+                if seen[d] == search {
+                    continue;
+                }
+                seen[d] = search;
+                if nodes[d].kind == NodeKind::Input && matches!(nodes[d].ty, Ty::Num(_)) {
+                    st.insert(d);
+                }
+                stack.extend(nodes[d].deps.iter().copied());
+            }
         }
-        inputs[i] = ins;
         stale[i] = st;
     }
     stale
