@@ -276,6 +276,45 @@ fn number_row(
     }
 }
 
+/// A row for a value with fields (a state, a substance, a saturated
+/// pair): its words, and a row per field (name, display unit, dimension,
+/// SI value, words).
+fn compound_row(
+    name: &str,
+    kind: &'static str,
+    line: usize,
+    node: usize,
+    text: String,
+    fields: Vec<(String, DisplayUnit, Dim, f64, &'static str)>,
+) -> QuantityRow {
+    let mut row = number_row(
+        name.to_string(),
+        kind,
+        &DisplayUnit::Auto,
+        Dim::NONE,
+        None,
+        line,
+        node,
+    );
+    row.text = Some(text);
+    row.si_unit = String::new();
+    row.unit = String::new();
+    for (fname, display, dim, x, words) in fields {
+        let mut fr = number_row(
+            format!("{name}.{fname}"),
+            kind,
+            &display,
+            dim,
+            Some(x),
+            line,
+            node,
+        );
+        fr.description = Some(words.to_string());
+        row.fields.push(fr);
+    }
+    row
+}
+
 fn field_dim(f: Field) -> Dim {
     crate::fields::info(f).dim
 }
@@ -451,94 +490,45 @@ impl Model {
                 i,
             ),
             (_, Value::State(sv)) => {
-                let mut row = number_row(
-                    name.clone(),
-                    kind,
-                    &DisplayUnit::Auto,
-                    Dim::NONE,
-                    None,
-                    line,
-                    i,
-                );
-                row.text = Some(format!("state of {}", sv.sub));
-                row.si_unit = String::new();
-                row.unit = String::new();
-                for f in STATE_FIELDS {
-                    if let Some(x) = sv.st.get(f) {
-                        let fname = format!("{name}.{}", f.name());
-                        let mut fr = number_row(
-                            fname,
-                            kind,
-                            &self.state_field_display(i, f),
+                let fields = STATE_FIELDS
+                    .iter()
+                    .filter_map(|&f| {
+                        let x = sv.st.get(f)?;
+                        let display = self.state_field_display(i, f);
+                        Some((
+                            f.name().to_string(),
+                            display,
                             field_dim(f),
-                            Some(x),
-                            line,
-                            i,
-                        );
-                        fr.description = Some(field_words(f).to_string());
-                        row.fields.push(fr);
-                    }
-                }
-                row
+                            x,
+                            field_words(f),
+                        ))
+                    })
+                    .collect();
+                compound_row(&name, kind, line, i, format!("state of {}", sv.sub), fields)
             }
             (_, Value::Substance(sub)) => {
-                let mut row = number_row(
-                    name.clone(),
-                    kind,
-                    &DisplayUnit::Auto,
-                    Dim::NONE,
-                    None,
-                    line,
-                    i,
-                );
-                row.text = Some(sub.to_string());
-                row.si_unit = String::new();
-                row.unit = String::new();
-                for (fname, dim, x, words) in substance_fields(sub) {
-                    if !is_substance_field(fname) {
-                        continue;
-                    }
-                    let mut fr = number_row(
-                        format!("{name}.{fname}"),
-                        kind,
-                        &substance_display(fname),
-                        dim,
-                        Some(x),
-                        line,
-                        i,
-                    );
-                    fr.description = Some(words.to_string());
-                    row.fields.push(fr);
-                }
-                row
+                let fields = substance_fields(sub)
+                    .into_iter()
+                    .filter(|(fname, ..)| is_substance_field(fname))
+                    .map(|(fname, dim, x, words)| {
+                        (fname.to_string(), substance_display(fname), dim, x, words)
+                    })
+                    .collect();
+                compound_row(&name, kind, line, i, sub.to_string(), fields)
             }
             (_, Value::Saturation(sv)) => {
-                let mut row = number_row(
-                    name.clone(),
+                let fields = saturation_fields(sv)
+                    .into_iter()
+                    .map(|(fname, dim, x, words)| (fname, DisplayUnit::Auto, dim, x, words))
+                    .collect();
+                compound_row(
+                    &name,
                     kind,
-                    &DisplayUnit::Auto,
-                    Dim::NONE,
-                    None,
                     line,
                     i,
-                );
-                row.text = Some(format!("saturated {}", sv.sub));
-                row.si_unit = String::new();
-                row.unit = String::new();
-                for (fname, dim, x, words) in saturation_fields(sv) {
-                    let mut fr = number_row(
-                        format!("{name}.{fname}"),
-                        kind,
-                        &DisplayUnit::Auto,
-                        dim,
-                        Some(x),
-                        line,
-                        i,
-                    );
-                    fr.description = Some(words.to_string());
-                    row.fields.push(fr);
-                }
-                row
+                    format!("saturated {}", sv.sub),
+                    fields,
+                )
             }
             (ty, v) => {
                 let mut row = number_row(
