@@ -162,40 +162,7 @@ pub static CO2: Fluid = fluid!(
 
 // ------------------------------------------------------------ messages
 
-/// A number for a message: up to 6 significant figures, trailing zeros cut.
-fn num(x: f64) -> String {
-    if !x.is_finite() {
-        return format!("{x}");
-    }
-    if x == 0.0 {
-        return "0".into();
-    }
-    let mag = x.abs().log10().floor();
-    if !(-4.0..=9.0).contains(&mag) {
-        return format!("{x:.5e}");
-    }
-    let decimals = (5.0 - mag).max(0.0) as usize;
-    let s = format!("{x:.decimals$}");
-    if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s
-    }
-}
-
-fn fmt_p(p: f64) -> String {
-    if p.abs() >= 1e6 {
-        format!("{} MPa", num(p / 1e6))
-    } else if p.abs() >= 1e3 {
-        format!("{} kPa", num(p / 1e3))
-    } else {
-        format!("{} Pa", num(p))
-    }
-}
-
-fn fmt_t(t: f64) -> String {
-    format!("{} K", num(t))
-}
+use super::text::{fmt_num as num, fmt_p, fmt_t};
 
 // ------------------------------------------------------------ points
 
