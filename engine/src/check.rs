@@ -350,6 +350,8 @@ pub fn check_with(
     // 2. Dependencies (by name), unknown names.
     let mut all_deps: Vec<Vec<usize>> = Vec::with_capacity(nodes.len());
     let mut refs = Vec::new();
+    // Built once: suggestions for every unknown name stay bounded.
+    let suggester = name_suggester(&names);
     for e in &exprs {
         let Some((value, _)) = e else {
             all_deps.push(Vec::new());
@@ -363,7 +365,7 @@ pub fn check_with(
                 if !deps.contains(&j) {
                     deps.push(j);
                 }
-            } else if let Some(d) = rx.unknown(name, *span) {
+            } else if let Some(d) = rx.unknown(name, *span, &suggester) {
                 diags.push(d);
             }
         }
@@ -1035,7 +1037,12 @@ impl Resolve<'_> {
     /// The error for a reference that is not a name, or `None` when it
     /// needs none (a built-in constant, a name of a used worksheet that
     /// failed to check: reported at its `use`).
-    fn unknown(&self, name: &str, span: Span) -> Option<Diagnostic> {
+    fn unknown(
+        &self,
+        name: &str,
+        span: Span,
+        suggester: &crate::suggest::Suggester,
+    ) -> Option<Diagnostic> {
         if builtins::constant(name).is_some() {
             return None;
         }
@@ -1068,7 +1075,7 @@ impl Resolve<'_> {
                 None => d,
             });
         }
-        Some(unknown_name(name, span, &name_suggester(self.names)))
+        Some(unknown_name(name, span, suggester))
     }
 }
 
