@@ -12,13 +12,13 @@ use sheaf_grammar::{
     UnitExpr, Worksheet,
 };
 
-use crate::builtins::{self, Builtin, TArg};
+use crate::builtins::{self, BoundArg, Builtin};
 use crate::diag::Diagnostic;
 use crate::eval::{CallSpans, Code};
 use crate::externals::Externals;
 use crate::graph;
 use crate::thermo::{Field, ModelKind};
-use crate::types::{QTy, Ty, describe_qty};
+use crate::types::{QuantityType, Ty, describe_qty};
 use crate::units::{self, Affinity, Dim, Unit};
 
 /// What a node is.
@@ -393,7 +393,7 @@ pub fn check_with(
     };
 
     // 4. Types and code, in dependency order.
-    let mut cx = Cx {
+    let mut cx = Checker {
         src,
         names: &names,
         types: vec![Ty::Error; nodes.len()],
@@ -462,7 +462,7 @@ pub fn check_with(
 /// input's quantity; a find solves an input for a condition of one
 /// dimension, and the input it solves cannot be set otherwise.
 fn whatif_statements(
-    cx: &mut Cx,
+    cx: &mut Checker,
     ws: &Worksheet,
     nodes: &[Node],
     order: &[usize],
@@ -754,7 +754,12 @@ fn whatif_statements(
                     SweepPoints::Count { from, to, count } => {
                         let a = cx.constant_of(from, want, name, "a sweep value");
                         let b = cx.constant_of(to, want, name, "a sweep value");
-                        let c = cx.constant_of(count, QTy::DIMENSIONLESS, "count", "the count");
+                        let c = cx.constant_of(
+                            count,
+                            QuantityType::DIMENSIONLESS,
+                            "count",
+                            "the count",
+                        );
                         match (a, b, c) {
                             (Some(a), Some(b), Some(c)) if c.fract() == 0.0 && c >= 0.0 => {
                                 whatif::count_points(a, b, c as usize).map_err(|m| (m, count.span))
@@ -820,10 +825,15 @@ fn found_set_error(input: &Ident, find_span: Span, what: &str) -> Diagnostic {
     .with_note("help: remove the `find`, or set another input")
 }
 
-impl Cx<'_> {
+impl Checker<'_> {
     /// The input named by a case, sweep or find: its node and quantity
     /// (located errors otherwise).
-    fn input_for(&mut self, id: &Ident, nodes: &[Node], what: &str) -> Option<(usize, QTy)> {
+    fn input_for(
+        &mut self,
+        id: &Ident,
+        nodes: &[Node],
+        what: &str,
+    ) -> Option<(usize, QuantityType)> {
         let Some(&i) = self.names.get(&id.name) else {
             let d = unknown_name(&id.name, id.span, &name_suggester(self.names));
             self.diags.push(d);
@@ -865,7 +875,7 @@ impl Cx<'_> {
     }
 
     /// A constant of the quantity `want` (dimension-checked like `--set`).
-    fn constant_of(&mut self, e: &Expr, want: QTy, name: &str, what: &str) -> Option<f64> {
+    fn constant_of(&mut self, e: &Expr, want: QuantityType, name: &str, what: &str) -> Option<f64> {
         let (ty, code) = self.expr(e);
         let got = match ty {
             Ty::Error => return None,
@@ -919,7 +929,7 @@ impl Cx<'_> {
 
     /// The step of a sweep: a constant of the input's dimension, never
     /// absolute (`5 degC` as a step would be 278.15 K).
-    fn step_of(&mut self, e: &Expr, want: QTy, name: &str) -> Option<f64> {
+    fn step_of(&mut self, e: &Expr, want: QuantityType, name: &str) -> Option<f64> {
         let (ty, code) = self.expr(e);
         let got = match ty {
             Ty::Error => return None,
@@ -1253,7 +1263,7 @@ fn cycle_diagnostic<'a>(
     )
 }
 
-struct Cx<'a> {
+struct Checker<'a> {
     src: &'a str,
     names: &'a HashMap<String, usize>,
     types: Vec<Ty>,
@@ -1286,7 +1296,7 @@ type Typed = (Ty, Code);
 
 const ERR: Typed = (Ty::Error, Code::Absent);
 
-impl Cx<'_> {
+impl Checker<'_> {
     fn error(&mut self, d: Diagnostic) -> Typed {
         self.diags.push(d);
         ERR
@@ -1401,10 +1411,10 @@ impl Cx<'_> {
     /// A number literal with an optional unit, folded to SI.
     fn literal(&mut self, value: f64, unit: Option<&UnitExpr>) -> Typed {
         match unit {
-            None => (Ty::Num(QTy::DIMENSIONLESS), Code::Const(value)),
+            None => (Ty::Num(QuantityType::DIMENSIONLESS), Code::Const(value)),
             Some(u) => match self.unit(u) {
                 Some(unit) => (
-                    Ty::Num(QTy {
+                    Ty::Num(QuantityType {
                         dim: unit.dim,
                         aff: unit.affinity,
                     }),
@@ -1444,7 +1454,7 @@ impl Cx<'_> {
 
     /// "pressure (kPa)" using the unit the user sees for this operand when
     /// there is one.
-    fn side(&self, e: &Expr, q: QTy) -> String {
+    fn side(&self, e: &Expr, q: QuantityType) -> String {
         let written = match &inner(e).kind {
             ExprKind::Number { unit: Some(u), .. } => Some(u.span.slice(self.src).to_string()),
             ExprKind::Name(n) => self
@@ -1511,7 +1521,7 @@ impl Cx<'_> {
                 }
                 match affinity(op, lq.aff, rq.aff) {
                     Ok(aff) => {
-                        let ty = Ty::Num(QTy { dim: lq.dim, aff });
+                        let ty = Ty::Num(QuantityType { dim: lq.dim, aff });
                         let energy_of_states = |c: &Code| {
                             matches!(c, Code::Field(_, Field::H | Field::S | Field::U, _))
                         };
@@ -1587,7 +1597,10 @@ impl Cx<'_> {
                     ));
                 }
                 if lq.dim.is_none() {
-                    return (Ty::Num(QTy::DIMENSIONLESS), Code::Pow(lc, rc, span));
+                    return (
+                        Ty::Num(QuantityType::DIMENSIONLESS),
+                        Code::Pow(lc, rc, span),
+                    );
                 }
                 let Some(x) = const_value(&rc) else {
                     return self.error(
@@ -1648,7 +1661,7 @@ impl Cx<'_> {
                         ExprKind::Str(s) => Some(s.clone()),
                         _ => None,
                     };
-                    targs.push(Some(TArg { ty, literal }));
+                    targs.push(Some(BoundArg { ty, literal }));
                     codes.push(code);
                 }
                 None => {
@@ -1684,7 +1697,7 @@ impl Cx<'_> {
 
     /// A `cell(book, ref)` call (already typed: two string literals)
     /// compiled to the value the caller read.
-    fn external_cell(&mut self, targs: &[Option<TArg>], spans: CallSpans) -> Typed {
+    fn external_cell(&mut self, targs: &[Option<BoundArg>], spans: CallSpans) -> Typed {
         let lit = |i: usize| {
             targs
                 .get(i)
@@ -1694,7 +1707,7 @@ impl Cx<'_> {
         };
         match self.externals.cell(&lit(0), &lit(1)) {
             Ok(v) => (
-                Ty::Num(QTy::DIMENSIONLESS),
+                Ty::Num(QuantityType::DIMENSIONLESS),
                 Code::Call(&builtins::cells::CELL, vec![Code::Const(v)], spans),
             ),
             Err(message) => self.error(Diagnostic::error(message, spans.call)),
@@ -1805,7 +1818,7 @@ impl Cx<'_> {
 
     /// An absolute temperature written in an offset unit (a degC or degF
     /// literal, or a name shown in one).
-    fn celsius_reading(&self, e: &Expr, q: QTy) -> bool {
+    fn celsius_reading(&self, e: &Expr, q: QuantityType) -> bool {
         if q.aff != Affinity::Absolute || q.dim != Dim::TEMPERATURE {
             return false;
         }
@@ -2016,7 +2029,7 @@ impl Cx<'_> {
                         );
                     }
                 };
-                Ty::Num(QTy { dim: x.dim, aff })
+                Ty::Num(QuantityType { dim: x.dim, aff })
             }
             (x, y) if x == y => x,
             (x, y) => {
@@ -2204,7 +2217,7 @@ pub fn normalise_unit_text(s: &str) -> String {
 pub fn field_type(f: Field) -> Ty {
     let info = crate::fields::info(f);
     if info.absolute {
-        Ty::Num(QTy::absolute(info.dim))
+        Ty::Num(QuantityType::absolute(info.dim))
     } else {
         Ty::num(info.dim)
     }
@@ -2394,7 +2407,7 @@ pub fn check_standalone_gauge(
         .filter(|(n, _)| builtins::constant(n).is_none())
         .map(|(n, s)| unknown_name(n, *s, &name_suggester(&names)))
         .collect();
-    let mut cx = Cx {
+    let mut cx = Checker {
         src,
         names: &names,
         types: Vec::new(),
@@ -2458,7 +2471,10 @@ mod tests {
         assert_eq!(c.nodes[0].code, Code::Const(2000.0));
         assert_eq!(c.nodes[0].ty, Ty::num(Dim::PRESSURE));
         let c = checked("t = 20 degC\n").unwrap();
-        assert_eq!(c.nodes[0].ty, Ty::Num(QTy::absolute(Dim::TEMPERATURE)));
+        assert_eq!(
+            c.nodes[0].ty,
+            Ty::Num(QuantityType::absolute(Dim::TEMPERATURE))
+        );
     }
 
     #[test]

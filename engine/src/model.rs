@@ -11,7 +11,7 @@ use crate::diag::Diagnostic;
 use crate::eval::{self, Code, Value};
 use crate::externals::{CellRequest, Externals, UseRequest, cell_requests, use_requests};
 use crate::graph;
-use crate::types::{QTy, Ty, describe_qty};
+use crate::types::{QuantityType, Ty, describe_qty};
 use crate::units::Affinity;
 
 /// Evaluation state of a node.
@@ -663,7 +663,7 @@ fn physical(node: &Node, v: &Value) -> Result<(), String> {
     Ok(())
 }
 
-fn compatible(want: QTy, got: QTy) -> bool {
+fn compatible(want: QuantityType, got: QuantityType) -> bool {
     want.dim == got.dim
         && !matches!(
             (want.aff, got.aff),

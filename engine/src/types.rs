@@ -8,24 +8,24 @@ use crate::units::{self, Affinity, Dim};
 /// (a temperature or gauge pressure written with an offset unit), a
 /// difference, or neutral (usable as either).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
-pub struct QTy {
+pub struct QuantityType {
     pub dim: Dim,
     pub aff: Affinity,
 }
 
-impl QTy {
-    pub const DIMENSIONLESS: QTy = QTy {
+impl QuantityType {
+    pub const DIMENSIONLESS: QuantityType = QuantityType {
         dim: Dim::NONE,
         aff: Affinity::Neutral,
     };
-    pub fn neutral(dim: Dim) -> QTy {
-        QTy {
+    pub fn neutral(dim: Dim) -> QuantityType {
+        QuantityType {
             dim,
             aff: Affinity::Neutral,
         }
     }
-    pub fn absolute(dim: Dim) -> QTy {
-        QTy {
+    pub fn absolute(dim: Dim) -> QuantityType {
+        QuantityType {
             dim,
             aff: Affinity::Absolute,
         }
@@ -34,7 +34,7 @@ impl QTy {
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum Ty {
-    Num(QTy),
+    Num(QuantityType),
     Bool,
     Str,
     Substance(ModelKind),
@@ -49,7 +49,7 @@ pub enum Ty {
 
 impl Ty {
     pub fn num(dim: Dim) -> Ty {
-        Ty::Num(QTy::neutral(dim))
+        Ty::Num(QuantityType::neutral(dim))
     }
 
     /// Words for messages: "pressure (Pa)", "an absolute temperature (K)",
@@ -68,7 +68,7 @@ impl Ty {
 }
 
 /// "pressure (Pa)", "temperature difference (K)", "dimensionless number".
-pub fn describe_qty(q: QTy) -> String {
+pub fn describe_qty(q: QuantityType) -> String {
     if q.dim.is_none() {
         return "a dimensionless number".into();
     }

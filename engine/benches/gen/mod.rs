@@ -255,13 +255,13 @@ const SUM: u8 = 0;
 const PROD: u8 = 1;
 const ATOM: u8 = 2;
 
-struct Ex {
+struct Fragment {
     text: String,
     val: f64,
     prec: u8,
 }
 
-impl Ex {
+impl Fragment {
     fn at_least(self, prec: u8) -> String {
         if self.prec >= prec {
             self.text
@@ -302,7 +302,7 @@ struct Gen {
 
 impl Gen {
     /// A literal of quantity `q` near its typical value, in a random unit.
-    fn literal(&mut self, q: Q) -> Ex {
+    fn literal(&mut self, q: Q) -> Fragment {
         let unit = self.rng.pick(q.units());
         let si = if q == Q::Temp {
             // 5 .. 95 degC
@@ -317,7 +317,7 @@ impl Gen {
         } else {
             format!("{text} {}", unit.text)
         };
-        Ex {
+        Fragment {
             text,
             val,
             prec: ATOM,
@@ -326,7 +326,7 @@ impl Gen {
 
     /// A name of quantity `q` defined so far (in dependency order), or
     /// sometimes (always, when there is none) a literal.
-    fn leaf(&mut self, q: Q) -> Ex {
+    fn leaf(&mut self, q: Q) -> Fragment {
         if self.by_q[q.index()].is_empty() || self.rng.chance(0.15) {
             return self.literal(q);
         }
@@ -335,7 +335,7 @@ impl Gen {
 
     /// A name of quantity `q` defined so far; the caller makes sure there
     /// is one (the first statements define one input of each quantity).
-    fn named(&mut self, q: Q) -> Ex {
+    fn named(&mut self, q: Q) -> Fragment {
         let len = self.by_q[q.index()].len();
         // half local (recent), half anywhere: mixes short and long edges
         let k = if self.rng.chance(0.5) {
@@ -345,14 +345,14 @@ impl Gen {
         };
         let id = self.by_q[q.index()][k];
         self.refs += 1;
-        Ex {
+        Fragment {
             text: self.names[id].clone(),
             val: self.vals[id],
             prec: ATOM,
         }
     }
 
-    fn ratio_of(&mut self, depth: u32) -> Ex {
+    fn ratio_of(&mut self, depth: u32) -> Fragment {
         let q = loop {
             let q = *self.rng.pick(&ALL);
             if q != Q::Ratio {
@@ -363,7 +363,7 @@ impl Gen {
         let b = self.expr(q, depth.saturating_sub(1));
         let (a, b) = if a.val >= b.val { (a, b) } else { (b, a) };
         let val = a.val / b.val;
-        Ex {
+        Fragment {
             text: format!("{} / {}", a.at_least(PROD), b.at_least(ATOM)),
             val,
             prec: PROD,
@@ -372,50 +372,50 @@ impl Gen {
 
     /// A sum or difference of two expressions of `q` (not `Temp`), kept
     /// positive.
-    fn sum(&mut self, q: Q, depth: u32) -> Ex {
+    fn sum(&mut self, q: Q, depth: u32) -> Fragment {
         let a = self.expr(q, depth - 1);
         let b = self.expr(q, depth - 1);
         if self.rng.chance(0.5) {
             let (a, b) = if a.val >= b.val { (a, b) } else { (b, a) };
             if a.val > 1.3 * b.val {
                 let val = a.val - b.val;
-                return Ex {
+                return Fragment {
                     text: format!("{} - {}", a.text, b.at_least(PROD)),
                     val,
                     prec: SUM,
                 };
             }
             let val = a.val + b.val;
-            return Ex {
+            return Fragment {
                 text: format!("{} + {}", a.text, b.at_least(PROD)),
                 val,
                 prec: SUM,
             };
         }
         let val = a.val + b.val;
-        Ex {
+        Fragment {
             text: format!("{} + {}", a.text, b.at_least(PROD)),
             val,
             prec: SUM,
         }
     }
 
-    fn mul(&mut self, a: Q, b: Q, depth: u32) -> Ex {
+    fn mul(&mut self, a: Q, b: Q, depth: u32) -> Fragment {
         let x = self.expr(a, depth - 1);
         let y = self.expr(b, depth - 1);
         let val = x.val * y.val;
-        Ex {
+        Fragment {
             text: format!("{} * {}", x.at_least(PROD), y.at_least(ATOM)),
             val,
             prec: PROD,
         }
     }
 
-    fn div(&mut self, a: Q, b: Q, depth: u32) -> Ex {
+    fn div(&mut self, a: Q, b: Q, depth: u32) -> Fragment {
         let x = self.expr(a, depth - 1);
         let y = self.expr(b, depth - 1);
         let val = x.val / y.val;
-        Ex {
+        Fragment {
             text: format!("{} / {}", x.at_least(PROD), y.at_least(ATOM)),
             val,
             prec: PROD,
@@ -424,7 +424,7 @@ impl Gen {
 
     /// An expression of quantity `q` with at most `depth` levels of
     /// operators.
-    fn expr(&mut self, q: Q, depth: u32) -> Ex {
+    fn expr(&mut self, q: Q, depth: u32) -> Fragment {
         if depth == 0 || self.rng.chance(0.25) {
             return self.leaf(q);
         }
@@ -433,7 +433,7 @@ impl Gen {
 
     /// An expression of quantity `q` with one to `depth` (>= 1) levels of
     /// operators.
-    fn compound(&mut self, q: Q, depth: u32) -> Ex {
+    fn compound(&mut self, q: Q, depth: u32) -> Fragment {
         let e = match q {
             Q::Temp => return self.temperature(depth),
             Q::Ratio => match self.rng.below(6) {
@@ -441,7 +441,7 @@ impl Gen {
                 1 => {
                     let r = self.ratio_of(depth);
                     let val = r.val.sqrt();
-                    Ex {
+                    Fragment {
                         text: format!("sqrt({})", r.text),
                         val,
                         prec: ATOM,
@@ -451,13 +451,13 @@ impl Gen {
                     let r = self.ratio_of(depth);
                     let l = r.val.ln();
                     if l > 1.0 / BAND {
-                        Ex {
+                        Fragment {
                             text: format!("ln({})", r.text),
                             val: l,
                             prec: ATOM,
                         }
                     } else {
-                        Ex {
+                        Fragment {
                             text: format!("exp({})", r.text),
                             val: r.val.exp(),
                             prec: ATOM,
@@ -467,7 +467,7 @@ impl Gen {
                 3 => {
                     let r = self.ratio_of(depth);
                     let (k, kv) = num(0.2 + 0.4 * self.rng.unit());
-                    Ex {
+                    Fragment {
                         text: format!("({})^{k}", r.text),
                         val: r.val.powf(kv),
                         prec: PROD,
@@ -489,7 +489,7 @@ impl Gen {
                         } else {
                             a.val.min(b.val)
                         };
-                        Ex {
+                        Fragment {
                             text: format!("{f}({}, {})", a.text, b.text),
                             val,
                             prec: ATOM,
@@ -499,7 +499,7 @@ impl Gen {
                         let r = self.expr(Q::Ratio, depth - 1);
                         let x = self.expr(q, depth - 1);
                         let val = r.val * x.val;
-                        Ex {
+                        Fragment {
                             text: format!("{} * {}", r.at_least(PROD), x.at_least(ATOM)),
                             val,
                             prec: PROD,
@@ -517,12 +517,12 @@ impl Gen {
     }
 
     /// Quantity-specific forms: `sqrt(2 * h)`, `V^2 / 2`, `T_a - T_b`.
-    fn special(&mut self, q: Q, depth: u32) -> Ex {
+    fn special(&mut self, q: Q, depth: u32) -> Fragment {
         match q {
             Q::Speed => {
                 let h = self.expr(Q::SpecEnergy, depth - 1);
                 let val = (2.0 * h.val).sqrt();
-                Ex {
+                Fragment {
                     text: format!("sqrt(2 * {})", h.at_least(ATOM)),
                     val,
                     prec: ATOM,
@@ -533,14 +533,14 @@ impl Gen {
                 if v.text.contains(' ') {
                     // a literal cannot take `^` (it would belong to its unit)
                     let val = v.val * v.val / 2.0;
-                    return Ex {
+                    return Fragment {
                         text: format!("({})^2 / 2", v.text),
                         val,
                         prec: PROD,
                     };
                 }
                 let val = v.val.powi(2) / 2.0;
-                Ex {
+                Fragment {
                     text: format!("{}^2 / 2", v.text),
                     val,
                     prec: PROD,
@@ -554,7 +554,7 @@ impl Gen {
                     return self.leaf(Q::TempDiff);
                 }
                 let val = a.val - b.val;
-                Ex {
+                Fragment {
                     text: format!("{} - {}", a.text, b.text),
                     val,
                     prec: SUM,
@@ -566,7 +566,7 @@ impl Gen {
 
     /// An absolute temperature: a temperature plus or minus a difference,
     /// steered towards the typical value and kept within 150..2000 K.
-    fn temperature(&mut self, depth: u32) -> Ex {
+    fn temperature(&mut self, depth: u32) -> Fragment {
         let t = self.leaf(Q::Temp);
         let d = self.expr(Q::TempDiff, depth - 1);
         let down = t.val > Q::Temp.typical();
@@ -574,14 +574,14 @@ impl Gen {
         if !(150.0..2000.0).contains(&val) {
             let d = self.literal(Q::TempDiff);
             let val = t.val + d.val;
-            return Ex {
+            return Fragment {
                 text: format!("{} + {}", t.text, d.text),
                 val,
                 prec: SUM,
             };
         }
         let op = if down { '-' } else { '+' };
-        Ex {
+        Fragment {
             text: format!("{} {op} {}", t.text, d.at_least(PROD)),
             val,
             prec: SUM,
@@ -589,14 +589,14 @@ impl Gen {
     }
 
     /// Multiply by a constant when the value has drifted out of its band.
-    fn rescale(&mut self, q: Q, e: Ex) -> Ex {
+    fn rescale(&mut self, q: Q, e: Fragment) -> Fragment {
         let t = q.typical();
         if e.val > t / BAND && e.val < t * BAND {
             return e;
         }
         let (k, kv) = num(t / e.val * 10f64.powf(0.5 * self.rng.unit() - 0.25));
         let val = e.val * kv;
-        Ex {
+        Fragment {
             text: format!("{} * {k}", e.at_least(PROD)),
             val,
             prec: PROD,
@@ -721,7 +721,7 @@ pub fn worksheet(n: usize, seed: u64) -> Synth {
                     let t = g.named(Q::Temp);
                     let d = g.literal(Q::TempDiff);
                     let val = t.val + d.val;
-                    Ex {
+                    Fragment {
                         text: format!("{} + {}", t.text, d.text),
                         val,
                         prec: SUM,
@@ -729,7 +729,7 @@ pub fn worksheet(n: usize, seed: u64) -> Synth {
                 } else {
                     let r = g.named(Q::Ratio);
                     let val = r.val * e.val;
-                    let product = Ex {
+                    let product = Fragment {
                         text: format!("{} * {}", r.text, e.at_least(ATOM)),
                         val,
                         prec: PROD,

@@ -7,7 +7,7 @@
 //! value. The function's own evaluation only passes that value on.
 
 use super::{Builtin, CallError, Family, Sheet, p, string_literal};
-use crate::types::{QTy, Ty};
+use crate::types::{QuantityType, Ty};
 use crate::value::Value;
 
 pub static CELL: Builtin = Builtin {
@@ -21,7 +21,7 @@ pub static CELL: Builtin = Builtin {
     typing: |b, args| {
         string_literal(b, args, 0)?;
         string_literal(b, args, 1)?;
-        Ok(Ty::Num(QTy::DIMENSIONLESS))
+        Ok(Ty::Num(QuantityType::DIMENSIONLESS))
     },
     // The checker compiles a call to `cell(value)`: one argument, the
     // number read by the caller.

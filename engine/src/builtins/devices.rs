@@ -1,8 +1,8 @@
 //! Devices: each returns the outlet state of an adiabatic device.
 
 use super::{
-    Args, Builtin, CallError, Family, Param, Rule, Sheet, TArg, TypeErr, Warnings, err_at, named,
-    new_state, opt, opt_pos, p, unless_error, want_dimensionless, want_num, want_state,
+    Args, BoundArg, Builtin, CallError, Family, Param, Rule, Sheet, TypeErr, Warnings, err_at,
+    named, new_state, opt, opt_pos, p, unless_error, want_dimensionless, want_num, want_state,
 };
 use crate::thermo::{self, ModelKind, process, process::Device};
 use crate::types::Ty;
@@ -16,7 +16,7 @@ const NO_ETA: &[Param] = &[p("st"), named("p")];
 
 /// Typing of a device: an inlet state, an outlet pressure, an efficiency
 /// when the device has one; the outlet is a state of the inlet's model.
-fn device_typing(b: &Builtin, args: &[Option<TArg>]) -> Result<Ty, TypeErr> {
+fn device_typing(b: &Builtin, args: &[Option<BoundArg>]) -> Result<Ty, TypeErr> {
     let k = want_state(b, args, 0)?;
     want_num(b, args, 1, Dim::PRESSURE, false)?;
     for i in 2..b.params.len() {

@@ -1,17 +1,17 @@
 //! Mathematical functions.
 
 use super::{
-    Args, Builtin, CallError, Family, Param, Rule, Sheet, TArg, TypeErr, Warnings, any_error,
+    Args, BoundArg, Builtin, CallError, Family, Param, Rule, Sheet, TypeErr, Warnings, any_error,
     err_at, err_call, num_arg, p,
 };
-use crate::types::{QTy, Ty, describe_qty};
+use crate::types::{QuantityType, Ty, describe_qty};
 use crate::units::Affinity;
 use crate::value::Value;
 
 const X: &[Param] = &[p("x")];
 
 /// Typing of a function of one dimensionless number.
-fn dimensionless_1(b: &Builtin, args: &[Option<TArg>]) -> Result<Ty, TypeErr> {
+fn dimensionless_1(b: &Builtin, args: &[Option<BoundArg>]) -> Result<Ty, TypeErr> {
     if any_error(args) {
         return Ok(Ty::Error);
     }
@@ -26,7 +26,7 @@ fn dimensionless_1(b: &Builtin, args: &[Option<TArg>]) -> Result<Ty, TypeErr> {
             ),
         );
     }
-    Ok(Ty::Num(QTy::DIMENSIONLESS))
+    Ok(Ty::Num(QuantityType::DIMENSIONLESS))
 }
 
 fn num(x: f64) -> Result<Value, CallError> {
@@ -218,7 +218,7 @@ pub static ABS: Builtin = Builtin {
 };
 
 /// Typing of `min`/`max`: arguments of one quantity, one affinity.
-fn one_quantity(b: &Builtin, args: &[Option<TArg>]) -> Result<Ty, TypeErr> {
+fn one_quantity(b: &Builtin, args: &[Option<BoundArg>]) -> Result<Ty, TypeErr> {
     if any_error(args) {
         return Ok(Ty::Error);
     }
@@ -256,7 +256,7 @@ fn one_quantity(b: &Builtin, args: &[Option<TArg>]) -> Result<Ty, TypeErr> {
             }
         };
     }
-    Ok(Ty::Num(QTy {
+    Ok(Ty::Num(QuantityType {
         dim: first.dim,
         aff,
     }))
@@ -317,7 +317,7 @@ pub static ATAN2: Builtin = Builtin {
                 ),
             );
         }
-        Ok(Ty::Num(QTy::DIMENSIONLESS))
+        Ok(Ty::Num(QuantityType::DIMENSIONLESS))
     },
     eval: |a, _: &mut Warnings| num(a.num(0)?.atan2(a.num(1)?)),
     sheet: Sheet::Rule(Rule::Atan2),

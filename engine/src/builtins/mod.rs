@@ -20,7 +20,7 @@ use std::fmt;
 use std::sync::Arc;
 
 use crate::thermo::{self, ModelKind, Substance};
-use crate::types::{QTy, Ty, describe_qty};
+use crate::types::{QuantityType, Ty, describe_qty};
 use crate::units::{Affinity, Dim};
 use crate::value::{StateVal, Value};
 
@@ -185,7 +185,7 @@ pub enum Rule {
 
 /// Typing rule: the argument types (one per parameter, `None` when not
 /// given; one per argument for a variadic built-in) to the result type.
-pub type TypeFn = fn(&Builtin, &[Option<TArg>]) -> Result<Ty, TypeErr>;
+pub type TypeFn = fn(&Builtin, &[Option<BoundArg>]) -> Result<Ty, TypeErr>;
 /// Evaluation on plain values (one per parameter, `Absent` when not given).
 pub type EvalFn = fn(&Args<'_>, &mut Warnings) -> Result<Value, CallError>;
 
@@ -276,7 +276,7 @@ pub fn lookup(name: &str) -> Option<&'static Builtin> {
 // ---------------------------------------------------------------- typing
 
 /// An argument after binding, as the typing rule sees it.
-pub struct TArg {
+pub struct BoundArg {
     pub ty: Ty,
     /// The string, when the argument is a string literal.
     pub literal: Option<String>,
@@ -304,12 +304,16 @@ pub(crate) fn err_call<T>(message: impl Into<String>) -> Result<T, TypeErr> {
 }
 
 /// Whether any given argument is already erroneous.
-pub(crate) fn any_error(args: &[Option<TArg>]) -> bool {
+pub(crate) fn any_error(args: &[Option<BoundArg>]) -> bool {
     args.iter().flatten().any(|a| a.ty == Ty::Error)
 }
 
 /// The quantity of argument `i`, which must be a number.
-pub(crate) fn num_arg(b: &Builtin, args: &[Option<TArg>], i: usize) -> Result<QTy, TypeErr> {
+pub(crate) fn num_arg(
+    b: &Builtin,
+    args: &[Option<BoundArg>],
+    i: usize,
+) -> Result<QuantityType, TypeErr> {
     match args.get(i).and_then(|a| a.as_ref()).map(|a| a.ty) {
         Some(Ty::Num(q)) => Ok(q),
         Some(other) => err_at(
@@ -325,11 +329,11 @@ pub(crate) fn num_arg(b: &Builtin, args: &[Option<TArg>], i: usize) -> Result<QT
 /// refused.
 pub(crate) fn want_num(
     b: &Builtin,
-    args: &[Option<TArg>],
+    args: &[Option<BoundArg>],
     i: usize,
     dim: Dim,
     absolute: bool,
-) -> Result<Option<QTy>, TypeErr> {
+) -> Result<Option<QuantityType>, TypeErr> {
     let Some(a) = &args[i] else { return Ok(None) };
     let pname = b.param_name(i);
     match a.ty {
@@ -352,7 +356,7 @@ pub(crate) fn want_num(
             format!(
                 "`{pname}` of `{}` must be {}, got {}",
                 b.name,
-                describe_qty(QTy::neutral(dim)),
+                describe_qty(QuantityType::neutral(dim)),
                 other.describe()
             ),
         ),
@@ -361,7 +365,7 @@ pub(crate) fn want_num(
 
 pub(crate) fn want_dimensionless(
     b: &Builtin,
-    args: &[Option<TArg>],
+    args: &[Option<BoundArg>],
     i: usize,
 ) -> Result<(), TypeErr> {
     want_num(b, args, i, Dim::NONE, false).map(|_| ())
@@ -370,7 +374,7 @@ pub(crate) fn want_dimensionless(
 /// Expect argument `i` (if given) to be a state; its model.
 pub(crate) fn want_state(
     b: &Builtin,
-    args: &[Option<TArg>],
+    args: &[Option<BoundArg>],
     i: usize,
 ) -> Result<Option<ModelKind>, TypeErr> {
     let Some(a) = &args[i] else { return Ok(None) };
@@ -392,11 +396,11 @@ pub(crate) fn want_state(
 /// Argument `i` must be a string literal; its text.
 pub(crate) fn string_literal(
     b: &Builtin,
-    args: &[Option<TArg>],
+    args: &[Option<BoundArg>],
     i: usize,
 ) -> Result<String, TypeErr> {
     match &args[i] {
-        Some(TArg {
+        Some(BoundArg {
             literal: Some(s), ..
         }) => Ok(s.clone()),
         _ => err_at(
@@ -407,7 +411,7 @@ pub(crate) fn string_literal(
 }
 
 /// `ty` unless an argument was erroneous.
-pub(crate) fn unless_error(args: &[Option<TArg>], ty: Ty) -> Ty {
+pub(crate) fn unless_error(args: &[Option<BoundArg>], ty: Ty) -> Ty {
     if any_error(args) { Ty::Error } else { ty }
 }
 

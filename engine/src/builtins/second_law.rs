@@ -78,7 +78,7 @@ pub static DS_IDEAL_GAS: Builtin = Builtin {
 /// model; `flow` adds the optional speed and height.
 fn exergy_typing(
     b: &Builtin,
-    args: &[Option<super::TArg>],
+    args: &[Option<super::BoundArg>],
     flow: bool,
 ) -> Result<Ty, super::TypeErr> {
     let a = want_state(b, args, 0)?;

@@ -143,7 +143,7 @@ pub(super) fn write(l: &mut SheetLayout) -> XResult<Worksheet> {
         cover.write_string_with_format(cr, 0, &c.text, &st.label_wrap)?;
         let desc = c.description.clone().unwrap_or_default();
         cover.write_string_with_format(cr, 1, &desc, &wrap)?;
-        let ops: Vec<Option<super::formula::Ex>> = match &l.plan[c.node] {
+        let ops: Vec<Option<super::formula::Fragment>> = match &l.plan[c.node] {
             Some(NodeRows::Check(_, ops)) => ops.clone(),
             _ => Vec::new(),
         };

@@ -33,7 +33,7 @@ const P_ATOM: u8 = 6;
 
 /// A formula fragment with its precedence.
 #[derive(Clone, Debug, PartialEq)]
-pub struct Ex {
+pub struct Fragment {
     pub text: String,
     prec: u8,
 }
@@ -65,23 +65,23 @@ pub fn number_text(x: f64) -> String {
     }
 }
 
-impl Ex {
-    pub fn name(s: impl Into<String>) -> Ex {
-        Ex {
+impl Fragment {
+    pub fn name(s: impl Into<String>) -> Fragment {
+        Fragment {
             text: s.into(),
             prec: P_ATOM,
         }
     }
 
-    pub fn num(x: f64) -> Ex {
+    pub fn num(x: f64) -> Fragment {
         let text = number_text(x);
         let prec = if text.starts_with('-') { P_NEG } else { P_ATOM };
-        Ex { text, prec }
+        Fragment { text, prec }
     }
 
-    fn call(f: &str, args: &[Ex]) -> Ex {
+    fn call(f: &str, args: &[Fragment]) -> Fragment {
         let inner: Vec<&str> = args.iter().map(|a| a.text.as_str()).collect();
-        Ex {
+        Fragment {
             text: format!("{f}({})", inner.join(",")),
             prec: P_ATOM,
         }
@@ -96,14 +96,14 @@ impl Ex {
         }
     }
 
-    fn neg(a: &Ex) -> Ex {
-        Ex {
+    fn neg(a: &Fragment) -> Fragment {
+        Fragment {
             text: format!("-{}", a.at(P_ATOM)),
             prec: P_NEG,
         }
     }
 
-    fn bin(a: &Ex, op: &str, b: &Ex) -> Ex {
+    fn bin(a: &Fragment, op: &str, b: &Fragment) -> Fragment {
         let prec = match op {
             "+" | "-" => P_ADD,
             "*" | "/" => P_MUL,
@@ -122,40 +122,40 @@ impl Ex {
         } else {
             a.at(prec)
         };
-        Ex {
+        Fragment {
             text: format!("{left}{op}{right}"),
             prec,
         }
     }
 
-    fn pow(a: &Ex, b: &Ex) -> Ex {
-        Ex {
+    fn pow(a: &Fragment, b: &Fragment) -> Fragment {
+        Fragment {
             text: format!("{}^{}", a.at(P_ATOM), b.at(P_ATOM)),
             prec: P_ATOM - 1,
         }
     }
 }
 
-fn add(a: &Ex, b: &Ex) -> Ex {
-    Ex::bin(a, "+", b)
+fn add(a: &Fragment, b: &Fragment) -> Fragment {
+    Fragment::bin(a, "+", b)
 }
-fn sub(a: &Ex, b: &Ex) -> Ex {
-    Ex::bin(a, "-", b)
+fn sub(a: &Fragment, b: &Fragment) -> Fragment {
+    Fragment::bin(a, "-", b)
 }
-fn mul(a: &Ex, b: &Ex) -> Ex {
-    Ex::bin(a, "*", b)
+fn mul(a: &Fragment, b: &Fragment) -> Fragment {
+    Fragment::bin(a, "*", b)
 }
-fn div(a: &Ex, b: &Ex) -> Ex {
-    Ex::bin(a, "/", b)
+fn div(a: &Fragment, b: &Fragment) -> Fragment {
+    Fragment::bin(a, "/", b)
 }
-fn n(x: f64) -> Ex {
-    Ex::num(x)
+fn n(x: f64) -> Fragment {
+    Fragment::num(x)
 }
-fn ln(a: &Ex) -> Ex {
-    Ex::call("LN", std::slice::from_ref(a))
+fn ln(a: &Fragment) -> Fragment {
+    Fragment::call("LN", std::slice::from_ref(a))
 }
-fn exp(a: &Ex) -> Ex {
-    Ex::call("EXP", std::slice::from_ref(a))
+fn exp(a: &Fragment) -> Fragment {
+    Fragment::call("EXP", std::slice::from_ref(a))
 }
 /// A comparison operator in spreadsheet notation.
 fn cmp_symbol(op: CompareOp) -> &'static str {
@@ -170,20 +170,20 @@ fn cmp_symbol(op: CompareOp) -> &'static str {
 }
 
 /// Speed of sound of a gas, sqrt(cp/cv R T) (engine: same operation order).
-fn gas_w(cp: &Ex, cv: &Ex, r: &Ex, t: &Ex) -> Ex {
-    Ex::call("SQRT", &[mul(&mul(&div(cp, cv), r), t)])
+fn gas_w(cp: &Fragment, cv: &Fragment, r: &Fragment, t: &Fragment) -> Fragment {
+    Fragment::call("SQRT", &[mul(&mul(&div(cp, cv), r), t)])
 }
 
 /// A substance as formulas of its parameters.
 #[derive(Clone, Debug, PartialEq)]
 pub enum SubSym {
     Perfect {
-        r: Ex,
-        cp: Ex,
+        r: Fragment,
+        cp: Fragment,
     },
     Incompressible {
-        c: Ex,
-        rho: Ex,
+        c: Fragment,
+        rho: Fragment,
     },
     /// Ideal gas by canonical name: its polynomial data is on the data sheet.
     Ideal(String),
@@ -197,7 +197,7 @@ pub enum StateSrc {
     /// Fields are cells of the node of that name.
     Node(String),
     /// Fields computed from temperature and pressure formulas.
-    Inline { t: Ex, p: Ex },
+    Inline { t: Fragment, p: Fragment },
 }
 
 #[derive(Clone, Debug)]
@@ -210,8 +210,8 @@ pub struct StateRef {
 #[derive(Clone, Debug)]
 pub struct StateDef {
     pub sub: SubSym,
-    pub t: Ex,
-    pub p: Ex,
+    pub t: Fragment,
+    pub p: Fragment,
 }
 
 /// Name of the ideal-gas data cells.
@@ -245,39 +245,39 @@ impl Env<'_> {
     }
 
     /// A number-valued expression.
-    pub fn num(&self, code: &Code) -> Option<Ex> {
+    pub fn num(&self, code: &Code) -> Option<Fragment> {
         Some(match code {
             Code::Const(x) => n(*x),
             Code::Slot(i) => {
                 if !(self.is_number)(*i) {
                     return None;
                 }
-                Ex::name(names::name_of(
+                Fragment::name(names::name_of(
                     names::NameKind::Quantity,
                     self.node_name(*i)?,
                 ))
             }
-            Code::Neg(a) => Ex::neg(&self.num(a)?),
+            Code::Neg(a) => Fragment::neg(&self.num(a)?),
             Code::Add(a, b) => add(&self.num(a)?, &self.num(b)?),
             Code::Sub(a, b) | Code::StateDiff(a, b, _) => sub(&self.num(a)?, &self.num(b)?),
             Code::Mul(a, b) => mul(&self.num(a)?, &self.num(b)?),
             Code::Div(a, b, _) => div(&self.num(a)?, &self.num(b)?),
-            Code::Pow(a, b, _) => Ex::pow(&self.num(a)?, &self.num(b)?),
-            Code::Cmp(op, a, b) => Ex::bin(&self.num(a)?, cmp_symbol(*op), &self.num(b)?),
+            Code::Pow(a, b, _) => Fragment::pow(&self.num(a)?, &self.num(b)?),
+            Code::Cmp(op, a, b) => Fragment::bin(&self.num(a)?, cmp_symbol(*op), &self.num(b)?),
             Code::Chain(first, rest) => {
                 let mut parts = Vec::with_capacity(rest.len());
                 let mut x = self.num(first)?;
                 for (op, c) in rest {
                     let y = self.num(c)?;
-                    parts.push(Ex::bin(&x, cmp_symbol(*op), &y));
+                    parts.push(Fragment::bin(&x, cmp_symbol(*op), &y));
                     x = y;
                 }
-                Ex::call("AND", &parts)
+                Fragment::call("AND", &parts)
             }
-            Code::And(a, b) => Ex::call("AND", &[self.num(a)?, self.num(b)?]),
-            Code::Or(a, b) => Ex::call("OR", &[self.num(a)?, self.num(b)?]),
-            Code::Not(a) => Ex::call("NOT", &[self.num(a)?]),
-            Code::If(c, a, b) => Ex::call("IF", &[self.num(c)?, self.num(a)?, self.num(b)?]),
+            Code::And(a, b) => Fragment::call("AND", &[self.num(a)?, self.num(b)?]),
+            Code::Or(a, b) => Fragment::call("OR", &[self.num(a)?, self.num(b)?]),
+            Code::Not(a) => Fragment::call("NOT", &[self.num(a)?]),
+            Code::If(c, a, b) => Fragment::call("IF", &[self.num(c)?, self.num(a)?, self.num(b)?]),
             Code::Field(base, f, _) => self.field(base, *f)?,
             Code::Call(b, args, _) => self.call(b, args)?,
             Code::Str(_) | Code::Absent | Code::Phase(..) => return None,
@@ -285,14 +285,17 @@ impl Env<'_> {
     }
 
     /// A field of a state or substance expression.
-    fn field(&self, base: &Code, f: Field) -> Option<Ex> {
+    fn field(&self, base: &Code, f: Field) -> Option<Fragment> {
         if let Code::Slot(i) = base
             && (self.is_state)(*i)
         {
             if !(self.has_field)(*i, f) {
                 return None;
             }
-            return Some(Ex::name(names::field_name(self.node_name(*i)?, f.name())));
+            return Some(Fragment::name(names::field_name(
+                self.node_name(*i)?,
+                f.name(),
+            )));
         }
         if let Some(sub) = self.substance(base) {
             return substance_field(&sub, f);
@@ -302,11 +305,11 @@ impl Env<'_> {
     }
 
     /// A number-valued call, by the built-in's spreadsheet form.
-    fn call(&self, b: &Builtin, args: &[Code]) -> Option<Ex> {
+    fn call(&self, b: &Builtin, args: &[Code]) -> Option<Fragment> {
         match b.sheet {
             Sheet::Function(name) => {
-                let xs: Option<Vec<Ex>> = args.iter().map(|c| self.num(c)).collect();
-                Some(Ex::call(name, &xs?))
+                let xs: Option<Vec<Fragment>> = args.iter().map(|c| self.num(c)).collect();
+                Some(Fragment::call(name, &xs?))
             }
             Sheet::Rule(rule) => self.rule(rule, args),
             Sheet::EngineOnly => None,
@@ -315,25 +318,25 @@ impl Env<'_> {
 
     /// A number-valued call compiled by a formula rule. Rules of
     /// substance- and state-valued built-ins give no number.
-    fn rule(&self, rule: Rule, args: &[Code]) -> Option<Ex> {
+    fn rule(&self, rule: Rule, args: &[Code]) -> Option<Fragment> {
         let a = |i: usize| args.get(i).and_then(|c| self.num(c));
-        let f1 = |name: &str| -> Option<Ex> { Some(Ex::call(name, &[a(0)?])) };
+        let f1 = |name: &str| -> Option<Fragment> { Some(Fragment::call(name, &[a(0)?])) };
         Some(match rule {
             // Spreadsheets take ATAN2(x, y); the engine atan2(y, x).
-            Rule::Atan2 => Ex::call("ATAN2", &[a(1)?, a(0)?]),
+            Rule::Atan2 => Fragment::call("ATAN2", &[a(1)?, a(0)?]),
             Rule::Min | Rule::Max => {
-                let xs: Option<Vec<Ex>> = args.iter().map(|c| self.num(c)).collect();
-                Ex::call(if rule == Rule::Min { "MIN" } else { "MAX" }, &xs?)
+                let xs: Option<Vec<Fragment>> = args.iter().map(|c| self.num(c)).collect();
+                Fragment::call(if rule == Rule::Min { "MIN" } else { "MAX" }, &xs?)
             }
             Rule::Floor => f1("INT")?,
-            Rule::Ceil => Ex::neg(&Ex::call("INT", &[Ex::neg(&a(0)?)])),
+            Rule::Ceil => Fragment::neg(&Fragment::call("INT", &[Fragment::neg(&a(0)?)])),
             // Halves away from zero, like the engine (ROUND differs at
             // binary fractions close to a half).
             Rule::Round => {
                 let x = a(0)?;
                 mul(
-                    &Ex::call("SIGN", std::slice::from_ref(&x)),
-                    &Ex::call("INT", &[add(&Ex::call("ABS", &[x]), &n(0.5))]),
+                    &Fragment::call("SIGN", std::slice::from_ref(&x)),
+                    &Fragment::call("INT", &[add(&Fragment::call("ABS", &[x]), &n(0.5))]),
                 )
             }
             Rule::DsIncompressible => mul(&a(0)?, &ln(&div(&a(2)?, &a(1)?))),
@@ -373,7 +376,7 @@ impl Env<'_> {
                         add(&mul(&v, &v), &dh)
                     }
                 };
-                Ex::call("SQRT", &[inner])
+                Fragment::call("SQRT", &[inner])
             }
             Rule::FlowExergy | Rule::ClosedExergy => {
                 let st = self.state(args.first()?)?;
@@ -568,15 +571,15 @@ impl Env<'_> {
     }
 
     /// A field of a state reference.
-    pub fn state_field(&self, st: &StateRef, f: Field) -> Option<Ex> {
+    pub fn state_field(&self, st: &StateRef, f: Field) -> Option<Fragment> {
         match &st.src {
-            StateSrc::Node(name) => Some(Ex::name(names::field_name(name, f.name()))),
+            StateSrc::Node(name) => Some(Fragment::name(names::field_name(name, f.name()))),
             StateSrc::Inline { t, p } => field_formula(&st.sub, f, &Own::Inline(t, p)),
         }
     }
 }
 
-fn sub_(a: &Ex, b: &Ex) -> Ex {
+fn sub_(a: &Fragment, b: &Fragment) -> Fragment {
     sub(a, b)
 }
 
@@ -585,12 +588,12 @@ pub enum Own<'a> {
     /// Cells of the node of that name.
     Node(&'a str),
     /// Formulas for T and p.
-    Inline(&'a Ex, &'a Ex),
+    Inline(&'a Fragment, &'a Fragment),
 }
 
-fn dep(sub: &SubSym, f: Field, own: &Own) -> Option<Ex> {
+fn dep(sub: &SubSym, f: Field, own: &Own) -> Option<Fragment> {
     match own {
-        Own::Node(name) => Some(Ex::name(names::field_name(name, f.name()))),
+        Own::Node(name) => Some(Fragment::name(names::field_name(name, f.name()))),
         Own::Inline(t, p) => match f {
             Field::T => Some((*t).clone()),
             Field::P => Some((*p).clone()),
@@ -601,7 +604,7 @@ fn dep(sub: &SubSym, f: Field, own: &Own) -> Option<Ex> {
 
 /// T from (p, h), closed forms only (engine: perfect_gas.rs and
 /// incompressible.rs).
-fn t_from_ph(sub: &SubSym, p: &Ex, h: &Ex) -> Option<Ex> {
+fn t_from_ph(sub: &SubSym, p: &Fragment, h: &Fragment) -> Option<Fragment> {
     match sub {
         SubSym::Perfect { cp, .. } => Some(add(&n(T_REF), &div(h, cp))),
         SubSym::Incompressible { c, rho } => Some(add(
@@ -613,7 +616,7 @@ fn t_from_ph(sub: &SubSym, p: &Ex, h: &Ex) -> Option<Ex> {
 }
 
 /// T from (p, s), closed forms only.
-fn t_from_ps(sub: &SubSym, p: &Ex, s: &Ex) -> Option<Ex> {
+fn t_from_ps(sub: &SubSym, p: &Fragment, s: &Fragment) -> Option<Fragment> {
     match sub {
         SubSym::Perfect { r, cp } => Some(mul(
             &n(T_REF),
@@ -625,7 +628,7 @@ fn t_from_ps(sub: &SubSym, p: &Ex, s: &Ex) -> Option<Ex> {
 }
 
 /// A field of a substance value (`gas.cp`, `liquid.rho`).
-pub fn substance_field(sub: &SubSym, f: Field) -> Option<Ex> {
+pub fn substance_field(sub: &SubSym, f: Field) -> Option<Fragment> {
     match (sub, f) {
         (SubSym::Perfect { cp, .. }, Field::Cp) => Some(cp.clone()),
         (SubSym::Perfect { cp, r }, Field::Cv) => Some(sub_(cp, r)),
@@ -635,16 +638,16 @@ pub fn substance_field(sub: &SubSym, f: Field) -> Option<Ex> {
         (SubSym::Incompressible { rho, .. }, Field::V) => Some(div(&n(1.0), rho)),
         (SubSym::Perfect { r, .. }, Field::R) => Some(r.clone()),
         (SubSym::Perfect { r, .. }, Field::M) => Some(div(&n(R_U), r)),
-        (SubSym::Ideal(gas), Field::R) => Some(Ex::name(gas_r_name(gas))),
-        (SubSym::Ideal(gas), Field::M) => Some(div(&n(R_U), &Ex::name(gas_r_name(gas)))),
+        (SubSym::Ideal(gas), Field::R) => Some(Fragment::name(gas_r_name(gas))),
+        (SubSym::Ideal(gas), Field::M) => Some(div(&n(R_U), &Fragment::name(gas_r_name(gas)))),
         _ => None,
     }
 }
 
 /// Polynomial of the NASA 7-coefficient fit in one range (engine:
 /// ideal_gas.rs `cp_over_r`, `h_over_r`, `s_over_r`, same operation order).
-fn nasa(gas: &str, high: bool, f: Field, t: &Ex) -> Ex {
-    let a = |k: usize| Ex::name(gas_coef_name(gas, high, k));
+fn nasa(gas: &str, high: bool, f: Field, t: &Fragment) -> Fragment {
+    let a = |k: usize| Fragment::name(gas_coef_name(gas, high, k));
     match f {
         Field::Cp => add(
             &a(1),
@@ -703,11 +706,11 @@ fn nasa(gas: &str, high: bool, f: Field, t: &Ex) -> Ex {
     }
 }
 
-fn nasa_branch(gas: &str, f: Field, t: &Ex) -> Ex {
-    Ex::call(
+fn nasa_branch(gas: &str, f: Field, t: &Fragment) -> Fragment {
+    Fragment::call(
         "IF",
         &[
-            Ex::bin(t, "<", &n(T_MID)),
+            Fragment::bin(t, "<", &n(T_MID)),
             nasa(gas, false, f, t),
             nasa(gas, true, f, t),
         ],
@@ -717,7 +720,7 @@ fn nasa_branch(gas: &str, f: Field, t: &Ex) -> Ex {
 /// Formula of a field other than T and p of a state of `sub`, from the
 /// state's T and p (and its other fields through `own`). Engine: the
 /// `state_tp` functions of the models, same operation order.
-pub fn field_formula(sub: &SubSym, f: Field, own: &Own) -> Option<Ex> {
+pub fn field_formula(sub: &SubSym, f: Field, own: &Own) -> Option<Fragment> {
     let d = |g: Field| dep(sub, g, own);
     let t_ref = n(T_REF);
     match sub {
@@ -752,13 +755,13 @@ pub fn field_formula(sub: &SubSym, f: Field, own: &Own) -> Option<Ex> {
             Field::X | Field::W | Field::M | Field::R => return None,
         }),
         SubSym::Ideal(gas) => {
-            let r = Ex::name(gas_r_name(gas));
+            let r = Fragment::name(gas_r_name(gas));
             Some(match f {
                 Field::T | Field::P => d(f)?,
                 Field::Cp => mul(&r, &nasa_branch(gas, Field::Cp, &d(Field::T)?)),
                 Field::H => sub_(
                     &mul(&r, &nasa_branch(gas, Field::H, &d(Field::T)?)),
-                    &Ex::name(gas_hoff_name(gas)),
+                    &Fragment::name(gas_hoff_name(gas)),
                 ),
                 Field::S => mul(
                     &r,
@@ -784,8 +787,8 @@ pub fn field_formula(sub: &SubSym, f: Field, own: &Own) -> Option<Ex> {
 mod tests {
     use super::*;
 
-    fn nm(s: &str) -> Ex {
-        Ex::name(s)
+    fn nm(s: &str) -> Fragment {
+        Fragment::name(s)
     }
 
     #[test]
@@ -822,13 +825,13 @@ mod tests {
         assert_eq!(div(&a, &mul(&b, &c)).text, "a/(b*c)");
         assert_eq!(mul(&add(&a, &b), &c).text, "(a+b)*c");
         // Spreadsheets read -a^2 as (-a)^2: the engine's -(a^2) is explicit.
-        assert_eq!(Ex::neg(&Ex::pow(&a, &n(2.0))).text, "-(a^2)");
-        assert_eq!(Ex::pow(&Ex::neg(&a), &n(2.0)).text, "(-a)^2");
+        assert_eq!(Fragment::neg(&Fragment::pow(&a, &n(2.0))).text, "-(a^2)");
+        assert_eq!(Fragment::pow(&Fragment::neg(&a), &n(2.0)).text, "(-a)^2");
         // ^ is left-associative in spreadsheets: a^(b^c) stays explicit.
-        assert_eq!(Ex::pow(&a, &Ex::pow(&b, &c)).text, "a^(b^c)");
-        assert_eq!(Ex::pow(&n(-2.0), &n(2.0)).text, "(-2)^2");
+        assert_eq!(Fragment::pow(&a, &Fragment::pow(&b, &c)).text, "a^(b^c)");
+        assert_eq!(Fragment::pow(&n(-2.0), &n(2.0)).text, "(-2)^2");
         assert_eq!(mul(&a, &n(-3.0)).text, "a*(-3)");
-        assert_eq!(Ex::bin(&add(&a, &b), "<=", &c).text, "a+b<=c");
+        assert_eq!(Fragment::bin(&add(&a, &b), "<=", &c).text, "a+b<=c");
     }
 
     fn env_none<'a>(names: &'a [Option<String>]) -> Env<'a> {

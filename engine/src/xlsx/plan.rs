@@ -5,7 +5,7 @@
 
 use std::collections::BTreeSet;
 
-use super::formula::{self, Env, Ex, Own, SubSym};
+use super::formula::{self, Env, Fragment, Own, SubSym};
 use super::names::{self, NameKind};
 use crate::check::{DisplayUnit, NodeKind};
 use crate::eval::{Code, Value};
@@ -21,7 +21,7 @@ pub(super) enum Basis {
     /// An input: SI from the editable cell.
     Input,
     /// A live formula.
-    Live(Ex),
+    Live(Fragment),
     /// The engine's value (no closed form).
     Engine,
 }
@@ -49,7 +49,7 @@ pub(super) enum NodeRows {
         fields: Vec<Row>,
     },
     /// The comparison, and each operand (SI), compiled when closed form.
-    Check(Option<Ex>, Vec<Option<Ex>>),
+    Check(Option<Fragment>, Vec<Option<Fragment>>),
     Text(String),
 }
 
@@ -117,7 +117,7 @@ pub(super) fn plan(model: &Model) -> Vec<Option<NodeRows>> {
                 for f in Field::ALL {
                     let Some(x) = sv.st.get(f) else { continue };
                     let basis = if let Some(a) = &alias {
-                        Basis::Live(Ex::name(names::field_name(a, f.name())))
+                        Basis::Live(Fragment::name(names::field_name(a, f.name())))
                     } else {
                         let e = def.as_ref().and_then(|d| match f {
                             Field::T => Some(d.t.clone()),
@@ -149,14 +149,16 @@ pub(super) fn plan(model: &Model) -> Vec<Option<NodeRows>> {
                 let sym = env.substance(&node.code);
                 let mut fields = Vec::new();
                 for (fname, dim, x, words) in substance_fields(s) {
-                    let own = |f: &str| Ex::name(names::field_name(&name, f));
+                    let own = |f: &str| Fragment::name(names::field_name(&name, f));
                     let e = match (&sym, fname) {
                         (Some(SubSym::Perfect { r, .. }), "R") => Some(r.clone()),
                         (Some(SubSym::Perfect { cp, .. }), "cp") => Some(cp.clone()),
-                        (Some(SubSym::Perfect { .. }), "cv") => {
-                            Some(Ex::name(format!("{}-{}", own("cp").text, own("R").text)))
-                        }
-                        (Some(SubSym::Perfect { .. }), "k") => Some(Ex::name(format!(
+                        (Some(SubSym::Perfect { .. }), "cv") => Some(Fragment::name(format!(
+                            "{}-{}",
+                            own("cp").text,
+                            own("R").text
+                        ))),
+                        (Some(SubSym::Perfect { .. }), "k") => Some(Fragment::name(format!(
                             "{}/({}-{})",
                             own("cp").text,
                             own("cp").text,
@@ -164,7 +166,7 @@ pub(super) fn plan(model: &Model) -> Vec<Option<NodeRows>> {
                         ))),
                         (Some(SubSym::Incompressible { c, .. }), "cp" | "cv") => Some(c.clone()),
                         (Some(SubSym::Incompressible { rho, .. }), "rho") => Some(rho.clone()),
-                        (Some(SubSym::Ideal(_)), "R") => Some(Ex::num(x)),
+                        (Some(SubSym::Ideal(_)), "R") => Some(Fragment::num(x)),
                         _ => None,
                     };
                     let (symbol, description) = if crate::report::is_substance_field(fname) {
@@ -188,12 +190,12 @@ pub(super) fn plan(model: &Model) -> Vec<Option<NodeRows>> {
                 }
                 env.subs[i] = match sym {
                     Some(SubSym::Perfect { .. }) => Some(SubSym::Perfect {
-                        r: Ex::name(names::field_name(&name, "R")),
-                        cp: Ex::name(names::field_name(&name, "cp")),
+                        r: Fragment::name(names::field_name(&name, "R")),
+                        cp: Fragment::name(names::field_name(&name, "cp")),
                     }),
                     Some(SubSym::Incompressible { .. }) => Some(SubSym::Incompressible {
-                        c: Ex::name(names::field_name(&name, "cp")),
-                        rho: Ex::name(names::field_name(&name, "rho")),
+                        c: Fragment::name(names::field_name(&name, "cp")),
+                        rho: Fragment::name(names::field_name(&name, "rho")),
                     }),
                     other => other,
                 };
