@@ -403,6 +403,7 @@ pub fn check_with(
         operands: None,
         warnings: Vec::new(),
         input_nodes: nodes.iter().map(|n| n.kind == NodeKind::Input).collect(),
+        input_consts: vec![None; nodes.len()],
         unit_cache: HashMap::default(),
         externals,
         gauge: gauge.si,
@@ -428,6 +429,9 @@ pub fn check_with(
                 let (display, written) =
                     cx.display_unit(ty, value, unit, node_kind == NodeKind::Input);
                 cx.displays[i] = written;
+                if node_kind == NodeKind::Input {
+                    cx.input_consts[i] = const_value(&code);
+                }
                 (ty, code, display)
             }
         };
@@ -1279,6 +1283,8 @@ struct Checker<'a> {
     warnings: Vec<Diagnostic>,
     /// Which nodes are inputs.
     input_nodes: Vec<bool>,
+    /// The SI value of each input checked so far, when it is a constant.
+    input_consts: Vec<Option<f64>>,
     /// Units resolved so far, by their text (worksheets repeat a few units).
     unit_cache: HashMap<&'a str, Unit>,
     /// Values read by the caller for `cell()` calls.
@@ -1521,6 +1527,7 @@ impl Checker<'_> {
                 }
                 match affinity(op, lq.aff, rq.aff) {
                     Ok(aff) => {
+                        self.kelvin_reading_as_difference(op, (l, lq, &lc), (r, rq, &rc));
                         let ty = Ty::Num(QuantityType { dim: lq.dim, aff });
                         let energy_of_states = |c: &Code| {
                             matches!(c, Code::Field(_, Field::H | Field::S | Field::U, _))
@@ -1831,6 +1838,63 @@ impl Checker<'_> {
             }),
             _ => false,
         }
+    }
+
+    /// The rule for a neutral kelvin value taken as a difference (README,
+    /// "Absolute values and differences"): in `A + B`, `B + A` and `A - B`
+    /// with `A` an absolute temperature (degC, degF, a state's T), a
+    /// temperature `B` written in K or degR has no kind of its own and is
+    /// read as a difference. When `B` is a constant (a literal or an input)
+    /// of 200 K or more, it is far more likely a reading typed in kelvin
+    /// (`20 degC + 300 K` gives 320 degC): warn, located on `B`.
+    fn kelvin_reading_as_difference(
+        &mut self,
+        op: BinOp,
+        (l, lq, lc): (&Expr, QuantityType, &Code),
+        (r, rq, rc): (&Expr, QuantityType, &Code),
+    ) {
+        if lq.dim != Dim::TEMPERATURE {
+            return;
+        }
+        let taken = match (op, lq.aff, rq.aff) {
+            (BinOp::Add | BinOp::Sub, Affinity::Absolute, Affinity::Neutral) => (r, rc),
+            (BinOp::Add, Affinity::Neutral, Affinity::Absolute) => (l, lc),
+            _ => return,
+        };
+        let (e, code) = taken;
+        let value = match &inner(e).kind {
+            ExprKind::Name(n) => self
+                .names
+                .get(n)
+                .and_then(|&i| self.input_consts.get(i).copied().flatten()),
+            _ => const_value(code),
+        };
+        let Some(kelvin) = value else { return };
+        if kelvin.abs() < KELVIN_READING_THRESHOLD {
+            return;
+        }
+        let what = match &inner(e).kind {
+            ExprKind::Name(n) => format!("`{n}` ({} K)", crate::units::format_sig(kelvin, 6)),
+            _ => format!("{} K", crate::units::format_sig(kelvin, 6)),
+        };
+        let verb = if op == BinOp::Add {
+            "added to"
+        } else {
+            "subtracted from"
+        };
+        self.warnings.push(
+            Diagnostic::warning(
+                format!(
+                    "{what} is {verb} an absolute temperature, so it is taken as a temperature \
+                     difference; a kelvin value this large is usually a reading"
+                ),
+                e.span,
+            )
+            .with_note(
+                "help: for a reading, subtract the two temperatures to get a difference; \
+                 for a difference, write it in degC_diff to say so",
+            ),
+        );
     }
 
     /// A factor that is a specific heat: a `.cp` / `.cv` field, or an
@@ -2223,6 +2287,13 @@ pub fn field_type(f: Field) -> Ty {
     }
 }
 
+/// A neutral kelvin value at or above this, taken as a difference next to an
+/// absolute temperature, gets a warning (see
+/// `Checker::kelvin_reading_as_difference`). Temperature differences in the
+/// devices sheaf rates (approaches, rises, superheat) are mostly well below
+/// 200 K, and readings in kelvin well above it: common practice, not a law.
+const KELVIN_READING_THRESHOLD: f64 = 200.0;
+
 /// Affinity rules for `+` and `-` (DESIGN §3). `{q}` in an error message
 /// stands for the quantity name.
 fn affinity(op: BinOp, a: Affinity, b: Affinity) -> Result<Affinity, &'static str> {
@@ -2417,6 +2488,7 @@ pub fn check_standalone_gauge(
         operands: None,
         warnings: Vec::new(),
         input_nodes: Vec::new(),
+        input_consts: Vec::new(),
         unit_cache: HashMap::default(),
         externals: &Externals::default(),
         gauge,

@@ -291,3 +291,34 @@ fn a_celsius_reading_times_a_specific_heat_warns() {
     // The value itself is the kelvin product: 4180 J/(kg K) x 353.15 K.
     assert!(close(m.number("q").unwrap(), 4180.0 * 353.15, 1e-12));
 }
+
+#[test]
+fn a_kelvin_reading_taken_as_a_difference_warns() {
+    // Hardening item: `20 degC + 300 K` with 300 K a gas temperature is read
+    // as 320 degC (a neutral kelvin value next to an absolute one is a
+    // difference). The rule: a constant of 200 K or more taken as a
+    // difference warns, located on it; small kelvin differences, degC_diff
+    // and kelvin readings subtracted from each other stay quiet.
+    let src = "input T_gas = 300 K \"gas temperature\"\ninput T1 = 20 degC\n\
+               input dT = 15 K\nT2 = T1 + T_gas\nT3 = T1 + dT\nT4 = T1 - 250 K\n\
+               T5 = 250 K + T1\nT6 = T1 + 300 degC_diff\nd = T_gas - 280 K\n\
+               T7 = T1 + 150 K\n";
+    let m = run(src);
+    let r = m.report();
+    let ws: Vec<String> = r.warnings.iter().map(|w| w.to_string()).collect();
+    assert_eq!(ws.len(), 3, "{ws:?}");
+    assert!(
+        ws[0].contains("`T2`") && ws[0].contains("`T_gas` (300 K) is added to"),
+        "{ws:?}"
+    );
+    assert!(
+        ws[1].contains("`T4`") && ws[1].contains("250 K is subtracted from"),
+        "{ws:?}"
+    );
+    assert!(
+        ws[2].contains("`T5`") && ws[2].contains("250 K is added to"),
+        "{ws:?}"
+    );
+    // The arithmetic is unchanged: 293.15 K + 300 K.
+    assert!(close(m.number("T2").unwrap(), 593.15, 1e-12));
+}
