@@ -115,12 +115,13 @@ enum Command {
 sheaf run worksheets/air_receiver.sheaf --set 'V_rec=3 m^3' --set 'p_high=9 barg'\n  \
 sheaf run worksheets/air_receiver.sheaf --format json > results.json\n  \
 sheaf run worksheets/plant_air_whatif.sheaf --case hot_day\n  \
-sheaf run worksheets/plant_air_whatif.sheaf --cases\n\n\
+sheaf run worksheets/plant_air_whatif.sheaf --cases\n  \
+generate-worksheet | sheaf run -     (read from standard input; paths resolve against the working directory)\n\n\
 Exit status: 0 all checks pass; 1 errors; 2 usage or file error; 3 a check failed (with --cases: \
 in any case)."
     )]
     Run {
-        /// The worksheet (.sheaf).
+        /// The worksheet (.sheaf), or - for standard input.
         file: PathBuf,
         /// Override an input: NAME=VALUE with a unit, e.g. 'p2=8 barg' (quoted: it has a space). Repeatable.
         #[arg(long = "set", value_name = "NAME=VALUE")]
@@ -272,6 +273,12 @@ watching goes on. The package is replaced atomically. Ctrl-C stops (exit 0)."
 fn main() -> ExitCode {
     let cli = Cli::parse();
     sources::set_allowed(cli.allow.clone());
+    if let Some(what) = stdin_refused(&cli.command) {
+        eprintln!(
+            "error: {what} needs a worksheet file; `-` (standard input) works with run, check, sweep and xlsx -o"
+        );
+        return ExitCode::from(EXIT_USAGE);
+    }
     let code = match cli.command {
         Command::Run {
             file,
@@ -353,7 +360,32 @@ fn main() -> ExitCode {
     ExitCode::from(code)
 }
 
+/// Commands that cannot take the worksheet from standard input (`-`): they
+/// write it back, watch it, compare it with git, or name a package after it.
+fn stdin_refused(command: &Command) -> Option<&'static str> {
+    let dash = |f: &Path| sources::is_stdin(f);
+    match command {
+        Command::Fmt { file, write: true } if dash(file) => Some("fmt --write"),
+        Command::Xlsx {
+            file, out: None, ..
+        } if dash(file) => Some("xlsx without -o"),
+        Command::Watch { file, .. } if dash(file) => Some("watch"),
+        Command::Pull { file, .. } if dash(file) => Some("pull"),
+        Command::Diff { old, .. } if dash(old) => Some("diff"),
+        _ => None,
+    }
+}
+
 fn read(file: &Path) -> Result<String, u8> {
+    if sources::is_stdin(file) {
+        let mut text = String::new();
+        return std::io::Read::read_to_string(&mut std::io::stdin(), &mut text)
+            .map(|_| text)
+            .map_err(|e| {
+                eprintln!("error: cannot read standard input: {e}");
+                EXIT_USAGE
+            });
+    }
     std::fs::read_to_string(file).map_err(|e| {
         eprintln!("error: cannot read {}: {e}", file.display());
         EXIT_USAGE

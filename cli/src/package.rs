@@ -65,6 +65,7 @@ pub fn cmd_xlsx(file: &Path, out: Option<&Path>, sets: &[String], case: Option<&
     let info = PackageInfo {
         source_name: file
             .file_name()
+            .filter(|_| !crate::sources::is_stdin(file))
             .map_or(name.clone(), |n| n.to_string_lossy().into_owned()),
         source_sha256: xlsx::sha256_hex(model.source().as_bytes()),
         tool_version: env!("CARGO_PKG_VERSION").to_string(),

@@ -53,7 +53,11 @@ pub struct Loaded {
 /// worksheet itself could not be read (message).
 pub fn load(file: &Path, rev: &Rev) -> Result<Loaded, String> {
     let source = read_main(file, rev)?;
-    let name = file.display().to_string();
+    let name = if is_stdin(file) {
+        STDIN_NAME.to_string()
+    } else {
+        file.display().to_string()
+    };
     let dir = folder(file);
     let mut files = vec![file.to_path_buf()];
     let real = match rev {
@@ -80,8 +84,40 @@ fn folder(file: &Path) -> PathBuf {
     }
 }
 
+/// The worksheet named `-` on the command line is read from standard
+/// input; the paths it names then resolve against the working directory.
+pub fn is_stdin(file: &Path) -> bool {
+    file.as_os_str() == "-"
+}
+
+/// How a worksheet read from standard input is named in messages.
+pub const STDIN_NAME: &str = "<stdin>";
+
+/// Standard input as text, bounded like a worksheet file.
+fn read_stdin() -> Result<String, String> {
+    use std::io::Read;
+    let mut bytes = Vec::new();
+    std::io::stdin()
+        .lock()
+        .take(MAX_WORKSHEET_BYTES + 1)
+        .read_to_end(&mut bytes)
+        .map_err(|e| format!("cannot read the worksheet from standard input: {e}"))?;
+    if bytes.len() as u64 > MAX_WORKSHEET_BYTES {
+        return Err(format!(
+            "the worksheet on standard input is larger than {} MiB; sheaf reads worksheets up to that size",
+            MAX_WORKSHEET_BYTES >> 20
+        ));
+    }
+    String::from_utf8(bytes)
+        .map_err(|_| "the worksheet on standard input is not UTF-8 text".to_string())
+}
+
 fn read_main(file: &Path, rev: &Rev) -> Result<String, String> {
     match rev {
+        Rev::Work if is_stdin(file) => read_stdin(),
+        Rev::Git(_) if is_stdin(file) => {
+            Err("a worksheet from standard input has no git revision; name the file".to_string())
+        }
         Rev::Work => std::fs::read_to_string(file)
             .map_err(|e| format!("cannot read {}: {e}", file.display())),
         Rev::Git(r) => git_show(file, r),

@@ -279,3 +279,67 @@ fn xlsx_to_stdout_is_only_the_workbook() {
         "no message mixed into the workbook"
     );
 }
+
+fn sheaf_stdin(dir: &Path, args: &[&str], input: &str) -> Output {
+    use std::io::Write;
+    let mut child = Command::new(env!("CARGO_BIN_EXE_sheaf"))
+        .current_dir(dir)
+        .env("NO_COLOR", "1")
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    // A command that refuses `-` exits without reading: a broken pipe here
+    // is expected then.
+    let _ = child.stdin.take().unwrap().write_all(input.as_bytes());
+    child.wait_with_output().unwrap()
+}
+
+#[test]
+fn run_dash_reads_the_worksheet_from_standard_input() {
+    let d = tempfile::tempdir().unwrap();
+    let p = d.path();
+    // A worksheet from standard input: results, exit status of its checks,
+    // diagnostics named <stdin>.
+    let o = sheaf_stdin(p, &["run", "-", "--format", "json"], WS);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let m = v["quantities"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|q| q["name"] == "m")
+        .unwrap();
+    assert_eq!(m["value"].as_f64(), Some(2000.0));
+    let o = sheaf_stdin(p, &["run", "-"], "input V = 2 m^3\ncheck V > 3 m^3\n");
+    assert_eq!(o.status.code(), Some(3), "{}", stderr(&o));
+    let o = sheaf_stdin(p, &["check", "-"], "x = y + 1\n");
+    assert_eq!(o.status.code(), Some(1));
+    assert!(stderr(&o).contains("<stdin>:1:5"), "{}", stderr(&o));
+    // Relative paths resolve against the working directory.
+    fs::create_dir(p.join("basis")).unwrap();
+    fs::write(p.join("basis/site.sheaf"), "input T_amb = 25 degC\n").unwrap();
+    let o = sheaf_stdin(
+        p,
+        &["run", "-", "--format", "json"],
+        "use \"basis/site.sheaf\" as site\nT = site.T_amb + 5 K\n",
+    );
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    assert!(stdout(&o).contains("\"T\""), "{}", stdout(&o));
+    // Commands that write back, watch or name a file after it refuse `-`.
+    for args in [
+        &["fmt", "-", "--write"][..],
+        &["xlsx", "-"],
+        &["watch", "-"],
+        &["diff", "-", "--rev", "HEAD"],
+    ] {
+        let o = sheaf_stdin(p, args, WS);
+        assert_eq!(o.status.code(), Some(2), "{args:?}");
+        assert!(stderr(&o).contains("standard input"), "{}", stderr(&o));
+    }
+    let o = sheaf_stdin(p, &["xlsx", "-", "-o", "pkg.xlsx"], WS);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    assert!(p.join("pkg.xlsx").is_file());
+}
