@@ -27,7 +27,7 @@ pub mod incompressible;
 pub mod perfect_gas;
 pub mod polytropic;
 pub mod process;
-mod text;
+pub(crate) mod text;
 pub mod typed;
 
 use std::fmt;

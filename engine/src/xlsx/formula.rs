@@ -57,12 +57,7 @@ pub fn number_text(x: f64) -> String {
             }
         }
     }
-    let a = y.abs();
-    if a == 0.0 || (1e-4..1e15).contains(&a) {
-        format!("{y}")
-    } else {
-        format!("{y:e}").replace('e', "E")
-    }
+    super::literal_text(y).replace('e', "E")
 }
 
 impl Fragment {
