@@ -1,5 +1,5 @@
 //! `sheaf diff OLD NEW` and `sheaf diff FILE --rev REV`: what changed
-//! between two worksheets, both evaluated (DESIGN §5).
+//! between two worksheets, both evaluated (README "Commands").
 
 use std::collections::{BTreeSet, HashMap};
 use std::io::IsTerminal;

@@ -72,7 +72,7 @@ use clap::{Parser, Subcommand, ValueEnum};
 use serde_json::json;
 use sheaf_engine::{Model, units};
 
-/// Exit statuses (DESIGN §5).
+/// Exit statuses (README "Commands").
 pub(crate) const EXIT_ERRORS: u8 = 1;
 pub(crate) const EXIT_USAGE: u8 = 2;
 pub(crate) const EXIT_CHECK_FAILED: u8 = 3;

@@ -7,10 +7,7 @@ use sheaf_engine::units::format_sig;
 use sheaf_engine::xlsx::{self, PackageInfo};
 
 use crate::diagnostics;
-
-const EXIT_ERRORS: u8 = 1;
-const EXIT_USAGE: u8 = 2;
-const EXIT_CHECK_FAILED: u8 = 3;
+use crate::{EXIT_CHECK_FAILED, EXIT_ERRORS, EXIT_USAGE};
 
 pub const XLSX_HELP: &str = "Examples:\n  sheaf xlsx worksheets/air_receiver.sheaf\n  \
 sheaf xlsx pump.sheaf -o review/pump-rev-B.xlsx\n  sheaf xlsx pump.sheaf --set 'p2=12 barg'\n  \

@@ -455,7 +455,7 @@ fn opt_num(x: Option<f64>) -> Json {
     }
 }
 
-/// The results as json, with the keys DESIGN §5 fixes.
+/// The results as json, with the keys README "Commands" fixes.
 pub fn json(report: &Report) -> Json {
     let quantities: Vec<Json> = report
         .blocks

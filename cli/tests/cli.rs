@@ -38,7 +38,7 @@ fn eval_json_has_the_fixed_keys() {
     let o = sheaf(&["eval", "0 barg", "--format", "json"]);
     assert_eq!(o.status.code(), Some(0));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
-    // Gauge zero is the standard atmosphere, 101 325 Pa (DESIGN §3; 10th CGPM 1954).
+    // Gauge zero is the standard atmosphere, 101 325 Pa (README, units in "A short tour of the language"; 10th CGPM 1954).
     assert_eq!(v["si_value"].as_f64().unwrap(), 101_325.0);
     assert_eq!(v["si_unit"], "Pa");
     assert!(v.get("value").is_some() && v.get("unit").is_some());
@@ -55,7 +55,7 @@ fn eval_temperature_difference_in_kelvin_and_refuses_degc() {
 
 #[test]
 fn check_exits_1_with_a_located_message_on_a_unit_error() {
-    let o = sheaf(&["check", "tests/golden/errors/dimension_mismatch.sheaf"]);
+    let o = sheaf(&["check", "cli/tests/golden/errors/dimension_mismatch.sheaf"]);
     assert_eq!(o.status.code(), Some(1));
     let e = stderr(&o);
     assert!(e.contains("dimension_mismatch.sheaf:4:7"), "{e}");
@@ -112,7 +112,7 @@ fn run_json_keys_are_the_documented_ones() {
     let mut ck: Vec<&str> = c.as_object().unwrap().keys().map(String::as_str).collect();
     ck.sort();
     assert_eq!(ck, ["description", "line", "operands", "passed", "text"]);
-    // Operands (DESIGN §5): every operand of the check's comparisons, each
+    // Operands (README "Commands"): every operand of the check's comparisons, each
     // with its value in the comparison's display unit.
     let ops = c["operands"].as_array().unwrap();
     assert_eq!(ops.len(), 2);

@@ -1,6 +1,6 @@
 //! Golden tests of rendered diagnostics: every error kind the checker and
 //! evaluator report, located (file:line:col) and worded. Each
-//! `tests/golden/errors/NAME.sheaf` has `NAME.stderr` holding the exit
+//! `cli/tests/golden/errors/NAME.sheaf` has `NAME.stderr` holding the exit
 //! status and the exact text `sheaf run` prints on stderr.
 //! Regenerate after an intended change with `UPDATE_GOLDEN=1 cargo test -p sheaf-cli --test golden`
 //! and review the diff.
@@ -9,7 +9,7 @@ use std::path::Path;
 use std::process::Command;
 
 fn golden_dir() -> std::path::PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("../tests/golden/errors")
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/golden/errors")
 }
 
 /// Compare `actual` with the golden file (or rewrite it under
@@ -69,7 +69,7 @@ fn rendered_diagnostics_match_golden_files() {
 #[test]
 fn report_layouts_match_golden_files() {
     let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("..");
-    let dir = root.join("tests/golden/reports");
+    let dir = root.join("cli/tests/golden/reports");
     let mut failures = Vec::new();
     for (sheet, format, ext) in [
         ("worksheets/tank_heatup.sheaf", "text", "txt"),
@@ -78,8 +78,12 @@ fn report_layouts_match_golden_files() {
         ("worksheets/feed_pump.sheaf", "md", "md"),
         ("worksheets/steam_turbine.sheaf", "text", "txt"),
         ("worksheets/steam_turbine.sheaf", "md", "md"),
-        ("tests/golden/reports/state_columns.sheaf", "text", "txt"),
-        ("tests/golden/reports/state_columns.sheaf", "md", "md"),
+        (
+            "cli/tests/golden/reports/state_columns.sheaf",
+            "text",
+            "txt",
+        ),
+        ("cli/tests/golden/reports/state_columns.sheaf", "md", "md"),
     ] {
         let out = Command::new(env!("CARGO_BIN_EXE_sheaf"))
             .current_dir(&root)

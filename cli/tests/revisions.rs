@@ -47,7 +47,7 @@ fn json_of(o: &Output) -> Value {
     serde_json::from_str(&out(o)).unwrap_or_else(|e| panic!("{e}: {}", out(o)))
 }
 
-/// Every category of DESIGN §5's diff json, key by key.
+/// Every category of README "Commands"'s diff json, key by key.
 fn assert_every_category(v: &Value) {
     assert_eq!(
         v["inputs"],

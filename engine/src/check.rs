@@ -462,7 +462,7 @@ pub fn check_with(
 }
 
 /// Check `case`, `sweep` and `find` statements against the checked nodes
-/// (DESIGN §2): a case and a sweep set only inputs, with values of the
+/// (README "A short tour of the language"): a case and a sweep set only inputs, with values of the
 /// input's quantity; a find solves an input for a condition of one
 /// dimension, and the input it solves cannot be set otherwise.
 fn whatif_statements(
@@ -2294,7 +2294,7 @@ pub fn field_type(f: Field) -> Ty {
 /// 200 K, and readings in kelvin well above it: common practice, not a law.
 const KELVIN_READING_THRESHOLD: f64 = 200.0;
 
-/// Affinity rules for `+` and `-` (DESIGN §3). `{q}` in an error message
+/// Affinity rules for `+` and `-` (README, units in "A short tour of the language"). `{q}` in an error message
 /// stands for the quantity name.
 fn affinity(op: BinOp, a: Affinity, b: Affinity) -> Result<Affinity, &'static str> {
     use Affinity::*;

@@ -705,7 +705,7 @@ impl Model {
         })
     }
 
-    /// Display unit of a state field (DESIGN §3): temperatures and
+    /// Display unit of a state field (README, units in "A short tour of the language"): temperatures and
     /// pressures in the units of the inputs that fixed the state (gauge
     /// shown absolute), kJ/kg and kJ/(kg K) for specific energies and
     /// entropies, otherwise coherent SI.
@@ -1025,7 +1025,7 @@ pub fn substance_display(name: &str) -> DisplayUnit {
 }
 
 /// Whether a substance field is one the language offers (`.M`, `.R`;
-/// DESIGN §4); the others are model parameters.
+/// README, substances in "A short tour of the language"); the others are model parameters.
 pub fn is_substance_field(name: &str) -> bool {
     matches!(name, "M" | "R")
 }

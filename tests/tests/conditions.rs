@@ -92,7 +92,7 @@ fn a_check_takes_any_condition() {
         "{:#?}",
         r.checks
     );
-    // Operands of the chain, each with its value (DESIGN §5 "operands").
+    // Operands of the chain, each with its value (README "Commands" "operands").
     let c = &r.checks[0];
     let texts: Vec<&str> = c.operands.iter().map(|o| o.text.as_str()).collect();
     assert_eq!(texts, ["0.88", "x2", "1"]);

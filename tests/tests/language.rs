@@ -25,7 +25,7 @@ fn close(a: f64, b: f64, rel: f64) -> bool {
 
 #[test]
 fn temperature_difference_of_two_celsius_values_is_kelvin() {
-    // DESIGN §3: abs - abs -> difference; 20 degC - 10 degC = 10 K.
+    // README, units in "A short tour of the language": abs - abs -> difference; 20 degC - 10 degC = 10 K.
     let m = run("a = 20 degC\nb = 10 degC\nd : K = a - b\n");
     assert!(close(m.number("d").unwrap(), 10.0, 1e-12));
     let r = m.report();
@@ -81,7 +81,7 @@ fn fahrenheit_and_rankine() {
 
 #[test]
 fn gauge_pressure_is_offset_by_the_standard_atmosphere() {
-    // DESIGN §3: barg = absolute pressure - 101.325 kPa (standard atmosphere, 10th CGPM 1954).
+    // README, units in "A short tour of the language": barg = absolute pressure - 101.325 kPa (standard atmosphere, 10th CGPM 1954).
     let m = run("p = 0 barg\nq = 7.5 barg\nr = 0 psig\n");
     assert!(close(m.number("p").unwrap(), 101_325.0, 1e-15));
     assert!(close(m.number("q").unwrap(), 851_325.0, 1e-15));

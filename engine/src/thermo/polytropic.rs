@@ -201,7 +201,7 @@ mod tests {
         // =>  T2/T1 = (p2/p1)^(R / (cp eta_p)) = (p2/p1)^((k-1)/(k eta_p)),
         // using R/cp = (k-1)/k. Expansion dh = eta_p v dp gives the exponent
         // eta_p (k-1)/k instead. The integrator must reproduce the enthalpy
-        // change to 1e-8 of itself (the brief's requirement).
+        // change to 1e-8 of itself (DEVELOPERS.md, "Efficiencies").
         let sub = Substance::PerfectGas(PerfectGas::from_k(287.0, 1.4).unwrap());
         for (t1, p1, p2, eta) in [
             (300.0, 1e5, 8e5, 0.85),

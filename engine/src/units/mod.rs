@@ -3,7 +3,7 @@
 //! A [`Dim`] is an exponent vector over the SI base quantities. A [`Unit`]
 //! converts a number written in it to coherent SI: `si = value * factor +
 //! offset` (offset is non-zero only for degC, degF and gauge pressures).
-//! [`Affinity`] tracks absolute vs. difference quantities (DESIGN §3).
+//! [`Affinity`] tracks absolute vs. difference quantities (README, units in "A short tour of the language").
 //!
 //! Interface used by the checker and the CLI:
 //! - [`lookup`]: one unit symbol (with SI prefix) -> [`Unit`];

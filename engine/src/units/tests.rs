@@ -180,7 +180,7 @@ fn inch_of_water_is_the_conventional_one() {
         "inH2O conv.",
     );
     // NIST SP 811 (2008) B.8 "inch of water (39.2 °F)" = 2.490 82 E+02 Pa
-    // (value from the brief). The two differ by 0.007 Pa (2.8e-5 relative),
+    // (as NIST prints it). The two differ by 0.007 Pa (2.8e-5 relative),
     // so our inH2O is NOT the 39.2 °F one: it must round to 249.089, not
     // 249.082, at the 6 digits NIST prints for the 39.2 °F entry.
     let f = u("inH2O").factor;
@@ -482,7 +482,7 @@ fn catalogue_round_trip() {
     let n = syms.len();
     syms.dedup();
     assert_eq!(syms.len(), n, "duplicate symbols");
-    // Required units from DESIGN §3 / the brief.
+    // Required units (README, units in "A short tour of the language").
     for s in [
         "m",
         "in",
