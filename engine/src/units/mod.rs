@@ -196,7 +196,7 @@ impl Unit {
 /// (`uom`'s `pressure::atmosphere`, the offset of the gauge rows of the
 /// unit table).
 pub fn standard_atmosphere() -> f64 {
-    lookup("atm").map_or(101_325.0, |u| u.factor)
+    lookup("atm").map_or(crate::thermo::consts::P_ATM, |u| u.factor)
 }
 
 /// A unit that could not be resolved, with where and a suggestion.
