@@ -527,11 +527,7 @@ fn whatif_statements(
         let dim = match (lt, rt) {
             (Ty::Error, _) | (_, Ty::Error) => continue,
             (Ty::Num(a), Ty::Num(b)) if a.dim == b.dim => {
-                if matches!(
-                    (a.aff, b.aff),
-                    (Affinity::Absolute, Affinity::Difference)
-                        | (Affinity::Difference, Affinity::Absolute)
-                ) {
+                if a.kinds_clash(b) {
                     cx.diags.push(
                         Diagnostic::error(
                             "the two sides of `where` mix an absolute value with a difference",
@@ -878,43 +874,26 @@ impl Checker<'_> {
         }
     }
 
-    /// A constant of the quantity `want` (dimension-checked like `--set`).
-    fn constant_of(&mut self, e: &Expr, want: QuantityType, name: &str, what: &str) -> Option<f64> {
-        let (ty, code) = self.expr(e);
-        let got = match ty {
-            Ty::Error => return None,
-            Ty::Num(q) => q,
-            t => {
+    /// `e` as a number: its type and code, or a located error (`what` names
+    /// it in the message).
+    fn number_of(&mut self, e: &Expr, what: &str) -> Option<(QuantityType, Code)> {
+        match self.expr(e) {
+            (Ty::Error, _) => None,
+            (Ty::Num(q), code) => Some((q, code)),
+            (t, _) => {
                 self.diags.push(Diagnostic::error(
                     format!("{what} must be a number, but this is {}", t.describe()),
                     e.span,
                 ));
-                return None;
+                None
             }
-        };
-        let clash = got.dim != want.dim
-            || matches!(
-                (want.aff, got.aff),
-                (Affinity::Absolute, Affinity::Difference)
-                    | (Affinity::Difference, Affinity::Absolute)
-            );
-        if clash {
-            let msg = if want.dim.is_none() && name == "count" {
-                format!(
-                    "{what} must be a plain number, but this is {}",
-                    self.side(e, got)
-                )
-            } else {
-                format!(
-                    "`{name}` is {}, but {what} here is {}",
-                    describe_qty(want),
-                    self.side(e, got)
-                )
-            };
-            self.diags.push(Diagnostic::error(msg, e.span));
-            return None;
         }
-        match const_value(&code) {
+    }
+
+    /// The value of `code` when it is a finite constant, else a located
+    /// error.
+    fn constant_value(&mut self, code: &Code, e: &Expr, what: &str) -> Option<f64> {
+        match const_value(code) {
             Some(v) if v.is_finite() => Some(v),
             _ => {
                 self.diags.push(
@@ -931,21 +910,33 @@ impl Checker<'_> {
         }
     }
 
+    /// A constant of the quantity `want` (dimension-checked like `--set`).
+    fn constant_of(&mut self, e: &Expr, want: QuantityType, name: &str, what: &str) -> Option<f64> {
+        let (got, code) = self.number_of(e, what)?;
+        if !want.accepts(got) {
+            let msg = if want.dim.is_none() && name == "count" {
+                format!(
+                    "{what} must be a plain number, but this is {}",
+                    self.side(e, got)
+                )
+            } else {
+                format!(
+                    "`{name}` is {}, but {what} here is {}",
+                    describe_qty(want),
+                    self.side(e, got)
+                )
+            };
+            self.diags.push(Diagnostic::error(msg, e.span));
+            return None;
+        }
+        self.constant_value(&code, e, what)
+    }
+
     /// The step of a sweep: a constant of the input's dimension, never
     /// absolute (`5 degC` as a step would be 278.15 K).
     fn step_of(&mut self, e: &Expr, want: QuantityType, name: &str) -> Option<f64> {
-        let (ty, code) = self.expr(e);
-        let got = match ty {
-            Ty::Error => return None,
-            Ty::Num(q) => q,
-            t => {
-                self.diags.push(Diagnostic::error(
-                    format!("the step must be a number, but this is {}", t.describe()),
-                    e.span,
-                ));
-                return None;
-            }
-        };
+        let what = "the step";
+        let (got, code) = self.number_of(e, what)?;
         if got.dim != want.dim {
             let msg = format!(
                 "the step of `{name}` must be {}, but this is {}",
@@ -961,20 +952,11 @@ impl Checker<'_> {
                     "the step is a difference, but this is written in an absolute (offset) unit",
                     e.span,
                 )
-                .with_note("help: write a temperature step in K or delta_degC, a pressure step in bar or kPa"),
+                .with_note("help: write a temperature step in K or degC_diff, a pressure step in bar or kPa"),
             );
             return None;
         }
-        match const_value(&code) {
-            Some(v) if v.is_finite() => Some(v),
-            _ => {
-                self.diags.push(Diagnostic::error(
-                    "the step must be a constant (a number with its unit)",
-                    e.span,
-                ));
-                None
-            }
-        }
+        self.constant_value(&code, e, what)
     }
 
     /// A shown column of a sweep: a number, or `state.field`.
@@ -1974,11 +1956,7 @@ impl Checker<'_> {
                     .with_secondary(r.span, self.side(r, b)),
                 );
             }
-            if matches!(
-                (a.aff, b.aff),
-                (Affinity::Absolute, Affinity::Difference)
-                    | (Affinity::Difference, Affinity::Absolute)
-            ) {
+            if a.kinds_clash(b) {
                 return self.error(
                     Diagnostic::error(
                         format!(

@@ -553,7 +553,7 @@ impl Model {
         let want = self.checked.nodes[i].ty;
         let si = check::const_value(&code);
         match (want, ty, si) {
-            (Ty::Num(w), Ty::Num(g), Some(v)) if compatible(w, g) => {
+            (Ty::Num(w), Ty::Num(g), Some(v)) if QuantityType::accepts(w, g) => {
                 self.set_input_si(name, v)?;
                 self.overrides[i] = Some(Override {
                     si_value: v,
@@ -661,14 +661,6 @@ fn physical(node: &Node, v: &Value) -> Result<(), String> {
         ));
     }
     Ok(())
-}
-
-fn compatible(want: QuantityType, got: QuantityType) -> bool {
-    want.dim == got.dim
-        && !matches!(
-            (want.aff, got.aff),
-            (Affinity::Absolute, Affinity::Difference) | (Affinity::Difference, Affinity::Absolute)
-        )
 }
 
 fn runtime_diagnostic(node: &Node, span: Span, message: &str) -> Diagnostic {

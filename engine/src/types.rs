@@ -30,6 +30,22 @@ impl QuantityType {
             aff: Affinity::Absolute,
         }
     }
+
+    /// One is absolute and the other a difference (a neutral value agrees
+    /// with either): such values cannot be compared, set or bracketed
+    /// together.
+    pub fn kinds_clash(self, other: QuantityType) -> bool {
+        matches!(
+            (self.aff, other.aff),
+            (Affinity::Absolute, Affinity::Difference) | (Affinity::Difference, Affinity::Absolute)
+        )
+    }
+
+    /// A value of type `got` may stand where `self` is wanted: same
+    /// dimension, no absolute/difference clash.
+    pub fn accepts(self, got: QuantityType) -> bool {
+        self.dim == got.dim && !self.kinds_clash(got)
+    }
 }
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
