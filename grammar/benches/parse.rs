@@ -11,23 +11,13 @@ use criterion::{Criterion, Throughput, criterion_group, criterion_main};
 
 const N: usize = 100_000;
 
-fn mixed() -> String {
-    let mut src = String::new();
-    for i in 0..N {
-        match i % 4 {
-            0 => src += &format!("input x{i} = {i}.5 kJ/(kg K) \"value {i}\"\n"),
-            1 => src += &format!("y{i} : kW = mdot * (st2.h - x{}) // note\n", i - 1),
-            2 => src += &format!("s{i} = state(gas, T: T1, p: {i} bar)\n"),
-            _ => src += &format!("check y{} <= 2 ^ 3 * s{}.h\n", i - 2, i - 1),
-        }
-    }
-    src
-}
+#[path = "../tests/common/mix.rs"]
+mod mix;
 
 fn parse(c: &mut Criterion) {
     let mut g = c.benchmark_group("grammar");
     g.sample_size(10).measurement_time(Duration::from_secs(5));
-    let src = mixed();
+    let src = mix::worksheet(N);
     g.throughput(Throughput::Bytes(src.len() as u64));
     g.bench_function("parse 100k mixed", |b| {
         b.iter(|| {

@@ -37,19 +37,13 @@ fn peak_of(f: impl FnOnce()) -> usize {
     PEAK.load(Ordering::Relaxed) - base
 }
 
-/// 25 000 statements of the usual kinds (the mix of the speed test; the
-/// ratio per byte is the same at 100 000, see README.md).
+#[path = "common/mix.rs"]
+mod mix;
+
+/// 25 000 statements of the usual kinds (the mix of the parse benchmark;
+/// the ratio per byte is the same at 100 000, see README.md).
 fn worksheet() -> String {
-    let mut src = String::new();
-    for i in 0..25_000 {
-        match i % 4 {
-            0 => src += &format!("input x{i} = {i}.5 kJ/(kg K) \"value {i}\"\n"),
-            1 => src += &format!("y{i} : kW = mdot * (st2.h - x{}) // note\n", i - 1),
-            2 => src += &format!("s{i} = state(gas, T: T1, p: {i} bar)\n"),
-            _ => src += &format!("check y{} <= 2 ^ 3 * s{}.h\n", i - 2, i - 1),
-        }
-    }
-    src
+    mix::worksheet(25_000)
 }
 
 // One test only: the counters are process-wide.
