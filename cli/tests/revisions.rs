@@ -495,9 +495,18 @@ fn pull_writes_used_inputs_there_warns_on_typed_over_cells_keeps_alignment() {
         lines[2].contains("n") && lines[2].contains("1500 -> 1480.5 rpm"),
         "{text}"
     );
-    // (A number typed over a computed cell is not reported yet: the bounded
-    // workbook reader does not expose formula flags of arbitrary rows.)
-    let _ = t1;
+    // The number typed over the computed T1 is a warning naming the cell
+    // and the quantity; it is not pulled (no line for it above).
+    let e = err(&o);
+    assert!(
+        e.contains(&format!(
+            "warning: Calculation!{t1} holds the number 99 typed over the value of `T1` \
+             (a computed value, not an input); it is not pulled"
+        )),
+        "{e}"
+    );
+    assert_eq!(e.matches("warning:").count(), 1, "{e}");
+    assert!(!text.contains("T1"), "{text}");
     let o = sheaf_in(p, &["pull", "c2.sheaf", "--from", "c2.xlsx", "--write"]);
     assert_eq!(o.status.code(), Some(0), "{}", err(&o));
     assert_eq!(
