@@ -1103,9 +1103,15 @@ pub fn plain_numbers_with(
             .iter()
             .filter_map(|n| {
                 let p = parse_sheet_ref(&n.target)?;
-                p.sheet
-                    .eq_ignore_ascii_case(&real)
-                    .then(|| (n.name.clone(), CellPos { sheet: real.clone(), ..p }))
+                p.sheet.eq_ignore_ascii_case(&real).then(|| {
+                    (
+                        n.name.clone(),
+                        CellPos {
+                            sheet: real.clone(),
+                            ..p
+                        },
+                    )
+                })
             })
             .collect(),
         ..PlainNumbers::default()

@@ -382,7 +382,10 @@ fn plain_numbers_are_cells_without_formulas_kept_up_to_a_bound() {
     assert_eq!(got.names, vec![("q_x".to_string(), at(0, 4))]);
     assert_eq!(got.labels.get(&0).map(String::as_str), Some("T1"));
     assert_eq!(got.labels.get(&1), None);
-    assert_eq!(plain_numbers(&b, "nosuch").unwrap(), PlainNumbers::default());
+    assert_eq!(
+        plain_numbers(&b, "nosuch").unwrap(),
+        PlainNumbers::default()
+    );
     // Beyond PLAIN_KEPT numbers are counted, not kept.
     let mut many = String::new();
     for r in 1..=PLAIN_KEPT + 5 {
