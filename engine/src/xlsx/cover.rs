@@ -369,9 +369,17 @@ pub(super) fn write(l: &mut SheetLayout) -> XResult<Worksheet> {
         fit_height(crate::report::CAUTION, WIDE + WIDTHS[0]) + 4.0,
     )?;
     cr += 1;
-    if l.report.uses_gauge {
-        cover.merge_range(cr, 0, cr, 4, crate::report::GAUGE_NOTE, &wrap)?;
-        cover.set_row_height(cr, fit_height(crate::report::GAUGE_NOTE, WIDE + WIDTHS[0]))?;
+    // What gauge pressures are relative to: this worksheet's reference and
+    // each used worksheet's own (a used worksheet keeps its `gauge`).
+    let gauge = l.report.gauge_note();
+    let gauge = if gauge.is_empty() && l.report.uses_gauge {
+        crate::report::GAUGE_NOTE.to_string()
+    } else {
+        gauge
+    };
+    if !gauge.is_empty() {
+        cover.merge_range(cr, 0, cr, 4, &gauge, &wrap)?;
+        cover.set_row_height(cr, fit_height(&gauge, WIDE + WIDTHS[0]))?;
         cr += 1;
     }
     for w in l.report.warnings.clone() {
