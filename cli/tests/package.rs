@@ -42,7 +42,8 @@ fn the_cover_lists_every_used_file_with_its_sha256() {
     let d = tempfile::tempdir().unwrap();
     let p = d.path();
     std::fs::create_dir_all(p.join("basis/fluids")).unwrap();
-    let site = "use \"fluids/cw.sheaf\" as cw\ninput T_amb = 25 degC \"ambient\"\n";
+    let site = "gauge 95 kPa \"site barometric\"\nuse \"fluids/cw.sheaf\" as cw\n\
+                input T_amb = 25 degC \"ambient\"\ninput p_amb = 0 barg\n";
     let cw = "input c_w = 4.18 kJ/(kg K) \"cooling water\"\n";
     std::fs::write(p.join("basis/site.sheaf"), site).unwrap();
     std::fs::write(p.join("basis/fluids/cw.sheaf"), cw).unwrap();
@@ -86,6 +87,12 @@ fn the_cover_lists_every_used_file_with_its_sha256() {
         assert_eq!(text_at(r, 1).as_deref(), Some(path));
         assert_eq!(text_at(r, 2), Some(sha256(text.as_bytes())));
     }
+    // The gauge note says what the used worksheet's gauge pressures mean.
+    assert!(
+        cover.iter().any(|(_, _, t)| t
+            .contains("In the worksheet used as `site`, gauge pressures are relative to 95 kPa")),
+        "{cover:?}"
+    );
     // A worksheet without `use` has no such section.
     std::fs::write(p.join("plain.sheaf"), "# P\ninput a = 2 m\ncheck a > 1 m\n").unwrap();
     let o = sheaf_in(p, &["xlsx", "plain.sheaf", "-o", "plain.xlsx"]);
