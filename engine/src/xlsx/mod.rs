@@ -300,6 +300,40 @@ pub fn rewrite_inputs(source: &str, changes: &[Change]) -> String {
     out
 }
 
+/// The model at the input values a package records as used (its `u`
+/// cells), when any differs from the model's own; `None` when none does
+/// (or none can be read).
+fn as_written(model: &Model, bytes: &[u8]) -> Result<Option<Model>, XlsxError> {
+    let inputs: Vec<(usize, String)> = model
+        .nodes()
+        .iter()
+        .enumerate()
+        .filter(|(_, n)| n.kind == NodeKind::Input)
+        .filter_map(|(i, n)| n.name.as_ref().map(|x| (i, x.name.clone())))
+        .collect();
+    let refs: Vec<String> = inputs
+        .iter()
+        .map(|(_, n)| names::name_of(names::NameKind::Recorded, n))
+        .collect();
+    let refs: Vec<&str> = refs.iter().map(String::as_str).collect();
+    let used = reader::read_cells(bytes, &refs)?;
+    let mut out: Option<Model> = None;
+    for ((i, name), v) in inputs.iter().zip(used) {
+        let (Ok(v), Some((sh, _))) = (v, input_shown(model, *i)) else {
+            continue;
+        };
+        if v != sh.value {
+            let m = out.get_or_insert_with(|| model.clone());
+            // An input the model refuses keeps its own value.
+            let _ = m.set_input(name, v * sh.factor + sh.offset);
+        }
+    }
+    if let Some(m) = out.as_mut() {
+        m.evaluate();
+    }
+    Ok(out)
+}
+
 /// A number a reviewer typed into the calculation sheet outside the input
 /// cells (over a formula, over an engine value, or into a cell the package
 /// left without a number): `pull` warns and takes nothing from it.
@@ -322,6 +356,11 @@ pub struct TypedOver {
 pub fn typed_over(model: &Model, bytes: &[u8]) -> Result<(Vec<TypedOver>, usize), XlsxError> {
     use std::collections::{HashMap, HashSet};
     let scan = reader::plain_numbers(bytes, writer::CALC)?;
+    // The engine values in the package are those of the input values it
+    // was written with (the data sheet's `u` cells: `--set`, a case): the
+    // model is brought to them before comparing.
+    let written = as_written(model, bytes)?;
+    let model = written.as_ref().unwrap_or(model);
     // Rows of the plan by the lower-case defined name of their SI cell.
     let mut rows: HashMap<String, (String, bool, Option<f64>)> = HashMap::new();
     for nr in plan::plan(model).into_iter().flatten() {
@@ -537,6 +576,14 @@ mod tests {
         // As written: nothing typed (the engine value's plain number and the
         // input's are the package's own).
         assert_eq!(typed_over(&m, &bytes).unwrap(), (vec![], 0));
+        // Written with an override (`--set p2=3 bar`): its engine values are
+        // those of 3 bar, and still nothing was typed.
+        let mut set = m.clone();
+        set.set_input_text("p2", "3 bar").unwrap();
+        set.evaluate();
+        let set_bytes = write_package(&set, &info).unwrap();
+        assert_ne!(set.number("T_sat"), m.number("T_sat"));
+        assert_eq!(typed_over(&m, &set_bytes).unwrap(), (vec![], 0));
         let scan = reader::plain_numbers(&bytes, "Calculation").unwrap();
         let pos = |n: &str| {
             scan.names
