@@ -156,6 +156,7 @@ pub fn cmd_pull(file: &Path, from: &Path, write: bool, force: bool) -> u8 {
             );
         }
     }
+    typed_over_warnings(&model, &bytes, from);
     // Each change, placed in the file that holds the input (a used
     // worksheet's input is written there), in worksheet order.
     let mut placed: Vec<(Placed, xlsx::Change)> = xlsx::pull_changes(&model, &reviewed)
@@ -321,4 +322,40 @@ fn rewrite_aligned(source: &str, changes: &[xlsx::Change]) -> String {
         out.replace_range(at..at + gap, &" ".repeat(want));
     }
     out
+}
+
+/// Warn about numbers a reviewer typed into the calculation sheet outside
+/// the input cells (over a formula or an engine value): they are not
+/// pulled, and saying nothing would lose them silently.
+fn typed_over_warnings(model: &Model, bytes: &[u8], from: &Path) {
+    let (typed, more) = match xlsx::typed_over(model, bytes) {
+        Ok(x) => x,
+        Err(e) => {
+            eprintln!(
+                "warning: {}: cannot look for numbers typed over computed cells: {e}",
+                from.display()
+            );
+            return;
+        }
+    };
+    for t in &typed {
+        let value = format_sig(t.value, 15);
+        match &t.quantity {
+            Some(q) => eprintln!(
+                "warning: {} holds the number {value} typed over the value of `{q}` (a computed \
+                 value, not an input); it is not pulled",
+                t.cell
+            ),
+            None => eprintln!(
+                "warning: {} holds the number {value}, which is not an input cell; it is not pulled",
+                t.cell
+            ),
+        }
+    }
+    if more > 0 {
+        eprintln!(
+            "warning: {} holds {more} more number(s) outside the input cells (not listed); they are not pulled",
+            from.display()
+        );
+    }
 }

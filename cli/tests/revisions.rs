@@ -495,9 +495,18 @@ fn pull_writes_used_inputs_there_warns_on_typed_over_cells_keeps_alignment() {
         lines[2].contains("n") && lines[2].contains("1500 -> 1480.5 rpm"),
         "{text}"
     );
-    // (A number typed over a computed cell is not reported yet: the bounded
-    // workbook reader does not expose formula flags of arbitrary rows.)
-    let _ = t1;
+    // The number typed over the computed T1 is a warning naming the cell
+    // and the quantity; it is not pulled (no line for it above).
+    let e = err(&o);
+    assert!(
+        e.contains(&format!(
+            "warning: Calculation!{t1} holds the number 99 typed over the value of `T1` \
+             (a computed value, not an input); it is not pulled"
+        )),
+        "{e}"
+    );
+    assert_eq!(e.matches("warning:").count(), 1, "{e}");
+    assert!(!text.contains("T1"), "{text}");
     let o = sheaf_in(p, &["pull", "c2.sheaf", "--from", "c2.xlsx", "--write"]);
     assert_eq!(o.status.code(), Some(0), "{}", err(&o));
     assert_eq!(
@@ -511,5 +520,59 @@ fn pull_writes_used_inputs_there_warns_on_typed_over_cells_keeps_alignment() {
          input p2 = 10.25 barg \"discharge\"\n\
          input n  = 1480.5 rpm \"speed\"\n\
          T1 : degC = site.T_amb + 2 K\n"
+    );
+}
+
+#[test]
+fn pull_on_the_site_basis_example_writes_the_used_file() {
+    // The example pair: worksheets/process_air_aftercooler.sheaf uses
+    // worksheets/site_basis.sheaf as `site`.
+    let d = tempfile::tempdir().unwrap();
+    let p = d.path();
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("../worksheets");
+    for f in ["site_basis.sheaf", "process_air_aftercooler.sheaf"] {
+        std::fs::copy(root.join(f), p.join(f)).unwrap();
+    }
+    let site_before = std::fs::read_to_string(p.join("site_basis.sheaf")).unwrap();
+    let main_before = std::fs::read_to_string(p.join("process_air_aftercooler.sheaf")).unwrap();
+    let o = sheaf_in(
+        p,
+        &["xlsx", "process_air_aftercooler.sheaf", "-o", "pa.xlsx"],
+    );
+    assert_eq!(o.status.code(), Some(0), "{}", err(&o));
+    let x = p.join("pa.xlsx");
+    // The used worksheet's input is an editable input cell of the package.
+    type_into(&x, 2, &named(&x, "i10_site.T_cw"), "25");
+    let o = sheaf_in(
+        p,
+        &[
+            "pull",
+            "process_air_aftercooler.sheaf",
+            "--from",
+            "pa.xlsx",
+            "--write",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(0), "{}", err(&o));
+    let text = out(&o);
+    assert!(
+        text.contains("site.T_cw") && text.contains("23 -> 25 degC"),
+        "{text}"
+    );
+    assert!(
+        text.contains("rewrote 1 input(s) in site_basis.sheaf"),
+        "{text}"
+    );
+    assert_eq!(
+        std::fs::read_to_string(p.join("site_basis.sheaf")).unwrap(),
+        site_before.replace("input T_cw = 23 degC", "input T_cw = 25 degC")
+    );
+    assert_ne!(
+        site_before,
+        std::fs::read_to_string(p.join("site_basis.sheaf")).unwrap()
+    );
+    assert_eq!(
+        std::fs::read_to_string(p.join("process_air_aftercooler.sheaf")).unwrap(),
+        main_before
     );
 }

@@ -1,9 +1,9 @@
 //! Every example worksheet checks and evaluates without errors; the
 //! acceptance checks come out as the examples intend.
 
-use std::path::Path;
+mod xlsx_common;
 
-use sheaf_engine::Model;
+use std::path::Path;
 
 fn worksheets() -> Vec<std::path::PathBuf> {
     let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("../worksheets");
@@ -21,8 +21,8 @@ fn every_example_runs_clean() {
     let all = worksheets();
     assert!(all.len() >= 8, "examples missing: {all:?}");
     for path in all {
-        let src = std::fs::read_to_string(&path).unwrap();
-        let mut m = Model::new(src).unwrap_or_else(|d| panic!("{}: {d:#?}", path.display()));
+        let mut m =
+            xlsx_common::model_of(&path).unwrap_or_else(|d| panic!("{}: {d:#?}", path.display()));
         m.evaluate();
         assert!(
             m.runtime_errors().is_empty(),

@@ -73,7 +73,9 @@ fn libreoffice_reproduces_the_engine() {
     // Packages as written, and one edited copy per worksheet (its last
     // number input raised by 10 % plus 0.5).
     let mut files = Vec::new();
+    // (worksheet, input edited, new value, edited package)
     let mut edits = Vec::new();
+    let mut with_use = 0;
     for (k, ws) in sheets.iter().enumerate() {
         let (src, m) = load(ws);
         let out = dir.join(format!("p{k}.xlsx"));
@@ -90,19 +92,35 @@ fn libreoffice_reproduces_the_engine() {
                     .any(|(d, _)| *d == names::name_of(NameKind::Input, n))
             })
             .expect("an input");
-        let ipos = book.pos(&names::name_of(NameKind::Input, &input)).clone();
-        let old = book.number(&ipos).unwrap();
-        let new = old * 1.1 + 0.5;
-        let cell = format!(
-            "{}{}",
-            sheaf_engine::xlsx::reader::col_letters(ipos.col),
-            ipos.row + 1
-        );
-        let edited = dir.join(format!("e{k}.xlsx"));
-        edit_number(&out, &edited, 1, &cell, new);
-        files.push(edited);
-        edits.push((input, new));
+        // A worksheet with `use`: also an input of the used worksheet that
+        // feeds both live formulas and the used worksheet's own results.
+        let mut inputs = vec![input];
+        if !m.used_files().is_empty() {
+            with_use += 1;
+            if m.node_index("site.T_cw").is_some() {
+                inputs.push("site.T_cw".to_string());
+            }
+        }
+        for (e, input) in inputs.into_iter().enumerate() {
+            let ipos = book.pos(&names::name_of(NameKind::Input, &input)).clone();
+            let old = book.number(&ipos).unwrap();
+            let new = old * 1.1 + 0.5;
+            let cell = format!(
+                "{}{}",
+                sheaf_engine::xlsx::reader::col_letters(ipos.col),
+                ipos.row + 1
+            );
+            let edited = dir.join(format!("e{k}_{e}.xlsx"));
+            edit_number(&out, &edited, 1, &cell, new);
+            files.push(edited);
+            edits.push((k, input, new, format!("recalc/e{k}_{e}.xlsx")));
+        }
     }
+    assert!(with_use > 0, "no example worksheet uses another");
+    assert!(
+        edits.len() > sheets.len(),
+        "no input of a used worksheet was edited"
+    );
     // A package written with an override (`sheaf xlsx --set 'p2=5 barg'`):
     // its input cells hold the value the engine used.
     let set_ws = root().join("worksheets/steam_turbine.sheaf");
@@ -143,6 +161,12 @@ fn libreoffice_reproduces_the_engine() {
         let (_, m) = load(ws);
         // 1. As written: every live formula equals the engine's value.
         let book = Book::read(&dir.join(format!("recalc/p{k}.xlsx")));
+        if ws.ends_with("fuel_gas_booster.sheaf") {
+            // The gas_mix mixture's states are live formulas.
+            let h = book.pos(&names::field_name("st1", "h"));
+            let f = book.formula(h).cloned().unwrap_or_default();
+            assert!(f.contains("ng_mix"), "fuel-gas st1.h: {f:?}");
+        }
         for (name, pos) in &book.names {
             let Some(engine) = engine_value(&m, name) else {
                 continue;
@@ -161,16 +185,19 @@ fn libreoffice_reproduces_the_engine() {
             );
             compared += 1;
         }
+    }
+    for (k, input, new_display, recalculated) in &edits {
+        let ws = &sheets[*k];
+        let (_, m) = load(ws);
         // 2. Edited input: closed forms follow the engine; engine-only rows
         // (and rows using them) are flagged stale.
-        let (input, new_display) = &edits[k];
         let mut m2 = load(ws).1;
         let i = m2.node_index(input).unwrap();
         let (sh, _) = sheaf_engine::xlsx::input_shown(&m2, i).unwrap();
         m2.set_input(input, new_display * sh.factor + sh.offset)
             .unwrap();
         m2.evaluate();
-        let book = Book::read(&dir.join(format!("recalc/e{k}.xlsx")));
+        let book = Book::read(&dir.join(recalculated));
         let mut changed = 0;
         for (name, pos) in &book.names {
             let Some(engine) = engine_value(&m2, name) else {

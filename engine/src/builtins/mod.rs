@@ -164,6 +164,9 @@ pub enum Rule {
     PerfectGas,
     Incompressible,
     IdealGas,
+    /// `gas_mix(...)` of constant mole fractions: an ideal gas whose
+    /// blended coefficients the package writes on its data sheet.
+    GasMix,
     /// A real fluid: no closed form, but its states' cells can be referred to.
     RealFluid,
     /// `state(...)`.

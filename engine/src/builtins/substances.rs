@@ -305,9 +305,10 @@ pub static GAS_MIX: Builtin = Builtin {
         let g = a.thermo(IdealGas::mixture(&parts))?;
         substance(Substance::IdealGas(g))
     },
-    // The package writes a mixture's states as engine values (its
-    // coefficients are not on the data sheet yet).
-    sheet: Sheet::EngineOnly,
+    // Constant fractions: the blended coefficients go on the data sheet
+    // and the states are live formulas like a pure gas's; fractions that
+    // are names make the states engine values.
+    sheet: Sheet::Rule(Rule::GasMix),
 };
 
 pub static SATURATION: Builtin = Builtin {

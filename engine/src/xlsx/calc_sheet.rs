@@ -416,8 +416,13 @@ impl CalcWriter {
                     return Ok(());
                 };
                 let iname = names::name_of(NameKind::Input, &r.symbol);
+                // An input solved by a `find` is a computed value: shaded and
+                // locked like an engine value (its stale flag is on the
+                // Cases sheet).
+                let found = l.model.find_of(node).is_some();
+                let value_fmt = if found { &st.engine } else { &st.input };
                 self.ws
-                    .write_number_with_format(row, C_VAL, sh.value, &st.input)?;
+                    .write_number_with_format(row, C_VAL, sh.value, value_fmt)?;
                 self.ws
                     .write_string_with_format(row, C_UNIT, &sh.unit, &st.unit)?;
                 let mut f = iname.clone();
@@ -433,9 +438,17 @@ impl CalcWriter {
                     Formula::new(f).set_result(num_result(si)),
                     &si_fmt(&st.live),
                 )?;
+                let basis = if found { "found" } else { "input" };
                 self.ws
-                    .write_string_with_format(row, C_BASIS, "input", &st.unit)?;
-                if let Some(o) = l.model.override_of(node) {
+                    .write_string_with_format(row, C_BASIS, basis, &st.unit)?;
+                if found {
+                    self.ws.write_string_with_format(
+                        row,
+                        C_FLAG,
+                        "solved by find; see the Cases sheet",
+                        &st.flag_wrap,
+                    )?;
+                } else if let Some(o) = l.model.override_of(node) {
                     let written = l.model.nodes()[node].expr_span.slice(l.model.source());
                     let from = match &o.source {
                         crate::model::OverrideSource::CommandLine => "--set".to_string(),
@@ -507,7 +520,8 @@ impl CalcWriter {
             row,
             0,
             "Basis: input = editable value (the only unlocked cells); formula = live formula on the SI cells; \
-             engine = value computed by sheaf (no closed form), flagged when an input it depends on is edited.",
+             engine = value computed by sheaf (no closed form), flagged when an input it depends on is edited; \
+             found = input solved by sheaf from a `find` condition (not editable; its stale flag is on the Cases sheet).",
             &l.st.small,
         )?;
         self.ws.write_string_with_format(

@@ -1,6 +1,6 @@
 //! The cover: title block, a live status (stale inputs, failed checks),
 //! a "not checked" mark until a checker signs, sign-off fields, the
-//! overridden inputs, the checks with value and limit, method and
+//! overridden inputs, the worksheets used (path and sha256), the checks with value and limit, method and
 //! sources, the caution, warnings and legend.
 
 use rust_xlsxwriter::{
@@ -122,6 +122,33 @@ pub(super) fn write(l: &mut SheetLayout) -> XResult<Worksheet> {
                 &format!("{text}, from the {source}; the worksheet says {written}"),
                 &st.flag_wrap,
             )?;
+            cr += 1;
+        }
+    }
+
+    // The worksheets this one uses (`use`, at any depth): the path as
+    // written in the using worksheet and the sha256 of the text read, so a
+    // reviewer can tell which version of each file the results rest on.
+    let used = l.report.used_files.clone();
+    if !used.is_empty() {
+        cr += 1;
+        section(&mut cover, cr, "Worksheets used", &st.h2)?;
+        cr += 1;
+        for (c, h) in ["Used as", "File (as written)"].iter().enumerate() {
+            cover.write_string_with_format(cr, c as u16, *h, &st.subheader)?;
+        }
+        cover.merge_range(cr, 2, cr, 4, "sha256", &st.subheader)?;
+        cr += 1;
+        let hash = st.small.clone().set_text_wrap();
+        for u in &used {
+            cover.write_string_with_format(cr, 0, &u.prefix, &st.label)?;
+            cover.write_string_with_format(cr, 1, &u.name, &wrap)?;
+            cover.merge_range(cr, 2, cr, 4, &u.sha256, &hash)?;
+            let h = fit_height(&u.name, WIDTHS[1])
+                .max(fit_height(&u.sha256, WIDTHS[2] + WIDTHS[3] + WIDTHS[4]));
+            if h > 15.0 {
+                cover.set_row_height(cr, h)?;
+            }
             cr += 1;
         }
     }
@@ -342,9 +369,17 @@ pub(super) fn write(l: &mut SheetLayout) -> XResult<Worksheet> {
         fit_height(crate::report::CAUTION, WIDE + WIDTHS[0]) + 4.0,
     )?;
     cr += 1;
-    if l.report.uses_gauge {
-        cover.merge_range(cr, 0, cr, 4, crate::report::GAUGE_NOTE, &wrap)?;
-        cover.set_row_height(cr, fit_height(crate::report::GAUGE_NOTE, WIDE + WIDTHS[0]))?;
+    // What gauge pressures are relative to: this worksheet's reference and
+    // each used worksheet's own (a used worksheet keeps its `gauge`).
+    let gauge = l.report.gauge_note();
+    let gauge = if gauge.is_empty() && l.report.uses_gauge {
+        crate::report::GAUGE_NOTE.to_string()
+    } else {
+        gauge
+    };
+    if !gauge.is_empty() {
+        cover.merge_range(cr, 0, cr, 4, &gauge, &wrap)?;
+        cover.set_row_height(cr, fit_height(&gauge, WIDE + WIDTHS[0]))?;
         cr += 1;
     }
     for w in l.report.warnings.clone() {

@@ -2,7 +2,7 @@
 //! sheaf used (with a "differs" cell each, and where an overridden value
 //! came from), every field of every state in SI (the named cells the
 //! formulas and the state-point table use), and the NASA coefficients of
-//! the ideal gases used.
+//! the ideal gases used (a `gas_mix` mixture's blended ones).
 
 use rust_xlsxwriter::{Format, Formula, Worksheet};
 
@@ -188,11 +188,12 @@ pub(super) fn write(l: &mut SheetLayout) -> XResult<Worksheet> {
             Value::State(sv) => Some(&*sv.sub),
             _ => None,
         };
-        // Named gases and air only: a `gas_mix` mixture's states are engine
-        // values (its coefficients are not on this sheet).
+        // Named gases, air and `gas_mix` mixtures (their blended
+        // coefficients, under the key of their composition).
         if let Some(Substance::IdealGas(g)) = sub
-            && crate::thermo::ideal_gas::IdealGas::by_name(g.name()).is_ok()
-            && !gases.iter().any(|x| x.name() == g.name())
+            && !gases
+                .iter()
+                .any(|x| super::formula::gas_key(x) == super::formula::gas_key(g))
         {
             gases.push(g.clone());
         }
@@ -200,7 +201,9 @@ pub(super) fn write(l: &mut SheetLayout) -> XResult<Worksheet> {
     if !gases.is_empty() {
         r += 1;
         let text = "Ideal-gas data: NASA 7-coefficient polynomials (McBride, Zehe & Gordon, \
-                    NASA/TP-2002-211556), molar, dimensionless; R in J/(kg K); hoff = R * H/R(298.15 K) in J/kg";
+                    NASA/TP-2002-211556), molar, dimensionless; R in J/(kg K); hoff = R * H/R(298.15 K) in J/kg. \
+                    A mixture's coefficients are the mole-fraction averages of its gases', a7 \
+                    with the ideal mixing entropy -sum(x ln x)";
         data.merge_range(r, 0, r, 13, text, &st.label_wrap)?;
         data.set_row_height(r, fit_height(text, WIDTHS.iter().sum()))?;
         r += 1;
@@ -224,13 +227,14 @@ pub(super) fn write(l: &mut SheetLayout) -> XResult<Worksheet> {
         r += 1;
         let sci = Format::new().set_num_format("0.000000E+00");
         for g in &gases {
+            let key = super::formula::gas_key(g);
             let coef = g.coefficients();
             for (hi, label) in [(false, "200-1000 K"), (true, "1000-6000 K")] {
                 data.write_string(r, 0, format!("{} {label}", g.name()))?;
                 for (k, a) in coef[usize::from(hi)].iter().enumerate() {
                     data.write_number_with_format(r, 1 + k as u16, *a, &sci)?;
                     defs.push((
-                        super::formula::gas_coef_name(g.name(), hi, k + 1),
+                        super::formula::gas_coef_name(&key, hi, k + 1),
                         r,
                         1 + k as u16,
                     ));
@@ -243,8 +247,8 @@ pub(super) fn write(l: &mut SheetLayout) -> XResult<Worksheet> {
                         &Format::new().set_num_format(sig_format_n(g.r(), 7)),
                     )?;
                     data.write_number_with_format(r, 9, g.h_offset(), &sci)?;
-                    defs.push((super::formula::gas_r_name(g.name()), r, 8));
-                    defs.push((super::formula::gas_hoff_name(g.name()), r, 9));
+                    defs.push((super::formula::gas_r_name(&key), r, 8));
+                    defs.push((super::formula::gas_hoff_name(&key), r, 9));
                 }
                 r += 1;
             }

@@ -209,6 +209,23 @@ pub struct StateDef {
     pub p: Fragment,
 }
 
+/// The key of an ideal gas in the names of its data cells: the canonical
+/// name of a pure gas or air; for a mixture `mix` and 12 hex digits of the
+/// sha256 of its composition (species and the exact bits of each mole
+/// fraction), so equal mixtures share their cells and different ones never
+/// do.
+pub fn gas_key(g: &crate::thermo::ideal_gas::IdealGas) -> String {
+    if crate::thermo::ideal_gas::IdealGas::by_name(g.name()).is_ok() {
+        return g.name().to_string();
+    }
+    let mut text = String::new();
+    for (name, x) in g.components() {
+        text.push_str(&format!("{name}:{:016x};", x.to_bits()));
+    }
+    let h = super::sha256_hex(text.as_bytes());
+    format!("mix{}", &h[..12])
+}
+
 /// Name of the ideal-gas data cells.
 pub fn gas_coef_name(gas: &str, high: bool, k: usize) -> String {
     format!("ng_{gas}_{}_a{k}", if high { "hi" } else { "lo" })
@@ -401,6 +418,7 @@ impl Env<'_> {
             Rule::PerfectGas
             | Rule::Incompressible
             | Rule::IdealGas
+            | Rule::GasMix
             | Rule::RealFluid
             | Rule::State
             | Rule::Isentropic
@@ -452,6 +470,19 @@ impl Env<'_> {
                     .map(|g| SubSym::Ideal(g.name().to_string())),
                 _ => None,
             },
+            Rule::GasMix => {
+                // Constant fractions only: the mixture's coefficients are
+                // numbers on the data sheet, under a key of its composition.
+                let mut parts = Vec::with_capacity(args.len() / 2);
+                for pair in args.chunks(2) {
+                    match pair {
+                        [Code::Str(s), Code::Const(x)] => parts.push((&**s, *x)),
+                        _ => return None,
+                    }
+                }
+                let g = crate::thermo::ideal_gas::IdealGas::mixture(&parts).ok()?;
+                Some(SubSym::Ideal(gas_key(&g)))
+            }
             Rule::RealFluid => Some(SubSym::RealFluid),
             _ => None,
         }

@@ -300,6 +300,129 @@ pub fn rewrite_inputs(source: &str, changes: &[Change]) -> String {
     out
 }
 
+/// The model at the input values a package records as used (its `u`
+/// cells), when any differs from the model's own; `None` when none does
+/// (or none can be read).
+fn as_written(model: &Model, bytes: &[u8]) -> Result<Option<Model>, XlsxError> {
+    let inputs: Vec<(usize, String)> = model
+        .nodes()
+        .iter()
+        .enumerate()
+        .filter(|(_, n)| n.kind == NodeKind::Input)
+        .filter_map(|(i, n)| n.name.as_ref().map(|x| (i, x.name.clone())))
+        .collect();
+    let refs: Vec<String> = inputs
+        .iter()
+        .map(|(_, n)| names::name_of(names::NameKind::Recorded, n))
+        .collect();
+    let refs: Vec<&str> = refs.iter().map(String::as_str).collect();
+    let used = reader::read_cells(bytes, &refs)?;
+    let mut out: Option<Model> = None;
+    for ((i, name), v) in inputs.iter().zip(used) {
+        let (Ok(v), Some((sh, _))) = (v, input_shown(model, *i)) else {
+            continue;
+        };
+        if v != sh.value {
+            let m = out.get_or_insert_with(|| model.clone());
+            // An input the model refuses keeps its own value.
+            let _ = m.set_input(name, v * sh.factor + sh.offset);
+        }
+    }
+    if let Some(m) = out.as_mut() {
+        m.evaluate();
+    }
+    Ok(out)
+}
+
+/// A number a reviewer typed into the calculation sheet outside the input
+/// cells (over a formula, over an engine value, or into a cell the package
+/// left without a number): `pull` warns and takes nothing from it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct TypedOver {
+    /// Where (`Calculation!C9`).
+    pub cell: String,
+    pub value: f64,
+    /// The quantity of the row (`T1`, `st1.T` in the state table), when
+    /// the row has one.
+    pub quantity: Option<String>,
+}
+
+/// The numbers typed over cells of the calculation sheet that are not
+/// input cells, and how many more there were beyond
+/// [`reader::PLAIN_KEPT`]. The package writes a plain number on that sheet
+/// only into an input cell and into the SI cell of an engine value; any
+/// other plain number was typed, and so is an engine value that is no
+/// longer the engine's (1e-9 relative).
+pub fn typed_over(model: &Model, bytes: &[u8]) -> Result<(Vec<TypedOver>, usize), XlsxError> {
+    use std::collections::{HashMap, HashSet};
+    let scan = reader::plain_numbers(bytes, writer::CALC)?;
+    // The engine values in the package are those of the input values it
+    // was written with (the data sheet's `u` cells: `--set`, a case): the
+    // model is brought to them before comparing.
+    let written = as_written(model, bytes)?;
+    let model = written.as_ref().unwrap_or(model);
+    // Rows of the plan by the lower-case defined name of their SI cell.
+    let mut rows: HashMap<String, (String, bool, Option<f64>)> = HashMap::new();
+    for nr in plan::plan(model).into_iter().flatten() {
+        let mut add = |r: &plan::Row| {
+            rows.insert(
+                r.si_name.to_ascii_lowercase(),
+                (
+                    r.symbol.clone(),
+                    matches!(r.basis, plan::Basis::Engine),
+                    r.si,
+                ),
+            );
+        };
+        match &nr {
+            plan::NodeRows::Number(r) => add(r),
+            plan::NodeRows::Compound { fields, .. } => fields.iter().for_each(add),
+            _ => {}
+        }
+    }
+    let mut inputs: HashSet<&reader::CellPos> = HashSet::new();
+    let mut engine: HashMap<&reader::CellPos, Option<f64>> = HashMap::new();
+    let mut row_quantity: HashMap<u32, String> = HashMap::new();
+    for (name, pos) in &scan.names {
+        if let Some((names::NameKind::Input, _, None)) = names::decode(name) {
+            inputs.insert(pos);
+        } else if let Some((symbol, is_engine, si)) = rows.get(&name.to_ascii_lowercase()) {
+            row_quantity.insert(pos.row, symbol.clone());
+            if *is_engine {
+                engine.insert(pos, *si);
+            }
+        }
+    }
+    let report = model.report();
+    let states = &report.states;
+    let mut out = Vec::new();
+    for (pos, x) in &scan.numbers {
+        if inputs.contains(pos) {
+            continue;
+        }
+        if let Some(Some(si)) = engine.get(pos)
+            && (x - si).abs() <= 1e-9 * si.abs()
+        {
+            continue;
+        }
+        let quantity = row_quantity.get(&pos.row).cloned().or_else(|| {
+            // A state-point table row: the state's name in column A, a
+            // field per column from the Value column on.
+            let label = scan.labels.get(&pos.row)?;
+            states.rows.iter().find(|r| r.name == *label)?;
+            let k = pos.col.checked_sub(u32::from(calc_sheet::C_VAL))?;
+            let c = states.columns.get(k as usize)?;
+            Some(format!("{label}.{}", c.field.name()))
+        });
+        out.push(TypedOver {
+            cell: pos.a1(),
+            value: *x,
+            quantity,
+        });
+    }
+    Ok((out, scan.omitted))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -405,6 +528,119 @@ mod tests {
             ..reviewed
         };
         assert!(pull_changes(&m, &same).is_empty());
+    }
+
+    /// The package with cell `cell` of the calculation sheet (the second
+    /// sheet part) replaced by a plain number, as a reviewer typing would.
+    fn typed(bytes: &[u8], cell: &str, value: &str) -> Vec<u8> {
+        use std::io::{Read, Write};
+        let mut zin = zip::ZipArchive::new(std::io::Cursor::new(bytes)).unwrap();
+        let mut z = zip::ZipWriter::new(std::io::Cursor::new(Vec::new()));
+        for i in 0..zin.len() {
+            let mut f = zin.by_index(i).unwrap();
+            let name = f.name().unwrap().to_string();
+            let mut data = Vec::new();
+            f.read_to_end(&mut data).unwrap();
+            if name == "xl/worksheets/sheet2.xml" {
+                let mut x = String::from_utf8(data).unwrap();
+                let start = x.find(&format!("<c r=\"{cell}\"")).unwrap();
+                let rest = &x[start..];
+                let end = match rest.find("/>").filter(|e| !rest[..*e].contains('>')) {
+                    Some(e) => start + e + 2,
+                    None => start + rest.find("</c>").unwrap() + 4,
+                };
+                x.replace_range(start..end, &format!("<c r=\"{cell}\"><v>{value}</v></c>"));
+                data = x.into_bytes();
+            }
+            z.start_file(name, zip::write::SimpleFileOptions::default())
+                .unwrap();
+            z.write_all(&data).unwrap();
+        }
+        z.finish().unwrap().into_inner()
+    }
+
+    #[test]
+    fn numbers_typed_over_computed_cells_are_found() {
+        let src = "# t\ninput p2 = 2 bar\nwater = fluid(\"water\")\n\
+                   T_sat: degC = state(water, p: p2, x: 1).T\n\
+                   st1 = state(water, T: 150 degC, p: p2)\nk = p2 * 2\n";
+        let mut m = Model::new(src).unwrap();
+        m.evaluate();
+        let info = PackageInfo {
+            source_name: "t.sheaf".into(),
+            source_sha256: sha256_hex(src.as_bytes()),
+            tool_version: "test".into(),
+            date: "2026-01-01".into(),
+        };
+        let bytes = write_package(&m, &info).unwrap();
+        // As written: nothing typed (the engine value's plain number and the
+        // input's are the package's own).
+        assert_eq!(typed_over(&m, &bytes).unwrap(), (vec![], 0));
+        // Written with an override (`--set p2=3 bar`): its engine values are
+        // those of 3 bar, and still nothing was typed.
+        let mut set = m.clone();
+        set.set_input_text("p2", "3 bar").unwrap();
+        set.evaluate();
+        let set_bytes = write_package(&set, &info).unwrap();
+        assert_ne!(set.number("T_sat"), m.number("T_sat"));
+        assert_eq!(typed_over(&m, &set_bytes).unwrap(), (vec![], 0));
+        let scan = reader::plain_numbers(&bytes, "Calculation").unwrap();
+        let pos = |n: &str| {
+            scan.names
+                .iter()
+                .find(|(d, _)| d == n)
+                .map(|(_, p)| p.clone())
+                .unwrap()
+        };
+        let a1 = |p: &reader::CellPos| format!("{}{}", reader::col_letters(p.col), p.row + 1);
+        let t_sat = pos(&names::name_of(names::NameKind::Quantity, "T_sat"));
+        let k = pos(&names::name_of(names::NameKind::Quantity, "k"));
+        let input = pos(&names::name_of(names::NameKind::Input, "p2"));
+        // The state-table cell of st1's temperature: the first formula on
+        // the calculation sheet that refers to f_st1_T.
+        let xml = {
+            use std::io::Read;
+            let mut z = zip::ZipArchive::new(std::io::Cursor::new(&bytes[..])).unwrap();
+            let mut x = String::new();
+            z.by_name("xl/worksheets/sheet2.xml")
+                .unwrap()
+                .read_to_string(&mut x)
+                .unwrap();
+            x
+        };
+        let f = xml.find("<f>f_st1_T").unwrap();
+        let open = xml[..f].rfind("<c r=\"").unwrap() + 6;
+        let st_cell = xml[open..open + xml[open..].find('"').unwrap()].to_string();
+        // The engine value unchanged is not a warning; changed, it is.
+        let si = m.number("T_sat").unwrap();
+        let same = typed(&bytes, &a1(&t_sat), &format!("{si}"));
+        assert_eq!(typed_over(&m, &same).unwrap().0, vec![]);
+        let mut b = typed(&bytes, &a1(&t_sat), "400");
+        // Over the shown value of a formula row, over a state-table cell,
+        // and (not a warning) a new value in the input cell.
+        let k_shown = reader::CellPos {
+            col: u32::from(calc_sheet::C_VAL),
+            ..k.clone()
+        };
+        b = typed(&b, &a1(&k_shown), "99");
+        b = typed(&b, &st_cell, "151");
+        b = typed(&b, &a1(&input), "3");
+        let (got, more) = typed_over(&m, &b).unwrap();
+        assert_eq!(more, 0);
+        let want = |cell: String, value: f64, q: &str| TypedOver {
+            cell: format!("Calculation!{cell}"),
+            value,
+            quantity: Some(q.to_string()),
+        };
+        // In sheet order (the rows follow the worksheet).
+        assert_eq!(
+            got,
+            vec![
+                want(a1(&t_sat), 400.0, "T_sat"),
+                want(st_cell, 151.0, "st1.T"),
+                want(a1(&k_shown), 99.0, "k"),
+            ]
+        );
     }
 
     #[test]

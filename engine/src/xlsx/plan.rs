@@ -96,6 +96,10 @@ pub(super) fn plan(model: &Model) -> Vec<Option<NodeRows>> {
                 display: node.display.clone(),
                 basis: if node.kind == NodeKind::Input {
                     Basis::Input
+                } else if model.import_of(i).is_some() {
+                    // A value computed in a used worksheet: the engine's
+                    // (stale when an input of that worksheet is edited).
+                    Basis::Engine
                 } else {
                     match env.num(&node.code) {
                         Some(e) => Basis::Live(e),
@@ -253,10 +257,30 @@ pub(super) fn stale_inputs(model: &Model, plan: &[Option<NodeRows>]) -> Vec<BTre
     let mut seen: Vec<usize> = vec![0; n];
     let mut search = 0;
     let mut stack = Vec::new();
+    // The numeric inputs of each used worksheet (by its index in
+    // `Model::used`): a value computed there goes stale when any of them is
+    // edited in the package (conservative: the used worksheet's own
+    // dependencies are not followed).
+    let mut used_inputs: Vec<Vec<usize>> = vec![Vec::new(); model.used().len()];
+    for (j, node) in nodes.iter().enumerate() {
+        if let Some((k, _)) = model.import_of(j)
+            && node.kind == NodeKind::Input
+            && matches!(node.ty, Ty::Num(_))
+            && let Some(v) = used_inputs.get_mut(k)
+        {
+            v.push(j);
+        }
+    }
     for &i in model.order() {
         let mut st = BTreeSet::new();
         for &d in &nodes[i].deps {
             st.extend(stale[d].iter().copied());
+        }
+        if let Some((k, _)) = model.import_of(i)
+            && nodes[i].kind != NodeKind::Input
+            && let Some(v) = used_inputs.get(k)
+        {
+            st.extend(v.iter().copied());
         }
         if plan[i].as_ref().is_some_and(has_engine_rows) {
             search += 1;

@@ -1054,5 +1054,186 @@ pub fn read_inputs_with(bytes: &[u8], limits: Limits) -> Result<Reviewed, XlsxEr
     Ok(out)
 }
 
+/// Most plain numbers [`plain_numbers`] keeps (the rest are counted).
+pub const PLAIN_KEPT: usize = 1000;
+
+/// The cells of one sheet that hold a number typed in (no formula), with
+/// what is needed to name them: the defined names that refer to a cell of
+/// that sheet, and the text in column A of each row with such a number.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct PlainNumbers {
+    /// Cells holding a number and no formula, in sheet order (at most
+    /// [`PLAIN_KEPT`]).
+    pub numbers: Vec<(CellPos, f64)>,
+    /// Plain numbers beyond [`PLAIN_KEPT`] (counted, not kept).
+    pub omitted: usize,
+    /// Defined names referring to a single cell of the sheet.
+    pub names: Vec<(String, CellPos)>,
+    /// Text of column A in the rows of `numbers` (rows without text absent).
+    pub labels: HashMap<u32, String>,
+}
+
+/// Every cell of `sheet` that holds a number without a formula (the sheet
+/// is streamed once, whole, under the [`LIMITS`]; only the numbers kept),
+/// for `pull` to find a number typed over a formula or an engine value.
+/// A sheet the workbook does not have gives nothing.
+pub fn plain_numbers(bytes: &[u8], sheet: &str) -> Result<PlainNumbers, XlsxError> {
+    plain_numbers_with(bytes, sheet, LIMITS)
+}
+
+/// [`plain_numbers`] under other limits.
+pub fn plain_numbers_with(
+    bytes: &[u8],
+    sheet: &str,
+    limits: Limits,
+) -> Result<PlainNumbers, XlsxError> {
+    let mut pkg = Package::open(bytes, limits)?;
+    let wb = read_workbook(&mut pkg)?;
+    let Some((real, part)) = wb
+        .sheets
+        .iter()
+        .find(|(n, _)| n.eq_ignore_ascii_case(sheet))
+        .cloned()
+    else {
+        return Ok(PlainNumbers::default());
+    };
+    let mut out = PlainNumbers {
+        names: wb
+            .names
+            .iter()
+            .filter_map(|n| {
+                let p = parse_sheet_ref(&n.target)?;
+                p.sheet.eq_ignore_ascii_case(&real).then(|| {
+                    (
+                        n.name.clone(),
+                        CellPos {
+                            sheet: real.clone(),
+                            ..p
+                        },
+                    )
+                })
+            })
+            .collect(),
+        ..PlainNumbers::default()
+    };
+    let date_styles = wb.date_styles.clone();
+    let scanned = pkg.with_part(&part, |r| {
+        let mut buf = Vec::new();
+        let mut kept: Vec<((u32, u32), f64)> = Vec::new();
+        let mut omitted = 0usize;
+        let mut row: u32 = 0;
+        let mut next_col: u32 = 0;
+        // The cell being read: position, type, style, formula seen.
+        let mut cell: Option<((u32, u32), String, usize, bool)> = None;
+        let mut value: Option<String> = None;
+        let mut in_v = false;
+        loop {
+            let ev = r.read_event_into(&mut buf)?;
+            match &ev {
+                Event::Start(e) | Event::Empty(e) => {
+                    let empty = matches!(ev, Event::Empty(_));
+                    match local(e.name().as_ref()) {
+                        "row" => {
+                            row = attr(e, "r")
+                                .and_then(|x| x.parse::<u32>().ok())
+                                .map_or(row + 1, |r| r.saturating_sub(1));
+                            next_col = 0;
+                        }
+                        "c" => {
+                            let pos = attr(e, "r")
+                                .and_then(|x| parse_a1(&x))
+                                .unwrap_or((row, next_col));
+                            row = pos.0;
+                            next_col = pos.1 + 1;
+                            value = None;
+                            cell = (!empty).then(|| {
+                                let t = attr(e, "t").unwrap_or_default();
+                                let s = attr(e, "s").and_then(|x| x.parse().ok()).unwrap_or(0);
+                                (pos, t, s, false)
+                            });
+                        }
+                        "f" => {
+                            if let Some(c) = cell.as_mut() {
+                                c.3 = true;
+                            }
+                        }
+                        "v" if !empty => in_v = true,
+                        _ => {}
+                    }
+                }
+                Event::Text(_) | Event::GeneralRef(_) | Event::CData(_) if in_v => {
+                    if let Some((_, t, _, false)) = &cell
+                        && matches!(t.as_str(), "" | "n")
+                    {
+                        let v = value.get_or_insert_with(String::new);
+                        let mut n = 0;
+                        push_text(&ev, v, &mut n);
+                    }
+                }
+                Event::End(e) => match local(e.name().as_ref()) {
+                    "v" => in_v = false,
+                    "c" => {
+                        if let Some((pos, t, s, false)) = cell.take()
+                            && matches!(t.as_str(), "" | "n")
+                            && !date_styles.get(s).copied().unwrap_or(false)
+                            && let Some(x) = value.take().and_then(|v| v.trim().parse::<f64>().ok())
+                        {
+                            if kept.len() < PLAIN_KEPT {
+                                kept.push((pos, x));
+                            } else {
+                                omitted += 1;
+                            }
+                        }
+                    }
+                    "sheetData" => break,
+                    _ => {}
+                },
+                Event::Eof => break,
+                _ => {}
+            }
+            buf.clear();
+        }
+        Ok((kept, omitted))
+    })?;
+    let Some((kept, omitted)) = scanned else {
+        return Err(book_err(format!(
+            "not a readable xlsx workbook (no part `{part}`)"
+        )));
+    };
+    out.omitted = omitted;
+    let label_cells: Vec<CellPos> = kept
+        .iter()
+        .map(|((r, _), _)| CellPos {
+            sheet: real.clone(),
+            row: *r,
+            col: 0,
+        })
+        .collect::<HashSet<_>>()
+        .into_iter()
+        .collect();
+    let labels = read_positions(&mut pkg, &wb, &label_cells)?;
+    for (p, raw) in labels {
+        if let Raw::Text(_, t) = raw
+            && !t.trim().is_empty()
+        {
+            out.labels.insert(p.row, t);
+        }
+    }
+    out.numbers = kept
+        .into_iter()
+        .map(|((row, col), x)| {
+            (
+                CellPos {
+                    sheet: real.clone(),
+                    row,
+                    col,
+                },
+                x,
+            )
+        })
+        .collect();
+    Ok(out)
+}
+
 #[cfg(test)]
 mod tests;

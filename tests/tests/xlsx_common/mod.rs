@@ -48,9 +48,41 @@ pub fn tmp_dir(tag: &str) -> PathBuf {
     d
 }
 
+/// The external inputs of a worksheet's `use` statements, read relative
+/// to its folder (recursively), as the CLI reads them.
+pub fn used_externals(dir: &Path, parsed: &sheaf_engine::Parsed) -> sheaf_engine::Externals {
+    let mut ext = sheaf_engine::Externals::none();
+    for req in parsed.use_requests() {
+        let path = dir.join(&req.path);
+        let got = std::fs::read_to_string(&path)
+            .map_err(|e| format!("{}: {e}", path.display()))
+            .map(|text| {
+                let sub = sheaf_engine::Parsed::new(text.clone())
+                    .map(|p| used_externals(path.parent().unwrap(), &p))
+                    .unwrap_or_default();
+                sheaf_engine::UsedSource {
+                    name: req.path.clone(),
+                    path: path.display().to_string(),
+                    text,
+                    externals: sub,
+                }
+            });
+        ext.set_used(&req.path, got);
+    }
+    ext
+}
+
+/// A worksheet file checked with the worksheets it uses.
+pub fn model_of(path: &Path) -> Result<Model, Vec<sheaf_engine::Diagnostic>> {
+    let src = std::fs::read_to_string(path).unwrap();
+    let parsed = sheaf_engine::Parsed::new(src)?;
+    let ext = used_externals(path.parent().unwrap(), &parsed);
+    parsed.check(&ext)
+}
+
 pub fn load(path: &Path) -> (String, Model) {
     let src = std::fs::read_to_string(path).unwrap();
-    let mut m = Model::new(src.clone()).unwrap();
+    let mut m = model_of(path).unwrap_or_else(|d| panic!("{}: {d:#?}", path.display()));
     m.evaluate();
     assert!(
         m.runtime_errors().is_empty(),

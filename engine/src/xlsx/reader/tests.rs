@@ -226,6 +226,12 @@ fn bombs_fail_cleanly_under_limits() {
         .unwrap_err()
         .to_string();
     assert!(e.contains("inflates to more than 1 MiB"), "{e}");
+    // The scan for typed-over numbers reads the whole sheet: the same
+    // bound stops it.
+    let e = plain_numbers_with(&b, "S", small())
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("inflates to more than 1 MiB"), "{e}");
     // The same workbook, a cell near the top: fine (reading stops there).
     assert_eq!(read_cells_with(&b, &["S!A2"], small()).unwrap()[0], Ok(1.0));
     // One text run longer than the run limit.
@@ -353,4 +359,40 @@ fn date_format_codes() {
     assert!(!date_format_code("[Red]0.0"));
     assert!(!date_format_code("General"));
     assert!(!date_format_code("0.0\\s"));
+}
+
+#[test]
+fn plain_numbers_are_cells_without_formulas_kept_up_to_a_bound() {
+    let rows = r#"<row r="1"><c r="A1" t="inlineStr"><is><t>T1</t></is></c><c r="C1"><v>7</v></c><c r="E1"><f>C1*2</f><v>14</v></c><c r="F1" t="b"><v>1</v></c><c r="G1" s="1"><v>45000</v></c></row><row r="2"><c r="C2" t="n"><v>2.5</v></c><c r="D2" t="str"><f>"x"</f><v>x</v></c></row>"#;
+    let b = book(
+        &[("Other", &sheet("")), ("Calc", &sheet(rows))],
+        r#"<definedName name="q_x">Calc!$E$1</definedName><definedName name="q_y">Other!$A$1</definedName>"#,
+        None,
+        Some(STYLES),
+    );
+    let got = plain_numbers(&b, "calc").unwrap();
+    let at = |row, col| CellPos {
+        sheet: "Calc".into(),
+        row,
+        col,
+    };
+    // The formula, the boolean and the date are not plain numbers.
+    assert_eq!(got.numbers, vec![(at(0, 2), 7.0), (at(1, 2), 2.5)]);
+    assert_eq!(got.omitted, 0);
+    assert_eq!(got.names, vec![("q_x".to_string(), at(0, 4))]);
+    assert_eq!(got.labels.get(&0).map(String::as_str), Some("T1"));
+    assert_eq!(got.labels.get(&1), None);
+    assert_eq!(
+        plain_numbers(&b, "nosuch").unwrap(),
+        PlainNumbers::default()
+    );
+    // Beyond PLAIN_KEPT numbers are counted, not kept.
+    let mut many = String::new();
+    for r in 1..=PLAIN_KEPT + 5 {
+        many.push_str(&format!(r#"<row r="{r}"><c r="B{r}"><v>{r}</v></c></row>"#));
+    }
+    let b = book(&[("Calc", &sheet(&many))], "", None, None);
+    let got = plain_numbers(&b, "Calc").unwrap();
+    assert_eq!(got.numbers.len(), PLAIN_KEPT);
+    assert_eq!(got.omitted, 5);
 }
