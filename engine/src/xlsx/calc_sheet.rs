@@ -510,27 +510,29 @@ impl CalcWriter {
         Ok(())
     }
 
+    /// Notes under the table, each merged across the table's columns and
+    /// wrapped, so that no text runs past the last column: text that spills
+    /// over the edge widens the printed area and shrinks the whole sheet
+    /// on the page.
     fn foot(&mut self, l: &SheetLayout) -> XResult<()> {
         let mut row = self.row + 1;
-        for n in &l.report.states.notes {
-            self.ws.write_string_with_format(row, 0, n, &l.st.small)?;
+        let wide: f64 = WIDTHS.iter().sum();
+        let f =
+            l.st.small
+                .clone()
+                .set_text_wrap()
+                .set_align(FormatAlign::Top);
+        let basis = "Basis: input = editable value (the only unlocked cells); formula = live formula on the SI cells; \
+             engine = value computed by sheaf (no closed form), flagged when an input it depends on is edited; \
+             found = input solved by sheaf from a `find` condition (not editable; its stale flag is on the Cases sheet).";
+        let states = "State points: each value is a formula on the state's named SI cell (Data sheet); \
+             an engine value turns red when an input it depends on is edited.";
+        let notes = l.report.states.notes.iter().map(String::as_str);
+        for text in notes.chain([basis, states]) {
+            self.ws.merge_range(row, C_SYM, row, C_EXPR, text, &f)?;
+            self.ws.set_row_height(row, fit_height(text, wide))?;
             row += 1;
         }
-        self.ws.write_string_with_format(
-            row,
-            0,
-            "Basis: input = editable value (the only unlocked cells); formula = live formula on the SI cells; \
-             engine = value computed by sheaf (no closed form), flagged when an input it depends on is edited; \
-             found = input solved by sheaf from a `find` condition (not editable; its stale flag is on the Cases sheet).",
-            &l.st.small,
-        )?;
-        self.ws.write_string_with_format(
-            row + 1,
-            0,
-            "State points: each value is a formula on the state's named SI cell (Data sheet); \
-             an engine value turns red when an input it depends on is edited.",
-            &l.st.small,
-        )?;
         Ok(())
     }
 }
