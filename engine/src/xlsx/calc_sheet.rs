@@ -515,7 +515,6 @@ impl CalcWriter {
     /// over the edge widens the printed area and shrinks the whole sheet
     /// on the page.
     fn foot(&mut self, l: &SheetLayout) -> XResult<()> {
-        let mut row = self.row + 1;
         let wide: f64 = WIDTHS.iter().sum();
         let f =
             l.st.small
@@ -528,10 +527,9 @@ impl CalcWriter {
         let states = "State points: each value is a formula on the state's named SI cell (Data sheet); \
              an engine value turns red when an input it depends on is edited.";
         let notes = l.report.states.notes.iter().map(String::as_str);
-        for text in notes.chain([basis, states]) {
+        for (row, text) in (self.row + 1..).zip(notes.chain([basis, states])) {
             self.ws.merge_range(row, C_SYM, row, C_EXPR, text, &f)?;
             self.ws.set_row_height(row, fit_height(text, wide))?;
-            row += 1;
         }
         Ok(())
     }
