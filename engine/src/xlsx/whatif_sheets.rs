@@ -5,7 +5,8 @@
 //! against the swept input, axis titles with units).
 
 use rust_xlsxwriter::{
-    Chart, ChartType, Color, Format, FormatBorder, Formula, Workbook, Worksheet, XlsxError,
+    Chart, ChartType, Color, Format, FormatAlign, FormatBorder, Formula, Workbook, Worksheet,
+    XlsxError,
 };
 
 use crate::check::{DisplayUnit, NodeKind};
@@ -14,6 +15,7 @@ use crate::report::{Block, QuantityRow, Report};
 use crate::units;
 
 use super::names::{self, NameKind};
+use super::style::{page_setup, sig_format};
 
 /// Add the Cases sheet (when the worksheet has cases or finds) and a
 /// sheet per sweep. `model` is the evaluated model the package is written
@@ -115,8 +117,18 @@ fn cases_sheet(model: &Model) -> Result<Worksheet, XlsxError> {
     ws.write_string_with_format(hr, 1, "Unit", &s.header)?;
     for (c, (name, desc, _)) in runs.iter().enumerate() {
         ws.write_string_with_format(hr, 2 + c as u16, name, &s.header)?;
-        ws.write_string_with_format(hr + 1, 2 + c as u16, desc, &s.note)?;
+        ws.write_string_with_format(
+            hr + 1,
+            2 + c as u16,
+            desc,
+            &s.note.clone().set_text_wrap().set_align(FormatAlign::Top),
+        )?;
     }
+    let longest = runs.iter().map(|r| r.1.as_str()).max_by_key(|d| d.len());
+    ws.set_row_height(
+        hr + 1,
+        super::style::fit_height(longest.unwrap_or(""), 16.0),
+    )?;
     ws.set_column_width(0, 18)?;
     ws.set_column_width(1, 11)?;
     for c in 0..runs.len() {
@@ -150,7 +162,9 @@ fn cases_sheet(model: &Model) -> Result<Worksheet, XlsxError> {
                 (_, _, Some(x)) => {
                     ws.write_string_with_format(r, cc, if x { "yes" } else { "no" }, f)?
                 }
-                (Some(v), _, _) => ws.write_number_with_format(r, cc, v, f)?,
+                (Some(v), _, _) => {
+                    ws.write_number_with_format(r, cc, v, &f.clone().set_num_format(sig_format(v)))?
+                }
                 (None, Some(t), _) => ws.write_string_with_format(r, cc, t, f)?,
                 (None, None, _) => ws.write_string_with_format(
                     r,
@@ -210,7 +224,12 @@ fn cases_sheet(model: &Model) -> Result<Worksheet, XlsxError> {
             ws.write_string(r, 0, &f.input_name)?;
             ws.write_string(r, 1, &unit)?;
             if v.is_finite() {
-                ws.write_number(r, 2, v)?;
+                ws.write_number_with_format(
+                    r,
+                    2,
+                    v,
+                    &s.plain.clone().set_num_format(sig_format(v)),
+                )?;
             } else {
                 ws.write_string_with_format(r, 2, "not found", &s.fail)?;
             }
@@ -243,7 +262,7 @@ fn cases_sheet(model: &Model) -> Result<Worksheet, XlsxError> {
                 .map(|n| names::name_of(NameKind::Differs, &n.name))
                 .collect();
             if !conds.is_empty() {
-                ws.write_formula(
+                ws.write_formula_with_format(
                     r,
                     7,
                     Formula::new(format!(
@@ -251,11 +270,17 @@ fn cases_sheet(model: &Model) -> Result<Worksheet, XlsxError> {
                         conds.join(",")
                     ))
                     .set_result(""),
+                    &s.fail,
                 )?;
             }
             r += 1;
         }
     }
+    // Print: landscape, one page wide, over the table's columns only (the
+    // notes run past them on screen).
+    page_setup(&mut ws, true);
+    let last_col = (1 + runs.len() as u16).max(7);
+    ws.set_print_area(0, 0, r, last_col)?;
     Ok(ws)
 }
 
@@ -337,7 +362,7 @@ fn sweep_sheet(model: &Model, k: usize) -> Result<Worksheet, XlsxError> {
         }
     });
     for (r, c, v) in cells {
-        ws.write_number(r, c, v)?;
+        ws.write_number_with_format(r, c, v, &s.plain.clone().set_num_format(sig_format(v)))?;
     }
     for (r, n) in notes {
         ws.write_string_with_format(r, ncol + 1, n, &s.fail)?;
@@ -359,5 +384,10 @@ fn sweep_sheet(model: &Model, k: usize) -> Result<Worksheet, XlsxError> {
         chart.set_width(560).set_height(300);
         ws.insert_chart(last + 3 + 16 * c as u32, 0, &chart)?;
     }
+    // Print: one page wide over the table (and the charts below it, about
+    // five columns wide), not the note of row 2 that runs past them.
+    page_setup(&mut ws, false);
+    let last_row = last + 3 + 16 * sweep.show.len() as u32;
+    ws.set_print_area(0, 0, last_row, (ncol + 1).max(5))?;
     Ok(ws)
 }
