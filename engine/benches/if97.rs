@@ -84,6 +84,16 @@ fn pairs(c: &mut Criterion) {
             b.iter(|| if97::state_tv(black_box(t), black_box(st.v)).map(|s| s.p))
         });
     }
+    // Wet (h, s): x = 0.9 starts from T_sat(h,s) inside its range, x = 0.1
+    // (s < s''(623.15 K)) from it extrapolated.
+    for x in [0.9, 0.1] {
+        let Ok(st) = if97::state_px(1e6, x) else {
+            continue;
+        };
+        g.bench_function(format!("hs wet 1MPa x={x}"), |b| {
+            b.iter(|| if97::state_hs(black_box(st.h), black_box(st.s)).map(|s| s.p))
+        });
+    }
     g.finish();
 }
 

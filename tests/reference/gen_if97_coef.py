@@ -2,8 +2,9 @@
 """Transcribe the IAPWS-IF97 coefficient tables into Rust source.
 
 The coefficients are those of the published standard IAPWS R7-97(2012) and
-of the supplementary release IAPWS SR3-03(2014) (backward equations for
-region 3). They are read here from the Python package `iapws` (version
+of the supplementary releases IAPWS SR3-03(2014) (backward equations for
+region 3), SR2-01(2014) (p(h,s) for regions 1 and 2) and SR4-04(2014)
+(p(h,s) for region 3, the region boundaries in h and s, T_sat(h,s)). They are read here from the Python package `iapws` (version
 printed in the generated header), module `iapws._iapws97Constants`, which
 holds the same tables; this script only reformats them. Every table is
 checked in the Rust unit tests against the verification values printed in
@@ -43,6 +44,26 @@ TABLES = [
     ("R3B_T_PS", "Backward3b_T_Ps", "IAPWS SR3-03(2014), Table 11: sub-region 3b, T(p,s), Eq. (7)", "ij"),
     ("R3A_V_PS", "Backward3a_v_Ps", "IAPWS SR3-03(2014), Table 13: sub-region 3a, v(p,s), Eq. (8)", "ij"),
     ("R3B_V_PS", "Backward3b_v_Ps", "IAPWS SR3-03(2014), Table 14: sub-region 3b, v(p,s), Eq. (9)", "ij"),
+    # IAPWS SR2-01(2014), "Revised Supplementary Release on Backward Equations
+    # for Pressure as a Function of Enthalpy and Entropy p(h,s) for Regions 1
+    # and 2" (cited by equation number).
+    ("R1_P_HS", "Backward1_P_hs", "IAPWS SR2-01(2014), Eq. (1): region 1, p(h,s)", "ij"),
+    ("R2A_P_HS", "Backward2a_P_hs", "IAPWS SR2-01(2014), Eq. (3): sub-region 2a, p(h,s)", "ij"),
+    ("R2B_P_HS", "Backward2b_P_hs", "IAPWS SR2-01(2014), Eq. (4): sub-region 2b, p(h,s)", "ij"),
+    ("R2C_P_HS", "Backward2c_P_hs", "IAPWS SR2-01(2014), Eq. (5): sub-region 2c, p(h,s)", "ij"),
+    # IAPWS SR4-04(2014), "Revised Supplementary Release on Backward Equations
+    # p(h,s) for Region 3, Equations as a Function of h and s for the Region
+    # Boundaries, and an Equation Tsat(h,s) for Region 4" (cited by equation
+    # number).
+    ("R3A_P_HS", "Backward3a_P_hs", "IAPWS SR4-04(2014), Eq. (1): sub-region 3a, p(h,s)", "ij"),
+    ("R3B_P_HS", "Backward3b_P_hs", "IAPWS SR4-04(2014), Eq. (2): sub-region 3b, p(h,s)", "ij"),
+    ("H1_SAT_S", "h1_s", "IAPWS SR4-04(2014), Eq. (3): saturated liquid h'_1(s), regions 1/4", "ij"),
+    ("H3A_SAT_S", "h3a_s", "IAPWS SR4-04(2014), Eq. (4): saturated liquid h'_3a(s), regions 3a/4", "ij"),
+    ("H2AB_SAT_S", "h2ab_s", "IAPWS SR4-04(2014), Eq. (5): saturated vapour h''_2ab(s), regions 2a-2b/4", "ij"),
+    ("H2C3B_SAT_S", "h2c3b_s", "IAPWS SR4-04(2014), Eq. (6): saturated vapour h''_2c3b(s), regions 2c-3b/4", "ij"),
+    ("H_B13_S", "h13_s", "IAPWS SR4-04(2014), Eq. (7): boundary B13 of regions 1 and 3, h(s)", "ij"),
+    ("T_B23_HS", "t_hs", "IAPWS SR4-04(2014), Eq. (8): boundary B23 of regions 2 and 3, T(h,s)", "ij"),
+    ("TSAT_HS", "Backward4_T_hs", "IAPWS SR4-04(2014), Eq. (9): region 4, T_sat(h,s)", "ij"),
 ]
 
 

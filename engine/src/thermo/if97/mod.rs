@@ -24,7 +24,8 @@
 //!   single-phase cp, cv and w of that phase. A (T, p) pair on the
 //!   saturation line is refused (it does not fix the state; give x).
 //! - (h, s), (T, s), (T, v): solved for the pressure on the same forward
-//!   equations (module `pairs`).
+//!   equations (module `pairs`); (h, s) starts from the backward equations
+//!   p(h,s) and T_sat(h,s) of IAPWS SR2-01(2014) and SR4-04(2014).
 //! - Speed of sound w for every single-phase state (IF97 Tables 3, 12, 31,
 //!   39).
 //! - The equations of neighbouring regions agree at their boundaries only to
@@ -42,6 +43,8 @@ mod pairs;
 mod sat;
 #[cfg(test)]
 mod tests;
+#[cfg(test)]
+mod tests_hs;
 #[cfg(test)]
 mod tests_pairs;
 
