@@ -169,7 +169,8 @@ impl RealFluid for Water {
     }
     fn citation(&self) -> &'static str {
         "IAPWS R7-97(2012), Revised Release on the IAPWS Industrial Formulation 1997 for the \
-         Thermodynamic Properties of Water and Steam, with the backward equations of IAPWS SR3-03(2014)"
+         Thermodynamic Properties of Water and Steam, with the backward equations of IAPWS \
+         SR2-01(2014), SR3-03(2014) and SR4-04(2014) as starting values"
     }
     fn range(&self) -> &'static str {
         RANGE
