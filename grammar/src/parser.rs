@@ -22,6 +22,8 @@ use crate::{
     MAX_CHAIN_OPERANDS, MAX_NESTING, MAX_SOURCE_BYTES, MAX_STATEMENT_BYTES, ParseError, line_col,
 };
 
+mod hand;
+
 #[derive(Parser)]
 #[grammar = "worksheet.pest"]
 struct WsParser;
@@ -375,7 +377,9 @@ fn parse_line(src: &str, norm: &str, l: Logical) -> Result<ParsedLine, ParseErro
 
     let depth = prescan(text, l.start, true)?;
     if depth <= INLINE_DEPTH
-        && let Some(p) = fast_statement(src, text, l.start, content)
+        && let Some(p) = dispatch(content)
+            .and_then(|ctx| hand::statement(src, text, l.start, ctx))
+            .or_else(|| fast_statement(src, text, l.start, content))
     {
         return Ok(p);
     }
@@ -2103,6 +2107,8 @@ mod fast_path_tests {
     /// keyword that the lean `f_ident` took for a name sent the fast parse
     /// down a dead end): correct, only slower.
     static FALLBACKS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+    /// Lines the hand-written parser accepted.
+    static HAND: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
 
     fn check_line(line: &str) -> bool {
         let Some(slow) = slow(line) else {
@@ -2111,6 +2117,22 @@ mod fast_path_tests {
         let f = first_non_ws(line.as_bytes()).unwrap();
         let content = &line[f..trim_ws_end(line.as_bytes()).len()];
         let fast = fast_statement(line, line, 0, content);
+        // The hand-written first try: whatever it accepts, the entry rules
+        // accept with the same tree.
+        let hand = dispatch(content).and_then(|ctx| hand::statement(line, line, 0, ctx));
+        if let Some(h) = &hand {
+            HAND.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+            match &slow {
+                Ok(s) => {
+                    assert_eq!(s.stmt, h.stmt, "hand parser, line {line:?}");
+                    assert_eq!(
+                        s.trailing_comment, h.trailing_comment,
+                        "hand parser, line {line:?}"
+                    );
+                }
+                Err(e) => panic!("hand parser accepts {line:?}, the entry rules say {e:?}"),
+            }
+        }
         match (&slow, &fast) {
             (Ok(s), Some(q)) => {
                 assert_eq!(s.stmt, q.stmt, "line {line:?}");
@@ -2150,7 +2172,11 @@ mod fast_path_tests {
         // The soup must exercise both outcomes (counts printed with
         // --nocapture; the bounds only guard against a degenerate soup).
         let fallbacks = FALLBACKS.load(std::sync::atomic::Ordering::Relaxed);
-        println!("{accepted} of {n} lines accepted, {fallbacks} of them by the entry rules only");
+        let hand = HAND.load(std::sync::atomic::Ordering::Relaxed);
+        println!(
+            "{accepted} of {n} lines accepted, {fallbacks} of them by the entry rules only, {hand} by the hand-written parser"
+        );
+        assert!(hand > accepted / 4, "{hand}");
         assert!(accepted > n / 50 && accepted < n - n / 50, "{accepted}");
         assert!(fallbacks < accepted / 20, "{fallbacks}");
     }
