@@ -2181,6 +2181,109 @@ mod fast_path_tests {
         assert!(fallbacks < accepted / 20, "{fallbacks}");
     }
 
+    /// Well-formed lines of the kinds the hand-written parser knows, with
+    /// random blanks, plus small damage (a dropped or doubled character):
+    /// whatever it accepts, the entry rules accept with the same tree.
+    #[test]
+    fn hand_parser_agrees_on_generated_lines() {
+        let mut seed: u64 = 0x0dd_ba11_cafe_0002;
+        let mut next = move |n: usize| {
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            ((seed >> 33) as usize) % n
+        };
+        fn build_expr(next: &mut dyn FnMut(usize) -> usize, depth: usize, out: &mut String) {
+            const WS: [&str; 5] = ["", " ", " ", "  ", "\t"];
+            const NAMES: [&str; 8] = ["x", "p_2", "T1", "_a", "inx", "st.h", "orb", "e5"];
+            const NUMS: [&str; 9] = ["1", "2.5", ".5", "1e3", "3E-2", "2.", "7e", "0", "12.25e+2"];
+            const UNITS: [&str; 12] = [
+                "", "", " m", "kg", " m^3/h", " kJ/kg", " m/s^2", " %", " in", " bar*s", " K^-1",
+                " e5",
+            ];
+            const OPS: [&str; 11] = ["+", "-", "*", "/", "^", "<", "<=", "==", "!=", ">", ">="];
+            let ws = |next: &mut dyn FnMut(usize) -> usize| WS[next(WS.len())];
+            for _ in 0..next(4).saturating_sub(2) {
+                out.push_str(if next(2) == 0 { "-" } else { "+" });
+                out.push_str(ws(next));
+            }
+            match if depth > 3 { next(3) } else { next(7) } {
+                0 => out.push_str(NAMES[next(NAMES.len())]),
+                1 => {
+                    out.push_str(NUMS[next(NUMS.len())]);
+                    out.push_str(UNITS[next(UNITS.len())]);
+                }
+                2 => out.push_str("\"s\""),
+                3 | 4 => {
+                    out.push('(');
+                    out.push_str(ws(next));
+                    build_expr(next, depth + 1, out);
+                    out.push_str(ws(next));
+                    out.push(')');
+                }
+                _ => {
+                    out.push_str(["f", "sqrt", "max"][next(3)]);
+                    out.push_str(ws(next));
+                    out.push('(');
+                    for k in 0..next(4) {
+                        if k > 0 {
+                            out.push(',');
+                        }
+                        out.push_str(ws(next));
+                        if next(3) == 0 {
+                            out.push_str("k:");
+                            out.push_str(ws(next));
+                        }
+                        build_expr(next, depth + 1, out);
+                    }
+                    if next(4) == 0 {
+                        out.push(',');
+                    }
+                    out.push(')');
+                }
+            }
+            if next(5) == 0 {
+                out.push_str(ws(next));
+                out.push_str(".T");
+            }
+            if depth < 4 && next(3) > 0 {
+                out.push_str(ws(next));
+                out.push_str(OPS[next(OPS.len())]);
+                out.push_str(ws(next));
+                build_expr(next, depth + 1, out);
+            }
+        }
+        let starts = ["x = ", "  input p = ", "check ", "y=", "z\t= "];
+        let ends = ["", "", " \"desc\"", " // note ", "\"d\" //", "  "];
+        let mut hand = 0;
+        let n = 30_000;
+        for _ in 0..n {
+            let mut line = starts[next(starts.len())].to_string();
+            build_expr(&mut next, 0, &mut line);
+            line.push_str(ends[next(ends.len())]);
+            if next(4) == 0 && !line.is_empty() {
+                // Damage: drop or double one character.
+                let mut k = next(line.len());
+                while !line.is_char_boundary(k) {
+                    k -= 1;
+                }
+                if next(2) == 0 {
+                    line.remove(k);
+                } else {
+                    let c = line[k..].chars().next().unwrap_or(' ');
+                    line.insert(k, c);
+                }
+            }
+            let before = HAND.load(std::sync::atomic::Ordering::Relaxed);
+            check_line(&line);
+            if HAND.load(std::sync::atomic::Ordering::Relaxed) > before {
+                hand += 1;
+            }
+        }
+        println!("{hand} of {n} generated lines accepted by the hand-written parser");
+        assert!(hand > n / 4, "{hand}");
+    }
+
     #[test]
     fn is_keyword_matches_the_list() {
         for k in KEYWORDS {
