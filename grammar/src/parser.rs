@@ -2263,7 +2263,19 @@ mod fast_path_tests {
                 build_expr(next, depth + 1, out);
             }
         }
-        let starts = ["x = ", "  input p = ", "check ", "y=", "z\t= "];
+        let starts = [
+            "x = ",
+            "  input p = ",
+            "check ",
+            "y=",
+            "z\t= ",
+            "q: kJ/kg = ",
+            "q :kJ/(kg K)= ",
+            "q: kg m ^2 / s*W = ",
+            "q: 1/s = ",
+            "q: (m/s)^2 = ",
+            "q: m to = ",
+        ];
         let ends = ["", "", " \"desc\"", " // note ", "\"d\" //", "  "];
         let mut hand = 0;
         let n = 30_000;

@@ -116,8 +116,17 @@ impl Hand<'_, '_> {
             Ctx::Define => {
                 let name = self.ident()?;
                 self.skip_ws();
+                // `NAME: UNIT = ...`
+                let unit = if self.peek()? == b':' {
+                    self.pos += 1;
+                    self.skip_ws();
+                    let (u, _) = self.unit_loose()?;
+                    self.skip_ws();
+                    Some(u)
+                } else {
+                    None
+                };
                 if self.peek()? != b'=' {
-                    // `NAME: UNIT = ...` is left to the pest rules.
                     return None;
                 }
                 self.pos += 1;
@@ -125,7 +134,7 @@ impl Hand<'_, '_> {
                 let description = self.description()?;
                 StatementKind::Define {
                     name,
-                    unit: None,
+                    unit,
                     value,
                     description,
                 }
@@ -506,14 +515,20 @@ impl Hand<'_, '_> {
                 _ => break,
             };
             match self.at(1) {
-                Some(c) if is_ident_start(c) || c == b'%' => {}
-                Some(b'(') => return None,
+                Some(c) if is_ident_start(c) || c == b'%' || c == b'(' => {}
                 Some(c) if !c.is_ascii() => return None,
                 _ => break,
             }
             let save = (self.pos, self.last_end);
             self.pos += 1;
-            let Some((rhs, rd)) = self.unit_factor()? else {
+            let factor = if self.peek() == Some(b'(') {
+                // `(kg*K)`: a group, its inside written loose.
+                let g = self.unit_group()?;
+                Some(self.unit_pow(g, false)?)
+            } else {
+                self.unit_factor()?
+            };
+            let Some((rhs, rd)) = factor else {
                 (self.pos, self.last_end) = save;
                 break;
             };
@@ -562,7 +577,16 @@ impl Hand<'_, '_> {
             kind: UnitKind::Atom(name),
             span: aspan,
         };
-        // `^INT`
+        Some(Some(self.unit_pow((atom, 0), false)?))
+    }
+
+    /// `^INT` after a unit factor (blanks before `^` allowed when
+    /// `loose`), if there is one.
+    fn unit_pow(&mut self, base: UNode, loose: bool) -> Option<UNode> {
+        let save = self.pos;
+        if loose {
+            self.skip_ws();
+        }
         if self.peek() == Some(b'^') {
             let mut e = self.pos + 1;
             if self.bytes.get(e) == Some(&b'-') {
@@ -575,17 +599,161 @@ impl Hand<'_, '_> {
                 }
                 let n = self.text[self.pos + 1..z].parse::<i32>().ok()?;
                 self.token(z - self.pos);
-                let span = self.span(a, z);
-                let d = self.b.check_depth(1, span).ok()?;
-                return Some(Some((
+                let span = Span::new(base.0.span.start, self.b.base + z);
+                let d = self.b.check_depth(base.1 + 1, span).ok()?;
+                return Some((
                     UnitExpr {
-                        kind: UnitKind::Pow(Box::new(atom), n),
+                        kind: UnitKind::Pow(Box::new(base.0), n),
                         span,
                     },
                     d,
-                )));
+                ));
             }
         }
-        Some(Some((atom, 0)))
+        self.pos = save;
+        Some(base)
+    }
+
+    /// `( UNIT )` with the `(` next; the inside is written loose. The
+    /// group's span includes its parentheses.
+    fn unit_group(&mut self) -> Option<UNode> {
+        self.depth += 1;
+        if self.depth > INLINE_DEPTH {
+            return None;
+        }
+        let a = self.pos;
+        self.token(1);
+        self.skip_ws();
+        let (u, d) = self.unit_loose()?;
+        self.skip_ws();
+        if self.peek()? != b')' {
+            return None;
+        }
+        self.token(1);
+        self.depth -= 1;
+        Some((
+            UnitExpr {
+                kind: u.kind,
+                span: self.span(a, self.pos),
+            },
+            d,
+        ))
+    }
+
+    /// A unit written loose (annotations, groups): blanks allowed, a blank
+    /// between factors multiplies and binds tighter than `*` and `/`.
+    fn unit_loose(&mut self) -> Option<UNode> {
+        let mut acc = self.unit_juxt()?;
+        loop {
+            let save = self.pos;
+            self.skip_ws();
+            let div = match (self.peek(), self.at(1)) {
+                (Some(b'*'), _) => false,
+                (Some(b'/'), Some(b'/')) => {
+                    self.pos = save;
+                    break;
+                }
+                (Some(b'/'), _) => true,
+                _ => {
+                    self.pos = save;
+                    break;
+                }
+            };
+            self.pos += 1;
+            self.skip_ws();
+            let (rhs, rd) = self.unit_juxt()?;
+            let (lhs, ld) = acc;
+            let s = lhs.span.join(rhs.span);
+            let d = self.b.check_depth(ld.max(rd) + 1, rhs.span).ok()?;
+            let kind = if div {
+                UnitKind::Div(Box::new(lhs), Box::new(rhs))
+            } else {
+                UnitKind::Mul(Box::new(lhs), Box::new(rhs))
+            };
+            acc = (UnitExpr { kind, span: s }, d);
+        }
+        Some(acc)
+    }
+
+    /// Unit factors side by side (multiplied).
+    fn unit_juxt(&mut self) -> Option<UNode> {
+        let mut acc = self.unit_loose_factor()??;
+        loop {
+            let save = (self.pos, self.last_end);
+            self.skip_ws();
+            let Some((rhs, rd)) = self.unit_loose_factor()? else {
+                (self.pos, self.last_end) = save;
+                break;
+            };
+            let (lhs, ld) = acc;
+            let s = lhs.span.join(rhs.span);
+            let d = self.b.check_depth(ld.max(rd) + 1, rhs.span).ok()?;
+            acc = (
+                UnitExpr {
+                    kind: UnitKind::Mul(Box::new(lhs), Box::new(rhs)),
+                    span: s,
+                },
+                d,
+            );
+        }
+        Some(acc)
+    }
+
+    /// A factor of a loose unit: a symbol, `1` or a group, and its power.
+    fn unit_loose_factor(&mut self) -> Option<Option<UNode>> {
+        let base = match self.peek() {
+            Some(b'(') => self.unit_group()?,
+            Some(b'1')
+                if !self
+                    .at(1)
+                    .is_some_and(|c| is_ident_char(c) || c == b'.' || !c.is_ascii()) =>
+            {
+                let span = self.token(1);
+                (
+                    UnitExpr {
+                        kind: UnitKind::One,
+                        span,
+                    },
+                    0,
+                )
+            }
+            Some(b'1') if self.at(1).is_some_and(|c| !c.is_ascii()) => return None,
+            _ => {
+                // A symbol: its power is read loose below.
+                let a = self.pos;
+                let Some(c) = self.peek() else {
+                    return Some(None);
+                };
+                let z = if c == b'%' {
+                    a + 1
+                } else if is_ident_start(c) {
+                    let mut z = a + 1;
+                    while self.bytes.get(z).copied().is_some_and(is_ident_char) {
+                        z += 1;
+                    }
+                    if self.bytes.get(z).is_some_and(|c| !c.is_ascii()) {
+                        return None;
+                    }
+                    if is_unit_keyword(&self.text[a..z]) {
+                        return None;
+                    }
+                    z
+                } else if !c.is_ascii() {
+                    return None;
+                } else {
+                    return Some(None);
+                };
+                let name = self.text[a..z].to_string();
+                let span = self.token(z - a);
+                (
+                    UnitExpr {
+                        kind: UnitKind::Atom(name),
+                        span,
+                    },
+                    0,
+                )
+            }
+        };
+        Some(Some(self.unit_pow(base, true)?))
     }
 }
