@@ -140,9 +140,18 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
     let mut first_heading = true;
     let mut in_states = false;
     let table = state_text_table(report, sig);
+    // Row of each state's node (a map: a look-up per quantity stays cheap
+    // with many states).
+    let row_of: std::collections::HashMap<usize, usize> = table
+        .rows
+        .iter()
+        .enumerate()
+        .rev()
+        .map(|(k, (n, _))| (*n, k))
+        .collect();
     for b in &report.blocks {
         let state_row = match b {
-            Block::Quantity(q) => table.rows.iter().position(|(n, _)| *n == q.node),
+            Block::Quantity(q) => row_of.get(&q.node).copied(),
             _ => None,
         };
         if let Some(k) = state_row {
@@ -697,11 +706,18 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
         }
     };
     let states = &report.states;
+    // Row of each state's node (first row wins, as a search would find).
+    let row_of: std::collections::HashMap<usize, usize> = states
+        .rows
+        .iter()
+        .enumerate()
+        .rev()
+        .map(|(k, r)| (r.node, k))
+        .collect();
     let mut in_states = false;
     let mut last_note = false;
     for b in &report.blocks {
-        let is_state =
-            matches!(b, Block::Quantity(q) if states.rows.iter().any(|r| r.node == q.node));
+        let is_state = matches!(b, Block::Quantity(q) if row_of.contains_key(&q.node));
         if in_states && !is_state {
             out.push('\n');
             in_states = false;
@@ -733,13 +749,13 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
                     out.push_str(&format!("> {}\n\n", md_escape(t)));
                 }
             }
-            Block::Quantity(q) if states.rows.iter().any(|r| r.node == q.node) => {
+            Block::Quantity(q) if row_of.contains_key(&q.node) => {
                 if !in_states {
                     close(&mut out, &mut in_table);
                     out.push_str(&md_state_header(states));
                     in_states = true;
                 }
-                if let Some(r) = states.rows.iter().find(|r| r.node == q.node) {
+                if let Some(r) = row_of.get(&q.node).map(|&k| &states.rows[k]) {
                     let mut line = format!("| {} |", md_code(&r.name));
                     for v in &r.cells {
                         line.push_str(&format!(" {} |", state_cell(*v, sig)));

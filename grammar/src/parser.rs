@@ -228,8 +228,9 @@ fn parse_lines_with<T>(
     let (norm, lines) = split_lines(src);
     let mut out = Vec::with_capacity(lines.len());
     let mut errors = Vec::new();
+    let mut scratch = hand::Scratch::default();
     for l in lines {
-        match parse_line(src, &norm, l) {
+        match parse_line(src, &norm, l, &mut scratch) {
             Ok(p) if errors.is_empty() => out.push(keep(p)),
             Ok(_) => {}
             Err(e) => errors.push(e),
@@ -328,7 +329,12 @@ fn nesting_error(span: Span) -> ParseError {
     }
 }
 
-fn parse_line(src: &str, norm: &str, l: Logical) -> Result<ParsedLine, ParseError> {
+fn parse_line(
+    src: &str,
+    norm: &str,
+    l: Logical,
+    scratch: &mut hand::Scratch,
+) -> Result<ParsedLine, ParseError> {
     let text = &norm[l.start..l.end];
     check_length(text, l.start)?;
     let Some(f) = first_non_ws(text.as_bytes()) else {
@@ -379,7 +385,9 @@ fn parse_line(src: &str, norm: &str, l: Logical) -> Result<ParsedLine, ParseErro
     // characters outside strings and comments and at most `INLINE_DEPTH`
     // levels of parentheses (it counts them), so the prescan would have
     // passed it and the fast rules would have built the same tree.
-    if let Some(p) = dispatch(content).and_then(|ctx| hand::statement(src, text, l.start, ctx)) {
+    if let Some(p) =
+        dispatch(content).and_then(|ctx| hand::statement(src, text, l.start, ctx, scratch))
+    {
         return Ok(p);
     }
     let depth = prescan(text, l.start, true)?;
@@ -2121,7 +2129,8 @@ mod fast_path_tests {
         // same tree.
         let hand = first_non_ws(line.as_bytes()).and_then(|f| {
             let content = &line[f..trim_ws_end(line.as_bytes()).len()];
-            dispatch(content).and_then(|ctx| hand::statement(line, line, 0, ctx))
+            dispatch(content)
+                .and_then(|ctx| hand::statement(line, line, 0, ctx, &mut hand::Scratch::default()))
         });
         let Some(slow) = slow(line) else {
             assert!(hand.is_none(), "hand parser accepts {line:?}");

@@ -30,8 +30,20 @@ fn is_ident_char(c: u8) -> bool {
     c.is_ascii_alphanumeric() || c == b'_'
 }
 
+/// The operator-precedence stacks, kept from line to line: nested
+/// expressions use the part above their caller's, so a line allocates
+/// nothing but its tree (temporary vectors freed between tree nodes would
+/// leave holes that scatter the checker's later allocations).
+#[derive(Default)]
+pub(super) struct Scratch {
+    out: Vec<Node>,
+    chains: Vec<usize>,
+    ops: Vec<StackOp>,
+}
+
 struct Hand<'a, 'b> {
     b: &'a Builder<'b>,
+    s: &'a mut Scratch,
     text: &'a str,
     bytes: &'a [u8],
     pos: usize,
@@ -44,10 +56,21 @@ struct Hand<'a, 'b> {
 
 /// Parses a statement line of kind `ctx` (definitions, `input`, `check`)
 /// when it is in the subset this parser knows; `None` otherwise.
-pub(super) fn statement(src: &str, text: &str, start: usize, ctx: Ctx) -> Option<ParsedLine> {
+pub(super) fn statement(
+    src: &str,
+    text: &str,
+    start: usize,
+    ctx: Ctx,
+    scratch: &mut Scratch,
+) -> Option<ParsedLine> {
     let b = Builder { base: start, src };
+    // Left over from a line given up half-way.
+    scratch.out.clear();
+    scratch.chains.clear();
+    scratch.ops.clear();
     let mut h = Hand {
         b: &b,
+        s: scratch,
         text,
         bytes: text.as_bytes(),
         pos: 0,
@@ -229,9 +252,8 @@ impl Hand<'_, '_> {
     /// An expression: operands and infix operators, precedence applied
     /// as in [`Builder::expr`] (same stacks, same `reduce`).
     fn expr(&mut self) -> Option<Node> {
-        let mut out: Vec<Node> = Vec::new();
-        let mut chains: Vec<usize> = Vec::new();
-        let mut ops: Vec<StackOp> = Vec::new();
+        // This expression's part of the stacks starts here.
+        let (out0, chains0, ops0) = (self.s.out.len(), self.s.chains.len(), self.s.ops.len());
         let mut last_add: Option<Span> = None;
         loop {
             // Prefix operators.
@@ -249,7 +271,7 @@ impl Hand<'_, '_> {
                 }
                 last_add = None;
                 let span = self.token(1);
-                ops.push(StackOp::Prefix { op, span });
+                self.s.ops.push(StackOp::Prefix { op, span });
             }
             // The operand and its fields.
             let mut node = self.primary()?;
@@ -278,8 +300,8 @@ impl Hand<'_, '_> {
                     d,
                 );
             }
-            chains.push(1);
-            out.push(node);
+            self.s.chains.push(1);
+            self.s.out.push(node);
             // An infix operator, or the end of the expression.
             self.skip_ws();
             let (op, n) = match (self.peek(), self.at(1)) {
@@ -301,23 +323,31 @@ impl Hand<'_, '_> {
             last_add = matches!(op, Infix::Bin(BinOp::Add)).then_some(sp);
             let prec = infix_prec(op);
             let right_assoc = matches!(op, Infix::Bin(BinOp::Pow));
-            while let Some(top) = ops.last() {
+            while self.s.ops.len() > ops0
+                && let Some(top) = self.s.ops.last()
+            {
                 let tp = top.prec();
                 if tp > prec || (tp == prec && !right_assoc) {
-                    self.b.reduce(&mut out, &mut chains, &mut ops).ok()?;
+                    self.reduce()?;
                 } else {
                     break;
                 }
             }
-            ops.push(StackOp::Infix { op, span: sp });
+            self.s.ops.push(StackOp::Infix { op, span: sp });
         }
-        while !ops.is_empty() {
-            self.b.reduce(&mut out, &mut chains, &mut ops).ok()?;
+        while self.s.ops.len() > ops0 {
+            self.reduce()?;
         }
-        match (out.pop(), out.is_empty()) {
-            (Some(n), true) => Some(n),
-            _ => None,
+        if self.s.out.len() != out0 + 1 {
+            return None;
         }
+        self.s.chains.truncate(chains0);
+        self.s.out.pop()
+    }
+
+    fn reduce(&mut self) -> Option<()> {
+        let s = &mut *self.s;
+        self.b.reduce(&mut s.out, &mut s.chains, &mut s.ops).ok()
     }
 
     fn primary(&mut self) -> Option<Node> {
