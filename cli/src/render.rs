@@ -124,9 +124,20 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
         .max()
         .unwrap_or(4)
         .max(4);
-    let wv = rows
+    // The value text of every quantity block with a value, formatted once
+    // (for the column width and for the line).
+    let vtexts: Vec<Option<String>> = report
+        .blocks
         .iter()
-        .map(|r| value_text(r, sig).chars().count())
+        .map(|b| match b {
+            Block::Quantity(q) if q.value.is_some() => Some(value_text(q, sig)),
+            _ => None,
+        })
+        .collect();
+    let wv = vtexts
+        .iter()
+        .flatten()
+        .map(|v| v.chars().count())
         .max()
         .unwrap_or(5)
         .clamp(5, 28);
@@ -149,7 +160,7 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
         .rev()
         .map(|(k, (n, _))| (*n, k))
         .collect();
-    for b in &report.blocks {
+    for (bi, b) in report.blocks.iter().enumerate() {
         let state_row = match b {
             Block::Quantity(q) => row_of.get(&q.node).copied(),
             _ => None,
@@ -193,10 +204,10 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
                 if let Some(o) = &q.overridden {
                     desc = format!("{}[overridden: {}]{} {desc}", st.warn, t(o), st.reset);
                 }
-                let line = if q.value.is_some() {
+                let line = if let Some(v) = &vtexts[bi] {
                     format!(
                         "  {tag} {name}  {:>wv$}  {}  {desc}",
-                        value_text(q, sig),
+                        v,
                         pad(&t(&q.unit), wu),
                         wv = wv
                     )
