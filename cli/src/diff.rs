@@ -5,7 +5,7 @@ use std::collections::{BTreeSet, HashMap};
 use std::io::IsTerminal;
 use std::path::Path;
 
-use serde_json::{Value as Json, json};
+use serde::Serialize;
 use sheaf_engine::report::{QuantityRow, Report};
 use sheaf_engine::units::format_sig;
 
@@ -67,14 +67,43 @@ pub struct Options {
     pub strict: bool,
 }
 
+/// An input whose value changed (json keys in alphabetical order).
+#[derive(Serialize)]
+struct InputChange {
+    name: String,
+    new: f64,
+    old: f64,
+    unit: String,
+}
+
+/// A result that moved beyond the tolerance.
+#[derive(Serialize)]
+struct ResultChange {
+    name: String,
+    new: f64,
+    old: f64,
+    /// (new − old) / |old| in SI; None when old is zero.
+    rel_change: Option<f64>,
+    unit: String,
+}
+
+/// A changed description or unit.
+#[derive(Serialize)]
+struct Changed {
+    name: String,
+    new: Option<String>,
+    old: Option<String>,
+    what: &'static str,
+}
+
 #[derive(Default)]
 struct Diff {
-    inputs: Vec<Json>,
-    results: Vec<Json>,
+    inputs: Vec<InputChange>,
+    results: Vec<ResultChange>,
     checks: Vec<(String, Option<bool>, Option<bool>)>,
     added: Vec<String>,
     removed: Vec<String>,
-    changed: Vec<Json>,
+    changed: Vec<Changed>,
 }
 
 fn rows(r: &Report) -> Vec<&QuantityRow> {
@@ -87,11 +116,11 @@ fn rows(r: &Report) -> Vec<&QuantityRow> {
         .collect()
 }
 
-fn status(p: Option<bool>) -> Json {
+fn status(p: Option<bool>) -> Option<&'static str> {
     match p {
-        Some(true) => json!("pass"),
-        Some(false) => json!("fail"),
-        None => Json::Null,
+        Some(true) => Some("pass"),
+        Some(false) => Some("fail"),
+        None => None,
     }
 }
 
@@ -108,12 +137,20 @@ fn compare(old: &Report, new: &Report, opt: &Options) -> Diff {
             continue;
         };
         if o.description != q.description {
-            d.changed.push(json!({"name": q.name, "what": "description",
-                "old": o.description, "new": q.description}));
+            d.changed.push(Changed {
+                name: q.name.clone(),
+                new: q.description.clone(),
+                old: o.description.clone(),
+                what: "description",
+            });
         }
         if o.unit != q.unit {
-            d.changed
-                .push(json!({"name": q.name, "what": "unit", "old": o.unit, "new": q.unit}));
+            d.changed.push(Changed {
+                name: q.name.clone(),
+                new: Some(q.unit.clone()),
+                old: Some(o.unit.clone()),
+                what: "unit",
+            });
         }
         let pairs: Vec<(&QuantityRow, &QuantityRow)> = if q.fields.is_empty() {
             vec![(*o, *q)]
@@ -132,8 +169,12 @@ fn compare(old: &Report, new: &Report, opt: &Options) -> Diff {
             };
             if q.kind == "input" {
                 if asi != bsi {
-                    d.inputs
-                        .push(json!({"name": b.name, "old": av, "new": bv, "unit": b.unit}));
+                    d.inputs.push(InputChange {
+                        name: b.name.clone(),
+                        new: bv,
+                        old: av,
+                        unit: b.unit.clone(),
+                    });
                 }
                 continue;
             }
@@ -143,12 +184,17 @@ fn compare(old: &Report, new: &Report, opt: &Options) -> Diff {
             };
             if moved {
                 let rel = if asi != 0.0 {
-                    json!((bsi - asi) / asi.abs())
+                    Some((bsi - asi) / asi.abs()).filter(|x| x.is_finite())
                 } else {
-                    Json::Null
+                    None
                 };
-                d.results.push(json!({"name": b.name, "old": av, "new": bv,
-                    "unit": b.unit, "rel_change": rel}));
+                d.results.push(ResultChange {
+                    name: b.name.clone(),
+                    new: bv,
+                    old: av,
+                    rel_change: rel,
+                    unit: b.unit.clone(),
+                });
             }
         }
     }
@@ -216,22 +262,53 @@ pub fn cmd_diff(
         .any(|(_, o, n)| *o == Some(true) && *n == Some(false));
     match format {
         crate::Format::Json => {
-            let v = json!({
-                "inputs": d.inputs,
-                "results": d.results,
-                "checks": d.checks.iter().map(|(t, o, n)| json!({"text": t, "old": status(*o), "new": status(*n)})).collect::<Vec<_>>(),
-                "added": d.added,
-                "removed": d.removed,
-                "changed": d.changed,
-                "errors": {"old": a.errors, "new": b.errors},
-            });
-            match serde_json::to_string_pretty(&v) {
-                Ok(s) => outln!("{s}"),
-                Err(e) => {
-                    eprintln!("error: {e}");
-                    return crate::EXIT_ERRORS;
-                }
+            /// A check whose status changed.
+            #[derive(Serialize)]
+            struct CheckChange<'a> {
+                new: Option<&'static str>,
+                old: Option<&'static str>,
+                text: &'a str,
             }
+            /// The errors of both sides.
+            #[derive(Serialize)]
+            struct Errors<'a> {
+                new: &'a [String],
+                old: &'a [String],
+            }
+            /// The json diff (README "Commands"; keys in alphabetical order).
+            #[derive(Serialize)]
+            struct JsonDiff<'a> {
+                added: &'a [String],
+                changed: &'a [Changed],
+                checks: Vec<CheckChange<'a>>,
+                errors: Errors<'a>,
+                inputs: &'a [InputChange],
+                removed: &'a [String],
+                results: &'a [ResultChange],
+            }
+            crate::out_json(
+                &JsonDiff {
+                    added: &d.added,
+                    changed: &d.changed,
+                    checks: d
+                        .checks
+                        .iter()
+                        .map(|(t, o, n)| CheckChange {
+                            new: status(*n),
+                            old: status(*o),
+                            text: t,
+                        })
+                        .collect(),
+                    errors: Errors {
+                        new: &b.errors,
+                        old: &a.errors,
+                    },
+                    inputs: &d.inputs,
+                    removed: &d.removed,
+                    results: &d.results,
+                },
+                true,
+            );
         }
         crate::Format::Md | crate::Format::Html => out!("{}", markdown(&a, &b, &d, opt.sig)),
         crate::Format::Text => {
@@ -248,8 +325,12 @@ pub fn cmd_diff(
     }
 }
 
-fn num(v: &Json, sig: usize) -> String {
-    v.as_f64().map_or("-".to_string(), |x| format_sig(x, sig))
+fn num(v: f64, sig: usize) -> String {
+    if v.is_finite() {
+        format_sig(v, sig)
+    } else {
+        "-".to_string()
+    }
 }
 
 fn word(p: Option<bool>) -> &'static str {
@@ -257,14 +338,6 @@ fn word(p: Option<bool>) -> &'static str {
         Some(true) => "pass",
         Some(false) => "FAIL",
         None => "-",
-    }
-}
-
-fn s(v: &Json) -> String {
-    match v {
-        Json::String(x) => x.clone(),
-        Json::Null => String::new(),
-        other => other.to_string(),
     }
 }
 
@@ -307,25 +380,25 @@ fn text(a: &Side, b: &Side, d: &Diff, sig: usize, st: &Style) -> String {
         for i in &d.inputs {
             out.push_str(&format!(
                 "  {:<16} {} -> {} {}\n",
-                t(&s(&i["name"])),
-                num(&i["old"], 15),
-                num(&i["new"], 15),
-                t(&s(&i["unit"]))
+                t(&i.name),
+                num(i.old, 15),
+                num(i.new, 15),
+                t(&i.unit)
             ));
         }
     }
     if !d.results.is_empty() {
         out.push_str("results changed:\n");
         for r in &d.results {
-            let rel = r["rel_change"]
-                .as_f64()
+            let rel = r
+                .rel_change
                 .map_or(String::new(), |x| format!("  ({:+.3} %)", 100.0 * x));
             out.push_str(&format!(
                 "  {:<16} {} -> {} {}{rel}\n",
-                t(&s(&r["name"])),
-                num(&r["old"], sig),
-                num(&r["new"], sig),
-                t(&s(&r["unit"]))
+                t(&r.name),
+                num(r.old, sig),
+                num(r.new, sig),
+                t(&r.unit)
             ));
         }
     }
@@ -338,10 +411,10 @@ fn text(a: &Side, b: &Side, d: &Diff, sig: usize, st: &Style) -> String {
     for c in &d.changed {
         out.push_str(&format!(
             "changed {} of {}: \"{}\" -> \"{}\"\n",
-            s(&c["what"]),
-            t(&s(&c["name"])),
-            t(&s(&c["old"])),
-            t(&s(&c["new"]))
+            c.what,
+            t(&c.name),
+            t(c.old.as_deref().unwrap_or_default()),
+            t(c.new.as_deref().unwrap_or_default())
         ));
     }
     if a.errors.is_empty()
@@ -390,10 +463,10 @@ fn markdown(a: &Side, b: &Side, d: &Diff, sig: usize) -> String {
         for i in &d.inputs {
             out.push_str(&format!(
                 "| {} | {} | {} | {} |\n",
-                md_code(&s(&i["name"])),
-                num(&i["old"], 15),
-                num(&i["new"], 15),
-                md_escape(&s(&i["unit"]))
+                md_code(&i.name),
+                num(i.old, 15),
+                num(i.new, 15),
+                md_escape(&i.unit)
             ));
         }
         out.push('\n');
@@ -403,15 +476,15 @@ fn markdown(a: &Side, b: &Side, d: &Diff, sig: usize) -> String {
             "**Results changed**\n\n| result | old | new | unit | change |\n|---|---:|---:|---|---:|\n",
         );
         for r in &d.results {
-            let rel = r["rel_change"]
-                .as_f64()
+            let rel = r
+                .rel_change
                 .map_or(String::new(), |x| format!("{:+.3} %", 100.0 * x));
             out.push_str(&format!(
                 "| {} | {} | {} | {} | {rel} |\n",
-                md_code(&s(&r["name"])),
-                num(&r["old"], sig),
-                num(&r["new"], sig),
-                md_escape(&s(&r["unit"]))
+                md_code(&r.name),
+                num(r.old, sig),
+                num(r.new, sig),
+                md_escape(&r.unit)
             ));
         }
         out.push('\n');
@@ -428,10 +501,10 @@ fn markdown(a: &Side, b: &Side, d: &Diff, sig: usize) -> String {
         for c in &d.changed {
             out.push_str(&format!(
                 "| {} | {} | {} | {} |\n",
-                md_code(&s(&c["name"])),
-                s(&c["what"]),
-                md_escape(&s(&c["old"])),
-                md_escape(&s(&c["new"]))
+                md_code(&c.name),
+                c.what,
+                md_escape(c.old.as_deref().unwrap_or_default()),
+                md_escape(c.new.as_deref().unwrap_or_default())
             ));
         }
         out.push('\n');

@@ -1,6 +1,6 @@
 //! Renderers of a worksheet report: text (terminal), json (tools), md.
 
-use serde_json::{Value as Json, json};
+use serde::Serialize;
 use sheaf_engine::CAUTION;
 use sheaf_engine::report::{Block, CheckRow, FoundRow, QuantityRow, Report, Shown, StateColumn};
 use sheaf_engine::units::format_sig;
@@ -124,9 +124,20 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
         .max()
         .unwrap_or(4)
         .max(4);
-    let wv = rows
+    // The value text of every quantity block with a value, formatted once
+    // (for the column width and for the line).
+    let vtexts: Vec<Option<String>> = report
+        .blocks
         .iter()
-        .map(|r| value_text(r, sig).chars().count())
+        .map(|b| match b {
+            Block::Quantity(q) if q.value.is_some() => Some(value_text(q, sig)),
+            _ => None,
+        })
+        .collect();
+    let wv = vtexts
+        .iter()
+        .flatten()
+        .map(|v| v.chars().count())
         .max()
         .unwrap_or(5)
         .clamp(5, 28);
@@ -140,9 +151,18 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
     let mut first_heading = true;
     let mut in_states = false;
     let table = state_text_table(report, sig);
-    for b in &report.blocks {
+    // Row of each state's node (a map: a look-up per quantity stays cheap
+    // with many states).
+    let row_of: std::collections::HashMap<usize, usize> = table
+        .rows
+        .iter()
+        .enumerate()
+        .rev()
+        .map(|(k, (n, _))| (*n, k))
+        .collect();
+    for (bi, b) in report.blocks.iter().enumerate() {
         let state_row = match b {
-            Block::Quantity(q) => table.rows.iter().position(|(n, _)| *n == q.node),
+            Block::Quantity(q) => row_of.get(&q.node).copied(),
             _ => None,
         };
         if let Some(k) = state_row {
@@ -184,10 +204,10 @@ pub fn text(report: &Report, file: &str, sig: usize, st: &Style) -> String {
                 if let Some(o) = &q.overridden {
                     desc = format!("{}[overridden: {}]{} {desc}", st.warn, t(o), st.reset);
                 }
-                let line = if q.value.is_some() {
+                let line = if let Some(v) = &vtexts[bi] {
                     format!(
                         "  {tag} {name}  {:>wv$}  {}  {desc}",
-                        value_text(q, sig),
+                        v,
                         pad(&t(&q.unit), wu),
                         wv = wv
                     )
@@ -448,73 +468,182 @@ fn check_line(c: &CheckRow, st: &Style, sig: usize) -> String {
     format!("  {verdict}  check {}{values}{desc}\n", t(&c.text))
 }
 
-fn opt_num(x: Option<f64>) -> Json {
-    match x {
-        Some(v) if v.is_finite() => json!(v),
-        _ => Json::Null,
+/// A number for json: None when absent or not finite (written `null`).
+fn opt_num(x: Option<f64>) -> Option<f64> {
+    x.filter(|v| v.is_finite())
+}
+
+/// A sequence serialized from an iterator as it is written: no list of
+/// rows is built first (a 100 000-statement report is written row by row).
+pub struct Seq<F>(pub F);
+
+impl<F, I> Serialize for Seq<F>
+where
+    F: Fn() -> I,
+    I: Iterator,
+    I::Item: Serialize,
+{
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.collect_seq((self.0)())
     }
 }
 
-/// The results as json, with the keys README "Commands" fixes.
-pub fn json(report: &Report) -> Json {
-    let quantities: Vec<Json> = report
+/// A value written as its `Display` text (a json string).
+pub struct AsText<'a, T: std::fmt::Display>(pub &'a T);
+
+impl<T: std::fmt::Display> Serialize for AsText<'_, T> {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.collect_str(self.0)
+    }
+}
+
+/// The `value` of a json quantity: a true/false value, else the number
+/// in the display unit (`null` when there is none).
+#[derive(Serialize)]
+#[serde(untagged)]
+enum JsonValue {
+    Bool(bool),
+    Num(Option<f64>),
+}
+
+/// How a `find` found an input, as json (README "Commands").
+#[derive(Serialize)]
+struct JsonFound {
+    high: f64,
+    iterations: usize,
+    low: f64,
+    residual: f64,
+}
+
+/// One quantity of the json report (README "Commands"). Keys are written in
+/// alphabetical order, as the json output has always listed them.
+#[derive(Serialize)]
+pub struct JsonQuantity<'a> {
+    description: &'a str,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    error: Option<&'a str>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    found: Option<JsonFound>,
+    kind: &'a str,
+    name: &'a str,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    overridden: Option<bool>,
+    si_unit: &'a str,
+    si_value: Option<f64>,
+    unit: &'a str,
+    value: JsonValue,
+}
+
+impl<'a> JsonQuantity<'a> {
+    fn new(q: &'a QuantityRow) -> Self {
+        JsonQuantity {
+            description: q.description.as_deref().unwrap_or_default(),
+            error: q.problem.as_deref(),
+            found: q.found.as_ref().map(|f| JsonFound {
+                high: f.high,
+                iterations: f.iterations,
+                low: f.low,
+                residual: f.residual,
+            }),
+            kind: q.kind,
+            name: &q.name,
+            overridden: q.overridden.as_ref().map(|_| true),
+            si_unit: &q.si_unit,
+            si_value: opt_num(q.si_value),
+            unit: &q.unit,
+            value: match q.boolean {
+                Some(b) => JsonValue::Bool(b),
+                None => JsonValue::Num(opt_num(q.value)),
+            },
+        }
+    }
+}
+
+/// One operand of a check, as json.
+#[derive(Serialize)]
+struct JsonOperand<'a> {
+    text: &'a str,
+    unit: &'a str,
+    value: Option<f64>,
+}
+
+/// One check of the json report (README "Commands").
+#[derive(Serialize)]
+pub struct JsonCheck<'a> {
+    description: &'a str,
+    line: usize,
+    operands: Vec<JsonOperand<'a>>,
+    passed: Option<bool>,
+    text: &'a str,
+}
+
+impl<'a> JsonCheck<'a> {
+    fn new(c: &'a CheckRow) -> Self {
+        JsonCheck {
+            description: c.description.as_deref().unwrap_or_default(),
+            line: c.line,
+            operands: c
+                .operands
+                .iter()
+                .map(|o| JsonOperand {
+                    text: &o.text,
+                    unit: o.shown.as_ref().map_or("", |s| s.unit.as_str()),
+                    value: o.shown.as_ref().map(|s| s.value),
+                })
+                .collect(),
+            passed: c.passed,
+            text: &c.text,
+        }
+    }
+}
+
+/// Every quantity row of a report as the json output lists them: states
+/// and substances by their fields.
+fn json_rows(report: &Report) -> impl Iterator<Item = &QuantityRow> {
+    report
         .blocks
         .iter()
         .filter_map(|b| match b {
             Block::Quantity(q) => Some(q.as_ref()),
             _ => None,
         })
-        .flat_map(|q| q.flatten())
-        .map(|q| {
-            let mut o = json!({
-                "name": q.name,
-                "kind": q.kind,
-                "value": q.boolean.map_or_else(|| opt_num(q.value), Json::from),
-                "unit": q.unit,
-                "si_value": opt_num(q.si_value),
-                "si_unit": q.si_unit,
-                "description": q.description.clone().unwrap_or_default(),
-            });
-            if let Some(p) = &q.problem {
-                o["error"] = json!(p);
+        .flat_map(|q| {
+            if q.fields.is_empty() {
+                std::slice::from_ref(q)
+            } else {
+                q.fields.as_slice()
             }
-            if q.overridden.is_some() {
-                o["overridden"] = json!(true);
-            }
-            if let Some(f) = &q.found {
-                o["found"] = json!({
-                    "low": f.low,
-                    "high": f.high,
-                    "iterations": f.iterations,
-                    "residual": f.residual,
-                });
-            }
-            o
         })
-        .collect();
-    let checks: Vec<Json> = report
-        .checks
-        .iter()
-        .map(|c| {
-            json!({
-                "line": c.line,
-                "text": c.text,
-                "passed": c.passed,
-                "description": c.description.clone().unwrap_or_default(),
-                "operands": c.operands.iter().map(|o| json!({
-                    "text": o.text,
-                    "value": o.shown.as_ref().map(|s| s.value),
-                    "unit": o.shown.as_ref().map_or("", |s| s.unit.as_str()),
-                })).collect::<Vec<_>>(),
-            })
-        })
-        .collect();
-    json!({
-        "title": report.title.clone().unwrap_or_default(),
-        "quantities": quantities,
-        "checks": checks,
-        "warnings": report.warnings.iter().map(|w| w.to_string()).collect::<Vec<_>>(),
-    })
+}
+
+/// The `quantities` list of a json report, written as it is serialized.
+pub fn json_quantities(report: &Report) -> impl Serialize + '_ {
+    Seq(move || json_rows(report).map(JsonQuantity::new))
+}
+
+/// The `checks` list of a json report, written as it is serialized.
+pub fn json_checks(report: &Report) -> impl Serialize + '_ {
+    Seq(move || report.checks.iter().map(JsonCheck::new))
+}
+
+/// The results as json, with the keys README "Commands" fixes (written by
+/// `serde_json::to_writer`; nothing is built before writing).
+#[derive(Serialize)]
+pub struct JsonReport<Q, C, W> {
+    checks: C,
+    quantities: Q,
+    title: String,
+    warnings: W,
+}
+
+/// The json report of `report` (see [`JsonReport`]).
+pub fn json(report: &Report) -> impl Serialize + '_ {
+    JsonReport {
+        checks: json_checks(report),
+        quantities: json_quantities(report),
+        title: report.title.clone().unwrap_or_default(),
+        warnings: Seq(move || report.warnings.iter().map(AsText)),
+    }
 }
 
 /// Text for a Markdown line or table cell: control characters escaped
@@ -588,11 +717,18 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
         }
     };
     let states = &report.states;
+    // Row of each state's node (first row wins, as a search would find).
+    let row_of: std::collections::HashMap<usize, usize> = states
+        .rows
+        .iter()
+        .enumerate()
+        .rev()
+        .map(|(k, r)| (r.node, k))
+        .collect();
     let mut in_states = false;
     let mut last_note = false;
     for b in &report.blocks {
-        let is_state =
-            matches!(b, Block::Quantity(q) if states.rows.iter().any(|r| r.node == q.node));
+        let is_state = matches!(b, Block::Quantity(q) if row_of.contains_key(&q.node));
         if in_states && !is_state {
             out.push('\n');
             in_states = false;
@@ -624,13 +760,13 @@ pub fn markdown(report: &Report, file: &str, sig: usize) -> String {
                     out.push_str(&format!("> {}\n\n", md_escape(t)));
                 }
             }
-            Block::Quantity(q) if states.rows.iter().any(|r| r.node == q.node) => {
+            Block::Quantity(q) if row_of.contains_key(&q.node) => {
                 if !in_states {
                     close(&mut out, &mut in_table);
                     out.push_str(&md_state_header(states));
                     in_states = true;
                 }
-                if let Some(r) = states.rows.iter().find(|r| r.node == q.node) {
+                if let Some(r) = row_of.get(&q.node).map(|&k| &states.rows[k]) {
                     let mut line = format!("| {} |", md_code(&r.name));
                     for v in &r.cells {
                         line.push_str(&format!(" {} |", state_cell(*v, sig)));

@@ -4,7 +4,7 @@
 use std::io::IsTerminal;
 use std::time::{Duration, Instant};
 
-use serde_json::{Value as Json, json};
+use serde::Serialize;
 use sheaf_engine::Model;
 use sheaf_engine::report::{QuantityRow, Report};
 use sheaf_engine::units::format_sig;
@@ -74,35 +74,46 @@ pub fn cmd_cases(name: &str, model: &Model, format: Format, sig: usize) -> u8 {
     }
     match format {
         Format::Json => {
+            /// One case of the json output (keys in alphabetical order).
+            #[derive(Serialize)]
+            struct JsonCase<'a, Q, C> {
+                checks: C,
+                description: &'a str,
+                name: &'a str,
+                quantities: Q,
+            }
+            /// The json output of `--cases`.
+            #[derive(Serialize)]
+            struct JsonCases<C> {
+                cases: C,
+                title: String,
+                warnings: Vec<String>,
+            }
             let mut warnings: Vec<String> = Vec::new();
-            let cases: Vec<Json> = runs
-                .iter()
-                .map(|r| {
-                    let j = render::json(&r.report);
-                    for w in r.report.warnings.iter().map(|w| w.to_string()) {
-                        let w = format!("case {}: {w}", r.name);
-                        if !warnings.contains(&w) {
-                            warnings.push(w);
-                        }
+            for r in &runs {
+                for w in r.report.warnings.iter().map(|w| w.to_string()) {
+                    let w = format!("case {}: {w}", r.name);
+                    if !warnings.contains(&w) {
+                        warnings.push(w);
                     }
-                    json!({
-                        "name": r.name,
-                        "description": r.description,
-                        "quantities": j["quantities"],
-                        "checks": j["checks"],
-                    })
-                })
-                .collect();
-            let title = runs[0].report.title.clone().unwrap_or_default();
-            match serde_json::to_string_pretty(
-                &json!({"title": title, "cases": cases, "warnings": warnings}),
-            ) {
-                Ok(s) => outln!("{s}"),
-                Err(e) => {
-                    eprintln!("error: {e}");
-                    return EXIT_ERRORS;
                 }
             }
+            let runs = &runs;
+            crate::out_json(
+                &JsonCases {
+                    cases: render::Seq(move || {
+                        runs.iter().map(|r| JsonCase {
+                            checks: render::json_checks(&r.report),
+                            description: &r.description,
+                            name: &r.name,
+                            quantities: render::json_quantities(&r.report),
+                        })
+                    }),
+                    title: runs[0].report.title.clone().unwrap_or_default(),
+                    warnings,
+                },
+                true,
+            );
         }
         Format::Text => out!("{}", cases_table(&runs, name, sig, false)),
         Format::Md => out!("{}", cases_table(&runs, name, sig, true)),
@@ -341,7 +352,7 @@ pub fn cmd_sweep(name: &str, mut model: Model, format: SweepFormat, sig: usize) 
     }
     let mut any_failed = false;
     let mut any_check = false;
-    let mut json_sweeps = Vec::new();
+    let mut json_sweeps: Vec<JsonSweep> = Vec::new();
     let mut text = String::new();
     let mut progress = Progress::new();
     let flush = |buf: &mut String| {
@@ -431,18 +442,30 @@ pub fn cmd_sweep(name: &str, mut model: Model, format: SweepFormat, sig: usize) 
         match format {
             SweepFormat::Csv => flush(&mut buf),
             SweepFormat::Json => {
-                json_sweeps.push(json!({
-                    "input": input_name,
-                    "unit": unit,
-                    "description": s.description.clone().unwrap_or_default(),
-                    "values": values,
-                    "columns": s.show.iter().enumerate().map(|(c, col)| json!({
-                        "name": col.name,
-                        "unit": conv[c + 1].2,
-                        "values": columns[c],
-                    })).collect::<Vec<_>>(),
-                    "failed": failed.iter().map(|(i, m)| json!({"index": i, "message": m})).collect::<Vec<_>>(),
-                }));
+                json_sweeps.push(JsonSweep {
+                    columns: s
+                        .show
+                        .iter()
+                        .zip(std::mem::take(&mut columns))
+                        .enumerate()
+                        .map(|(c, (col, values))| JsonSweepColumn {
+                            name: col.name.clone(),
+                            unit: conv[c + 1].2.clone(),
+                            values,
+                        })
+                        .collect(),
+                    description: s.description.clone().unwrap_or_default(),
+                    failed: failed
+                        .iter()
+                        .map(|(i, m)| JsonFailed {
+                            index: *i,
+                            message: m.clone(),
+                        })
+                        .collect(),
+                    input: input_name.clone(),
+                    unit: unit.clone(),
+                    values: std::mem::take(&mut values),
+                });
             }
             SweepFormat::Text | SweepFormat::Md => {
                 let md = format == SweepFormat::Md;
@@ -513,13 +536,19 @@ pub fn cmd_sweep(name: &str, mut model: Model, format: SweepFormat, sig: usize) 
         }
     }
     match format {
-        SweepFormat::Json => match serde_json::to_string_pretty(&json!({"sweeps": json_sweeps})) {
-            Ok(s) => outln!("{s}"),
-            Err(e) => {
-                eprintln!("error: {e}");
-                return EXIT_ERRORS;
+        SweepFormat::Json => {
+            /// The json output of `sheaf sweep`.
+            #[derive(Serialize)]
+            struct JsonSweeps {
+                sweeps: Vec<JsonSweep>,
             }
-        },
+            crate::out_json(
+                &JsonSweeps {
+                    sweeps: json_sweeps,
+                },
+                true,
+            );
+        }
         SweepFormat::Text | SweepFormat::Md => out!("{text}"),
         SweepFormat::Csv => {}
     }
@@ -533,6 +562,32 @@ pub fn cmd_sweep(name: &str, mut model: Model, format: SweepFormat, sig: usize) 
     } else {
         0
     }
+}
+
+/// One sweep of the json output (keys in alphabetical order).
+#[derive(Serialize)]
+struct JsonSweep {
+    columns: Vec<JsonSweepColumn>,
+    description: String,
+    failed: Vec<JsonFailed>,
+    input: String,
+    unit: String,
+    values: Vec<f64>,
+}
+
+/// A shown column of a sweep: its values (None where the point failed).
+#[derive(Serialize)]
+struct JsonSweepColumn {
+    name: String,
+    unit: String,
+    values: Vec<Option<f64>>,
+}
+
+/// A point of a sweep that failed.
+#[derive(Serialize)]
+struct JsonFailed {
+    index: usize,
+    message: String,
 }
 
 /// A csv field, quoted when it holds a comma, quote or line end.

@@ -413,6 +413,8 @@ impl Model {
                 _ => {}
             }
         }
+        // Seen warning texts: a set, so that many warnings stay linear.
+        let mut seen: rustc_hash::FxHashSet<String> = rustc_hash::FxHashSet::default();
         for &i in self.order() {
             for w in self.warnings(i) {
                 let name = self.nodes()[i]
@@ -425,7 +427,7 @@ impl Model {
                     name,
                     diagnostic: w.clone(),
                 };
-                if !r.warnings.iter().any(|x| x.to_string() == row.to_string()) {
+                if seen.insert(row.to_string()) {
                     r.warnings.push(row);
                 }
             }
