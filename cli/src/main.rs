@@ -471,18 +471,8 @@ fn cmd_run(file: &Path, sets: &[String], case: Option<&str>, format: Format, sig
         diagnostics::emit(&name, model.source(), &errors);
     }
     let report = model.report();
-    match format {
-        Format::Text => {
-            let colour = std::io::stdout().is_terminal() && std::env::var_os("NO_COLOR").is_none();
-            out!(
-                "{}",
-                render::text(&report, &name, sig, &render::Style::new(colour))
-            );
-        }
-        Format::Json => out_json(&render::json(&report), true),
-        Format::Md => out!("{}", render::markdown(&report, &name, sig)),
-        Format::Html => out!("{}", html::html(&report, &name, sig)),
-    }
+    let colour = std::io::stdout().is_terminal() && std::env::var_os("NO_COLOR").is_none();
+    print_report(&report, &name, format, sig, colour);
     let code = if !errors.is_empty() {
         EXIT_ERRORS
     } else if report.checks.iter().any(|c| c.passed == Some(false)) {
@@ -496,6 +486,25 @@ fn cmd_run(file: &Path, sets: &[String], case: Option<&str>, format: Format, sig
     std::mem::forget(report);
     std::mem::forget(model);
     code
+}
+
+/// Print an evaluated worksheet's report in `format` (run and watch).
+pub(crate) fn print_report(
+    report: &sheaf_engine::Report,
+    name: &str,
+    format: Format,
+    sig: usize,
+    colour: bool,
+) {
+    match format {
+        Format::Text => out!(
+            "{}",
+            render::text(report, name, sig, &render::Style::new(colour))
+        ),
+        Format::Json => out_json(&render::json(report), true),
+        Format::Md => out!("{}", render::markdown(report, name, sig)),
+        Format::Html => out!("{}", html::html(report, name, sig)),
+    }
 }
 
 fn cmd_check(file: &Path) -> u8 {

@@ -629,10 +629,17 @@ pub fn json_checks(report: &Report) -> impl Serialize + '_ {
 /// The results as json, with the keys README "Commands" fixes (written by
 /// `serde_json::to_writer`; nothing is built before writing).
 #[derive(Serialize)]
-pub struct JsonReport<Q, C, W> {
+pub struct JsonReport<'a, Q, C, W> {
     checks: C,
+    /// What gauge pressures are relative to, one sentence per worksheet
+    /// (only when a gauge unit or a `gauge` statement is used).
+    #[serde(skip_serializing_if = "<[String]>::is_empty")]
+    gauge: &'a [String],
     quantities: Q,
     title: String,
+    /// The worksheets used (`use`), with their sha256 (only when any).
+    #[serde(skip_serializing_if = "<[sheaf_engine::UsedFile]>::is_empty")]
+    used_files: &'a [sheaf_engine::UsedFile],
     warnings: W,
 }
 
@@ -640,7 +647,13 @@ pub struct JsonReport<Q, C, W> {
 pub fn json(report: &Report) -> impl Serialize + '_ {
     JsonReport {
         checks: json_checks(report),
+        gauge: if report.uses_gauge {
+            &report.gauge_notes
+        } else {
+            &[]
+        },
         quantities: json_quantities(report),
+        used_files: &report.used_files,
         title: report.title.clone().unwrap_or_default(),
         warnings: Seq(move || report.warnings.iter().map(AsText)),
     }

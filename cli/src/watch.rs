@@ -16,7 +16,6 @@ use std::time::Duration;
 
 use notify::{RecursiveMode, Watcher};
 
-use crate::render;
 use crate::sources::{self, Rev};
 
 /// Quiet time after the last event before re-running.
@@ -167,21 +166,8 @@ fn run_once(
         crate::diagnostics::emit(&loaded.name, model.source(), &errors);
     }
     let report = model.report();
-    match format {
-        crate::Format::Text => {
-            let colour = terminal && std::env::var_os("NO_COLOR").is_none();
-            out!(
-                "{}",
-                render::text(&report, &loaded.name, sig, &render::Style::new(colour))
-            );
-        }
-        crate::Format::Json => match serde_json::to_string_pretty(&render::json(&report)) {
-            Ok(s) => outln!("{s}"),
-            Err(e) => eprintln!("error: {e}"),
-        },
-        crate::Format::Md => out!("{}", render::markdown(&report, &loaded.name, sig)),
-        crate::Format::Html => out!("{}", crate::html::html(&report, &loaded.name, sig)),
-    }
+    let colour = terminal && std::env::var_os("NO_COLOR").is_none();
+    crate::print_report(&report, &loaded.name, format, sig, colour);
     if let Some(out) = xlsx {
         // Written atomically (files::write_file): a spreadsheet program
         // never opens half a package.

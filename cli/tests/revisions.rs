@@ -241,6 +241,20 @@ fn use_through_the_command_line() {
     assert_eq!(q("site.T_amb")["overridden"], true);
     assert_eq!(q("T1")["value"], 47.0);
     assert_eq!(q("p1")["value"], 95.0);
+    // The json report states the gauge reference and the used file.
+    assert!(
+        v["gauge"][0]
+            .as_str()
+            .is_some_and(|g| g.contains("relative to 95 kPa")),
+        "{}",
+        v["gauge"]
+    );
+    assert_eq!(v["used_files"][0]["prefix"], "site");
+    assert_eq!(
+        v["used_files"][0]["sha256"].as_str().map(str::len),
+        Some(64)
+    );
+    assert!(v["used_files"][0].get("path").is_none());
     assert_eq!(v["checks"][0]["text"], "site: T_amb <= 40 degC");
     assert_eq!(v["checks"][0]["passed"], false);
     let o = sheaf_in(p, &["run", "ws/c2.sheaf"]);

@@ -102,7 +102,10 @@ pub struct Used {
 pub struct UsedFile {
     /// The prefix chain its names appear under (`site`, `site.fluids`).
     pub prefix: String,
+    /// The path as written in the `use` statement.
     pub name: String,
+    /// Where it was read (not in json output: machine-specific).
+    #[serde(skip)]
     pub path: String,
     /// sha256 of its text, lowercase hex.
     pub sha256: String,
