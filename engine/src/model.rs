@@ -471,10 +471,10 @@ impl Model {
             self.dirty[i] = true;
             return Ok(());
         }
-        self.set_input_si(name, si_value)?;
+        self.set_input_si(i, name, si_value)?;
         self.overrides[i] = Some(Override {
             si_value,
-            text: crate::units::format_sig(si_value, 17),
+            text: crate::units::shortest_text(si_value),
             source: OverrideSource::Program,
         });
         Ok(())
@@ -485,8 +485,7 @@ impl Model {
         self.overrides.get(node).and_then(|o| o.as_ref())
     }
 
-    fn set_input_si(&mut self, name: &str, si_value: f64) -> Result<(), String> {
-        let i = self.input_index(name)?;
+    fn set_input_si(&mut self, i: usize, name: &str, si_value: f64) -> Result<(), String> {
         if !matches!(self.checked.nodes[i].ty, Ty::Num(_)) {
             return Err(format!("input `{name}` is not a number"));
         }
@@ -557,7 +556,7 @@ impl Model {
         let si = check::const_value(&code);
         match (want, ty, si) {
             (Ty::Num(w), Ty::Num(g), Some(v)) if QuantityType::accepts(w, g) => {
-                self.set_input_si(name, v)?;
+                self.set_input_si(i, name, v)?;
                 self.overrides[i] = Some(Override {
                     si_value: v,
                     text: text.trim().to_string(),

@@ -73,6 +73,18 @@ fn strip_fraction_zeros(s: &str) -> String {
     }
 }
 
+/// The shortest text that reads back as exactly `x` (plain decimal for
+/// 1e-4 <= |x| < 1e15, exponent form otherwise): for numbers written back
+/// into a worksheet or a formula, where significant figures would round.
+pub fn shortest_text(x: f64) -> String {
+    let a = x.abs();
+    if a == 0.0 || (1e-4..1e15).contains(&a) {
+        format!("{x}")
+    } else {
+        format!("{x:e}")
+    }
+}
+
 /// A pressure for a message in Pa, kPa or MPa.
 pub(crate) fn fmt_p(p: f64) -> String {
     if p.abs() >= 1e6 {

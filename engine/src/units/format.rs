@@ -1,3 +1,3 @@
 //! Significant-figure number formatting.
 
-pub use crate::thermo::text::format_sig;
+pub use crate::thermo::text::{format_sig, shortest_text};

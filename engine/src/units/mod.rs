@@ -27,7 +27,7 @@ mod table;
 mod tests;
 
 pub use display::{DisplayUnit, auto_display, quantity_name, si_unit};
-pub use format::format_sig;
+pub use format::{format_sig, shortest_text};
 
 /// Number of base quantities: length, mass, time, temperature, amount,
 /// electric current, luminous intensity.

@@ -111,14 +111,9 @@ pub fn pull_changes(model: &Model, reviewed: &Reviewed) -> Vec<Change> {
 }
 
 /// Number text for a worksheet literal: the shortest text that reads back
-/// as the same number; scientific notation outside 1e-4..1e15.
+/// as the same number ([`crate::units::shortest_text`]).
 pub fn literal_text(x: f64) -> String {
-    let a = x.abs();
-    if a == 0.0 || (1e-4..1e15).contains(&a) {
-        format!("{x}")
-    } else {
-        format!("{x:e}")
-    }
+    crate::units::shortest_text(x)
 }
 
 /// The worksheet text with the literals of the changed inputs replaced;
