@@ -464,9 +464,9 @@ impl Model {
     pub fn set_input(&mut self, name: &str, si_value: f64) -> Result<(), String> {
         let i = self.input_index(name)?;
         if let Some((k, j)) = self.import_of(i) {
-            let sub_name = self.sub_name(k, j);
+            let inner_name = self.inner_name(k, j);
             let sub = &mut self.used[k].model;
-            sub.set_input(&sub_name, si_value)?;
+            sub.set_input(&inner_name, si_value)?;
             self.overrides[i] = sub.overrides[j].clone();
             self.dirty[i] = true;
             return Ok(());
@@ -528,10 +528,10 @@ impl Model {
         if let Some((k, j)) = self.import_of(i) {
             // A used worksheet's input: set there (its own gauge reference
             // applies), seen here on the next evaluation.
-            let sub_name = self.sub_name(k, j);
+            let inner_name = self.inner_name(k, j);
             let sub = &mut self.used[k].model;
-            sub.set_input_from(&sub_name, text, source)
-                .map_err(|e| e.replacen(&format!("`{sub_name}="), &format!("`{name}="), 1))?;
+            sub.set_input_from(&inner_name, text, source)
+                .map_err(|e| e.replacen(&format!("`{inner_name}="), &format!("`{name}="), 1))?;
             self.overrides[i] = sub.overrides[j].clone();
             self.dirty[i] = true;
             return Ok(());
@@ -579,7 +579,7 @@ impl Model {
     }
 
     /// The name of node `j` of used worksheet `k`, in that worksheet.
-    fn sub_name(&self, k: usize, j: usize) -> String {
+    fn inner_name(&self, k: usize, j: usize) -> String {
         self.used[k].model.checked.nodes[j]
             .name
             .as_ref()

@@ -207,13 +207,13 @@ const V: Dim = Dim([3, 0, 0, 0, 0, 0, 0]);
 const HZ: Dim = Dim([0, 0, -1, 0, 0, 0, 0]);
 const VF: Dim = Dim([3, 0, -1, 0, 0, 0, 0]);
 
-struct B {
+struct RowBuilder {
     e: Entry,
 }
 
 /// Builder shorthand: `row(symbol, name, dim, factor)`.
-fn row(symbol: &'static str, name: &'static str, dim: Dim, factor: f64) -> B {
-    B {
+fn row(symbol: &'static str, name: &'static str, dim: Dim, factor: f64) -> RowBuilder {
+    RowBuilder {
         e: Entry {
             symbol,
             aliases: &[],
@@ -228,28 +228,28 @@ fn row(symbol: &'static str, name: &'static str, dim: Dim, factor: f64) -> B {
     }
 }
 
-impl B {
-    fn prefixable(mut self) -> B {
+impl RowBuilder {
+    fn prefixable(mut self) -> RowBuilder {
         self.e.prefixable = true;
         if self.e.note.is_empty() {
             self.e.note = "takes SI prefixes";
         }
         self
     }
-    fn aliases(mut self, a: &'static [&'static str]) -> B {
+    fn aliases(mut self, a: &'static [&'static str]) -> RowBuilder {
         self.e.aliases = a;
         self
     }
-    fn offset(mut self, o: f64, aff: Affinity) -> B {
+    fn offset(mut self, o: f64, aff: Affinity) -> RowBuilder {
         self.e.offset = o;
         self.e.affinity = aff;
         self
     }
-    fn affinity(mut self, aff: Affinity) -> B {
+    fn affinity(mut self, aff: Affinity) -> RowBuilder {
         self.e.affinity = aff;
         self
     }
-    fn note(mut self, n: &'static str) -> B {
+    fn note(mut self, n: &'static str) -> RowBuilder {
         self.e.note = n;
         self
     }

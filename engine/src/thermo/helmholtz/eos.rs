@@ -191,8 +191,8 @@ impl Coefficients {
             t1 += e * t;
             t2 += e * t * (t - 1.0);
         }
-        for &(v, th) in i.planck_einstein {
-            let x = th * tau;
+        for &(v, theta) in i.planck_einstein {
+            let x = theta * tau;
             let em = (-x).exp();
             // ln(1 - e^-x); x/(e^x - 1) = x em / (1 - em).
             let om = 1.0 - em;
@@ -349,7 +349,15 @@ impl Melting {
         if t > self.t_max {
             return None;
         }
-        let th = (t / self.t_0 - 1.0).max(0.0);
-        Some(self.p_0 * (1.0 + self.terms.iter().map(|&(a, e)| a * th.powf(e)).sum::<f64>()))
+        let theta = (t / self.t_0 - 1.0).max(0.0);
+        Some(
+            self.p_0
+                * (1.0
+                    + self
+                        .terms
+                        .iter()
+                        .map(|&(a, e)| a * theta.powf(e))
+                        .sum::<f64>()),
+        )
     }
 }

@@ -626,24 +626,24 @@ impl Fluid {
             // Continuation from NEAR_CRIT towards the critical point, each
             // start from a power law through the last two solutions.
             let tc = self.t_crit();
-            let mut th = [NEAR_CRIT, 0.5 * NEAR_CRIT];
+            let mut theta_known = [NEAR_CRIT, 0.5 * NEAR_CRIT];
             let mut sol = [(0.0, 0.0); 2];
             for k in 0..2 {
-                let tk = tc * (1.0 - th[k]);
+                let tk = tc * (1.0 - theta_known[k]);
                 let dl = (self.anc_rho_l.eval(tk) / rr).max(1.02 * dc);
                 let dv = (self.anc_rho_v.eval(tk) / rr).min(0.98 * dc);
                 sol[k] = self.akasaka(self.eos.t_red / tk, dl, dv).ok_or_else(fail)?;
             }
             loop {
-                let next = (th[1] * 0.25).max(theta);
-                let r = (next / th[1]).ln() / (th[1] / th[0]).ln();
+                let next = (theta_known[1] * 0.25).max(theta);
+                let r = (next / theta_known[1]).ln() / (theta_known[1] / theta_known[0]).ln();
                 let ext = |a: f64, b: f64| dc + (b - dc) * ((b - dc) / (a - dc)).abs().powf(r);
                 let dl = ext(sol[0].0, sol[1].0);
                 let dv = ext(sol[0].1, sol[1].1);
                 let s = self
                     .akasaka(self.eos.t_red / (tc * (1.0 - next)), dl, dv)
                     .ok_or_else(fail)?;
-                th = [th[1], next];
+                theta_known = [theta_known[1], next];
                 sol = [sol[1], s];
                 if next == theta {
                     break s;

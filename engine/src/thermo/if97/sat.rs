@@ -23,8 +23,8 @@ fn rho_liq_aux(t: f64) -> f64 {
         (-45.517_035_2, 43.0),
         (-6.746_944_50e5, 110.0),
     ];
-    let th = (1.0 - t / T_CRIT).max(0.0).cbrt();
-    RHO_CRIT * (1.0 + B.iter().map(|&(b, e)| b * th.powf(e)).sum::<f64>())
+    let theta = (1.0 - t / T_CRIT).max(0.0).cbrt();
+    RHO_CRIT * (1.0 + B.iter().map(|&(b, e)| b * theta.powf(e)).sum::<f64>())
 }
 
 /// Saturated vapour density, IAPWS SR1-86(1992) Eq. (3), kg/m^3
@@ -38,8 +38,8 @@ fn rho_vap_aux(t: f64) -> f64 {
         (-44.758_658_1, 18.5),
         (-63.920_106_3, 35.5),
     ];
-    let th = (1.0 - t / T_CRIT).max(0.0).cbrt();
-    RHO_CRIT * C.iter().map(|&(c, e)| c * th.powf(e)).sum::<f64>().exp()
+    let theta = (1.0 - t / T_CRIT).max(0.0).cbrt();
+    RHO_CRIT * C.iter().map(|&(c, e)| c * theta.powf(e)).sum::<f64>().exp()
 }
 
 /// Coexisting phases of the region-3 equation at temperature `t`.
