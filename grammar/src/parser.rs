@@ -1401,31 +1401,26 @@ impl Builder<'_> {
     ) -> Result<Node, ParseError> {
         let mut depth = 0;
         let mut out = Vec::new();
-        for q in args {
-            match q.as_rule() {
-                Rule::arg => {
-                    let aspan = self.span(&q);
-                    let mut name = None;
-                    let mut value = None;
-                    for r in q.into_inner() {
-                        match r.as_rule() {
-                            Rule::ident => name = Some(self.ident(r)?),
-                            Rule::expr => value = Some(self.expr(r)?),
-                            _ => {}
-                        }
-                    }
-                    let Some((value, d)) = value else {
-                        return Err(internal(aspan));
-                    };
-                    depth = depth.max(d);
-                    out.push(Arg {
-                        name,
-                        value,
-                        span: aspan,
-                    });
+        for q in args.filter(|q| q.as_rule() == Rule::arg) {
+            let aspan = self.span(&q);
+            let mut name = None;
+            let mut value = None;
+            for r in q.into_inner() {
+                match r.as_rule() {
+                    Rule::ident => name = Some(self.ident(r)?),
+                    Rule::expr => value = Some(self.expr(r)?),
+                    _ => {}
                 }
-                _ => {}
             }
+            let Some((value, d)) = value else {
+                return Err(internal(aspan));
+            };
+            depth = depth.max(d);
+            out.push(Arg {
+                name,
+                value,
+                span: aspan,
+            });
         }
         let args = out;
         let d = self.check_depth(depth + 1, func.span)?;
