@@ -4,7 +4,7 @@
 //! bytes, no pest machinery. It accepts a strict subset of what the pest
 //! entry rules accept and builds the same tree with the same
 //! [`Builder`] steps (precedence, chains, depth); anything else — keywords,
-//! `if`/`and`/`or`/`not`, unit annotations, unit groups, non-ASCII units,
+//! `if`/`and`/`or`/`not`, non-ASCII units,
 //! escapes in strings, a tolerance `+ -2`, any error — returns `None`, and
 //! the line goes to the pest rules, which also word every error.
 //! `fast_path_tests` in `parser.rs` checks that whatever this accepts, the
