@@ -1,10 +1,10 @@
 //! A hand-written first try for the most common statement lines
 //! (definitions, `input` and `check` with arithmetic, comparisons, calls,
 //! fields, numbers with plain units, plain strings): one pass over the
-//! bytes, no pest machinery. It accepts a strict subset of what the fast
-//! and entry rules accept and builds the same tree with the same
+//! bytes, no pest machinery. It accepts a strict subset of what the pest
+//! entry rules accept and builds the same tree with the same
 //! [`Builder`] steps (precedence, chains, depth); anything else — keywords,
-//! `if`/`and`/`or`/`not`, unit annotations, unit groups, non-ASCII units,
+//! `if`/`and`/`or`/`not`, non-ASCII units,
 //! escapes in strings, a tolerance `+ -2`, any error — returns `None`, and
 //! the line goes to the pest rules, which also word every error.
 //! `fast_path_tests` in `parser.rs` checks that whatever this accepts, the
