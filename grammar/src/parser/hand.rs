@@ -575,30 +575,35 @@ impl Hand<'_, '_> {
         Some(Some(acc))
     }
 
-    /// A unit symbol and its power.
-    fn unit_factor(&mut self) -> Option<Option<UNode>> {
+    /// The end of the unit symbol at the cursor: `Some(Some(end))` for `%`
+    /// or an ASCII name, `Some(None)` when no symbol starts here, `None`
+    /// when the line is not for this parser (a non-ASCII unit, a keyword).
+    fn unit_symbol_end(&self) -> Option<Option<usize>> {
         let a = self.pos;
-        let c = match self.peek() {
-            Some(c) => c,
-            None => return Some(None),
+        let Some(c) = self.peek() else {
+            return Some(None);
         };
-        let z = if c == b'%' {
-            a + 1
-        } else if is_ident_start(c) {
+        if c == b'%' {
+            return Some(Some(a + 1));
+        }
+        if is_ident_start(c) {
             let mut z = a + 1;
             while self.bytes.get(z).copied().is_some_and(is_ident_char) {
                 z += 1;
             }
-            if self.bytes.get(z).is_some_and(|c| !c.is_ascii()) {
+            if self.bytes.get(z).is_some_and(|c| !c.is_ascii()) || is_unit_keyword(&self.text[a..z])
+            {
                 return None;
             }
-            if is_unit_keyword(&self.text[a..z]) {
-                return None;
-            }
-            z
-        } else if !c.is_ascii() {
-            return None;
-        } else {
+            return Some(Some(z));
+        }
+        if c.is_ascii() { Some(None) } else { None }
+    }
+
+    /// A unit symbol and its power.
+    fn unit_factor(&mut self) -> Option<Option<UNode>> {
+        let a = self.pos;
+        let Some(z) = self.unit_symbol_end()? else {
             return Some(None);
         };
         let name = self.text[a..z].to_string();
@@ -751,26 +756,7 @@ impl Hand<'_, '_> {
             _ => {
                 // A symbol: its power is read loose below.
                 let a = self.pos;
-                let Some(c) = self.peek() else {
-                    return Some(None);
-                };
-                let z = if c == b'%' {
-                    a + 1
-                } else if is_ident_start(c) {
-                    let mut z = a + 1;
-                    while self.bytes.get(z).copied().is_some_and(is_ident_char) {
-                        z += 1;
-                    }
-                    if self.bytes.get(z).is_some_and(|c| !c.is_ascii()) {
-                        return None;
-                    }
-                    if is_unit_keyword(&self.text[a..z]) {
-                        return None;
-                    }
-                    z
-                } else if !c.is_ascii() {
-                    return None;
-                } else {
+                let Some(z) = self.unit_symbol_end()? else {
                     return Some(None);
                 };
                 let name = self.text[a..z].to_string();
