@@ -1,5 +1,5 @@
 #!/usr/bin/env python3
-"""Transcribe the reference Helmholtz-energy equations of state of R134a,
+"""Write the reference Helmholtz-energy equations of state of R134a,
 R1234yf, R32, ammonia and CO2 into Rust source (one module per fluid in
 engine/src/thermo/helmholtz/).
 

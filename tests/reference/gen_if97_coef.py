@@ -1,5 +1,5 @@
 #!/usr/bin/env python3
-"""Transcribe the IAPWS-IF97 coefficient tables into Rust source.
+"""Generate Rust source of the IAPWS-IF97 coefficient tables.
 
 The coefficients are those of the published standard IAPWS R7-97(2012) and
 of the supplementary releases IAPWS SR3-03(2014) (backward equations for

@@ -160,7 +160,7 @@ fn hs_boundary_values_match_the_model() {
         2e-10,
     );
     // The saturation lines of SR4-04(2014) against the model's saturated
-    // phases (a check of the boundary equations' transcription over their
+    // phases (a check of the boundary equations' coefficients over their
     // whole range, beyond the release's verification points; they fit the
     // forward equations, so they differ from them a little): measured worst
     // relative differences 1.9e-6 (h'_1, at 620 K), 1.2e-6 (h'_3a),
