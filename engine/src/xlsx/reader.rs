@@ -557,103 +557,158 @@ fn read_sheet(
 ) -> Result<HashMap<(u32, u32), Raw>, XlsxError> {
     let max_row = wanted.iter().map(|w| w.0).max().unwrap_or(0);
     let found = pkg.with_part(part, |r| {
-        let mut buf = Vec::new();
         let mut out = HashMap::new();
-        let mut row: u32 = 0;
-        let mut next_col: u32 = 0;
-        // The cell being read: position, type, style, formula seen,
-        // value text.
-        let mut cell: Option<((u32, u32), String, usize, bool)> = None;
-        let mut value: Option<String> = None;
-        let mut in_v = false;
-        let mut in_is_t = false;
-        let mut text = String::new();
-        let mut text_len = 0usize;
-        loop {
-            let ev = r.read_event_into(&mut buf)?;
-            match &ev {
-                Event::Start(e) | Event::Empty(e) => {
-                    let empty = matches!(ev, Event::Empty(_));
-                    match local(e.name().as_ref()) {
-                        "row" => {
-                            row = attr(e, "r")
-                                .and_then(|x| x.parse::<u32>().ok())
-                                .map_or(row + 1, |r| r.saturating_sub(1));
-                            next_col = 0;
-                            if row > max_row {
-                                break;
-                            }
-                        }
-                        "c" => {
-                            let pos = attr(e, "r")
-                                .and_then(|x| parse_a1(&x))
-                                .unwrap_or((row, next_col));
-                            row = pos.0;
-                            next_col = pos.1 + 1;
-                            let t = attr(e, "t").unwrap_or_default();
-                            let s = attr(e, "s").and_then(|x| x.parse().ok()).unwrap_or(0);
-                            value = None;
-                            text.clear();
-                            text_len = 0;
-                            if empty {
-                                if wanted.contains(&pos) {
-                                    out.insert(pos, Raw::Empty);
-                                }
-                            } else {
-                                cell = Some((pos, t, s, false));
-                            }
-                        }
-                        "f" => {
-                            if let Some(c) = cell.as_mut() {
-                                c.3 = true;
-                            }
-                        }
-                        "v" if !empty => in_v = true,
-                        "t" if !empty => in_is_t = true,
-                        _ => {}
-                    }
+        scan_cells(
+            r,
+            |pos, _, _| wanted.contains(&pos),
+            |row| row <= max_row,
+            |c| {
+                if wanted.contains(&c.pos) {
+                    let date = date_styles.get(c.style).copied().unwrap_or(false);
+                    out.insert(
+                        c.pos,
+                        classify(c.t, c.value, c.text, c.text_len, c.formula, date),
+                    );
                 }
-                Event::Text(_) | Event::GeneralRef(_) | Event::CData(_) => {
-                    if let Some((pos, _, _, _)) = &cell
-                        && wanted.contains(pos)
-                    {
-                        if in_v {
-                            let v = value.get_or_insert_with(String::new);
-                            let mut n = 0;
-                            push_text(&ev, v, &mut n);
-                        } else if in_is_t {
-                            push_text(&ev, &mut text, &mut text_len);
-                        }
-                    }
-                }
-                Event::End(e) => match local(e.name().as_ref()) {
-                    "v" => in_v = false,
-                    "t" => in_is_t = false,
-                    "c" => {
-                        if let Some((pos, t, s, formula)) = cell.take()
-                            && wanted.contains(&pos)
-                        {
-                            let date = date_styles.get(s).copied().unwrap_or(false);
-                            out.insert(
-                                pos,
-                                classify(&t, value.take(), &text, text_len, formula, date),
-                            );
-                            if out.len() == wanted.len() {
-                                break;
-                            }
-                        }
-                    }
-                    "sheetData" => break,
-                    _ => {}
-                },
-                Event::Eof => break,
-                _ => {}
-            }
-            buf.clear();
-        }
+                out.len() < wanted.len()
+            },
+        )?;
         Ok(out)
     })?;
     found.ok_or_else(|| book_err(format!("not a readable xlsx workbook (no part `{part}`)")))
+}
+
+/// One cell of a sheet as [`scan_cells`] read it.
+struct ScannedCell<'t> {
+    pos: (u32, u32),
+    /// The `t` attribute (cell type), "" when absent.
+    t: &'t str,
+    /// The `s` attribute (style index), 0 when absent.
+    style: usize,
+    /// Whether the cell holds a formula.
+    formula: bool,
+    /// The `<v>` text, when collected.
+    value: Option<String>,
+    /// Inline-string text (bounded) and its full length in characters.
+    text: &'t str,
+    text_len: usize,
+}
+
+/// Stream the cells of a sheet part in order. `collect(pos, t, formula)`
+/// says whether a cell's value and inline text are kept (so text of cells
+/// nobody asked for is never held); `row(r)` is called at each row and
+/// `cell(c)` at the end of each cell, empty cells included; either stops
+/// the scan by returning false. Stops at the end of `sheetData`.
+fn scan_cells<R: std::io::BufRead>(
+    r: &mut Reader<R>,
+    collect: impl Fn((u32, u32), &str, bool) -> bool,
+    mut row_start: impl FnMut(u32) -> bool,
+    mut cell_end: impl FnMut(ScannedCell) -> bool,
+) -> Result<(), quick_xml::Error> {
+    let mut buf = Vec::new();
+    let mut row: u32 = 0;
+    let mut next_col: u32 = 0;
+    // The cell being read: position, type, style, formula seen.
+    let mut cell: Option<((u32, u32), String, usize, bool)> = None;
+    let mut value: Option<String> = None;
+    let mut in_v = false;
+    let mut in_is_t = false;
+    let mut text = String::new();
+    let mut text_len = 0usize;
+    loop {
+        let ev = r.read_event_into(&mut buf)?;
+        match &ev {
+            Event::Start(e) | Event::Empty(e) => {
+                let empty = matches!(ev, Event::Empty(_));
+                match local(e.name().as_ref()) {
+                    "row" => {
+                        row = attr(e, "r")
+                            .and_then(|x| x.parse::<u32>().ok())
+                            .map_or(row + 1, |r| r.saturating_sub(1));
+                        next_col = 0;
+                        if !row_start(row) {
+                            break;
+                        }
+                    }
+                    "c" => {
+                        let pos = attr(e, "r")
+                            .and_then(|x| parse_a1(&x))
+                            .unwrap_or((row, next_col));
+                        row = pos.0;
+                        next_col = pos.1 + 1;
+                        let t = attr(e, "t").unwrap_or_default();
+                        let s = attr(e, "s").and_then(|x| x.parse().ok()).unwrap_or(0);
+                        value = None;
+                        text.clear();
+                        text_len = 0;
+                        if empty {
+                            let c = ScannedCell {
+                                pos,
+                                t: &t,
+                                style: s,
+                                formula: false,
+                                value: None,
+                                text: "",
+                                text_len: 0,
+                            };
+                            if !cell_end(c) {
+                                break;
+                            }
+                        } else {
+                            cell = Some((pos, t, s, false));
+                        }
+                    }
+                    "f" => {
+                        if let Some(c) = cell.as_mut() {
+                            c.3 = true;
+                        }
+                    }
+                    "v" if !empty => in_v = true,
+                    "t" if !empty => in_is_t = true,
+                    _ => {}
+                }
+            }
+            Event::Text(_) | Event::GeneralRef(_) | Event::CData(_) => {
+                if let Some((pos, t, _, formula)) = &cell
+                    && collect(*pos, t, *formula)
+                {
+                    if in_v {
+                        let v = value.get_or_insert_with(String::new);
+                        let mut n = 0;
+                        push_text(&ev, v, &mut n);
+                    } else if in_is_t {
+                        push_text(&ev, &mut text, &mut text_len);
+                    }
+                }
+            }
+            Event::End(e) => match local(e.name().as_ref()) {
+                "v" => in_v = false,
+                "t" => in_is_t = false,
+                "c" => {
+                    if let Some((pos, t, s, formula)) = cell.take() {
+                        let c = ScannedCell {
+                            pos,
+                            t: &t,
+                            style: s,
+                            formula,
+                            value: value.take(),
+                            text: &text,
+                            text_len,
+                        };
+                        if !cell_end(c) {
+                            break;
+                        }
+                    }
+                }
+                "sheetData" => break,
+                _ => {}
+            },
+            Event::Eof => break,
+            _ => {}
+        }
+        buf.clear();
+    }
+    Ok(())
 }
 
 fn classify(
@@ -1117,82 +1172,29 @@ pub fn plain_numbers_with(
         ..PlainNumbers::default()
     };
     let date_styles = wb.date_styles.clone();
+    let numeric = |t: &str| matches!(t, "" | "n");
     let scanned = pkg.with_part(&part, |r| {
-        let mut buf = Vec::new();
         let mut kept: Vec<((u32, u32), f64)> = Vec::new();
         let mut omitted = 0usize;
-        let mut row: u32 = 0;
-        let mut next_col: u32 = 0;
-        // The cell being read: position, type, style, formula seen.
-        let mut cell: Option<((u32, u32), String, usize, bool)> = None;
-        let mut value: Option<String> = None;
-        let mut in_v = false;
-        loop {
-            let ev = r.read_event_into(&mut buf)?;
-            match &ev {
-                Event::Start(e) | Event::Empty(e) => {
-                    let empty = matches!(ev, Event::Empty(_));
-                    match local(e.name().as_ref()) {
-                        "row" => {
-                            row = attr(e, "r")
-                                .and_then(|x| x.parse::<u32>().ok())
-                                .map_or(row + 1, |r| r.saturating_sub(1));
-                            next_col = 0;
-                        }
-                        "c" => {
-                            let pos = attr(e, "r")
-                                .and_then(|x| parse_a1(&x))
-                                .unwrap_or((row, next_col));
-                            row = pos.0;
-                            next_col = pos.1 + 1;
-                            value = None;
-                            cell = (!empty).then(|| {
-                                let t = attr(e, "t").unwrap_or_default();
-                                let s = attr(e, "s").and_then(|x| x.parse().ok()).unwrap_or(0);
-                                (pos, t, s, false)
-                            });
-                        }
-                        "f" => {
-                            if let Some(c) = cell.as_mut() {
-                                c.3 = true;
-                            }
-                        }
-                        "v" if !empty => in_v = true,
-                        _ => {}
+        scan_cells(
+            r,
+            |_, t, formula| !formula && numeric(t),
+            |_| true,
+            |c| {
+                if !c.formula
+                    && numeric(c.t)
+                    && !date_styles.get(c.style).copied().unwrap_or(false)
+                    && let Some(x) = c.value.and_then(|v| v.trim().parse::<f64>().ok())
+                {
+                    if kept.len() < PLAIN_KEPT {
+                        kept.push((c.pos, x));
+                    } else {
+                        omitted += 1;
                     }
                 }
-                Event::Text(_) | Event::GeneralRef(_) | Event::CData(_) if in_v => {
-                    if let Some((_, t, _, false)) = &cell
-                        && matches!(t.as_str(), "" | "n")
-                    {
-                        let v = value.get_or_insert_with(String::new);
-                        let mut n = 0;
-                        push_text(&ev, v, &mut n);
-                    }
-                }
-                Event::End(e) => match local(e.name().as_ref()) {
-                    "v" => in_v = false,
-                    "c" => {
-                        if let Some((pos, t, s, false)) = cell.take()
-                            && matches!(t.as_str(), "" | "n")
-                            && !date_styles.get(s).copied().unwrap_or(false)
-                            && let Some(x) = value.take().and_then(|v| v.trim().parse::<f64>().ok())
-                        {
-                            if kept.len() < PLAIN_KEPT {
-                                kept.push((pos, x));
-                            } else {
-                                omitted += 1;
-                            }
-                        }
-                    }
-                    "sheetData" => break,
-                    _ => {}
-                },
-                Event::Eof => break,
-                _ => {}
-            }
-            buf.clear();
-        }
+                true
+            },
+        )?;
         Ok((kept, omitted))
     })?;
     let Some((kept, omitted)) = scanned else {
