@@ -149,12 +149,7 @@ impl Hand<'_, '_> {
                 } else {
                     None
                 };
-                if self.peek()? != b'=' {
-                    return None;
-                }
-                self.pos += 1;
-                let value = self.expr()?.0;
-                let description = self.description()?;
+                let (value, description) = self.assigned()?;
                 StatementKind::Define {
                     name,
                     unit,
@@ -167,12 +162,7 @@ impl Hand<'_, '_> {
                 self.skip_ws();
                 let name = self.ident()?;
                 self.skip_ws();
-                if self.peek()? != b'=' {
-                    return None;
-                }
-                self.pos += 1;
-                let value = self.expr()?.0;
-                let description = self.description()?;
+                let (value, description) = self.assigned()?;
                 StatementKind::Input {
                     name,
                     value,
@@ -224,6 +214,16 @@ impl Hand<'_, '_> {
     }
 
     /// An optional description string after the expression.
+    /// `= EXPR ["description"]` of a definition or an input.
+    fn assigned(&mut self) -> Option<(Expr, Option<StringLit>)> {
+        if self.peek()? != b'=' {
+            return None;
+        }
+        self.pos += 1;
+        let value = self.expr()?.0;
+        Some((value, self.description()?))
+    }
+
     fn description(&mut self) -> Option<Option<StringLit>> {
         self.skip_ws();
         if self.peek() == Some(b'"') {
